@@ -87,6 +87,10 @@ type Metadata struct {
 type Record struct {
 	Meta    Metadata
 	Signals []Signal
+	// Beats are optional beat annotations (ground truth for synthetic
+	// records, reference annotations read from a file, or detected beats),
+	// in time order.
+	Beats []Beat
 }
 
 // Signal returns a pointer to the record's signal for lead l, or nil.
@@ -138,6 +142,7 @@ func (r *Record) Span() (start, end float64) {
 func (r *Record) Clone() Record {
 	c := Record{Meta: r.Meta}
 	c.Meta.Notes = append([]string(nil), r.Meta.Notes...)
+	c.Beats = append([]Beat(nil), r.Beats...)
 	for i := range r.Signals {
 		c.Signals = append(c.Signals, r.Signals[i].Clone())
 	}

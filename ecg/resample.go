@@ -87,7 +87,7 @@ func resample(s Signal, rate, start float64) Signal {
 // ResampleRecord resamples every signal of r to rate with ResampleOnGrid,
 // so that all leads share one sample grid.
 func ResampleRecord(r Record, rate float64) Record {
-	out := Record{Meta: r.Meta}
+	out := Record{Meta: r.Meta, Beats: append([]Beat(nil), r.Beats...)}
 	for _, s := range r.Signals {
 		out.Signals = append(out.Signals, ResampleOnGrid(s, rate))
 	}
