@@ -41,3 +41,11 @@ func (c Calibration) Seconds(dxPx float64) float64 {
 func (c Calibration) Millivolts(dyPx float64) float64 {
 	return -dyPx / c.PxPerMMY.V / c.GainMMPerMV.V
 }
+
+// Pulse is a 1 mV calibration pulse found on an upright page, in pixels.
+type Pulse struct {
+	X0, X1   float64 // left and right edges of the pulse's top, px
+	BaseY    float64 // y of the pulse's foot: the row's 0 mV level, px
+	TopY     float64 // y of the pulse's top, px
+	HeightMM float64 // (BaseY − TopY) / px per mm along y
+}
