@@ -1,0 +1,312 @@
+package catalog
+
+import (
+	"context"
+	"database/sql"
+	"encoding/csv"
+	"errors"
+	"fmt"
+	"io"
+	"math"
+	"net/url"
+	"strconv"
+	"strings"
+	"time"
+
+	_ "modernc.org/sqlite" // registers the "sqlite" database/sql driver
+
+	"tracelift/ecg"
+)
+
+// Status is an input's state in the catalogue.
+type Status string
+
+// Statuses of a catalogued input.
+const (
+	StatusDone    Status = "done"    // every page digitised
+	StatusPartial Status = "partial" // outputs written, but some leads or pages failed
+	StatusFailed  Status = "failed"  // nothing usable; Error says why
+)
+
+// Finished reports whether an input with status s needs no further work
+// while its content is unchanged. Failed inputs are retried on a rerun.
+func (s Status) Finished() bool { return s == StatusDone || s == StatusPartial }
+
+// Entry is one catalogued input. Measurements are NaN when unknown (stored
+// as SQL NULL).
+type Entry struct {
+	Path     string   // input path relative to the input folder, slash-separated
+	SHA256   string   // hex SHA-256 of the input's bytes
+	Size     int64    // bytes
+	Status   Status   //
+	Class    string   // error class: "", "unreadable", "no-ecg", "partial", "output", "internal"
+	Error    string   // one-line reason when Status is not done
+	Outputs  []string // outputs written, relative to the output folder, slash-separated
+	Pages    int      // pages digitised
+	Leads    []string // lead names found on the first page
+	Quality  float64  // mean per-lead trace quality of the first page, 0…1
+	HeartBPM float64  // heart rate, beats per minute
+	PRMS     float64  // PR interval, ms
+	QRSMS    float64  // QRS duration, ms
+	QTMS     float64  // QT interval, ms
+	QTcMS    float64  // QTc by Bazett's formula, ms
+	Seconds  float64  // processing time, s
+	Finished time.Time
+}
+
+// Columns are the catalogue's CSV columns, in order.
+var Columns = []string{
+	"path", "sha256", "size_bytes", "status", "error_class", "error", "outputs",
+	"pages", "leads_found", "leads", "quality", "heart_rate_bpm", "pr_ms",
+	"qrs_ms", "qt_ms", "qtc_bazett_ms", "seconds", "finished_utc",
+}
+
+const schema = `
+CREATE TABLE IF NOT EXISTS inputs (
+	path           TEXT PRIMARY KEY,
+	sha256         TEXT NOT NULL,
+	size_bytes     INTEGER NOT NULL,
+	status         TEXT NOT NULL,
+	error_class    TEXT NOT NULL DEFAULT '',
+	error          TEXT NOT NULL DEFAULT '',
+	outputs        TEXT NOT NULL DEFAULT '',
+	pages          INTEGER NOT NULL DEFAULT 0,
+	leads_found    INTEGER NOT NULL DEFAULT 0,
+	leads          TEXT NOT NULL DEFAULT '',
+	quality        REAL,
+	heart_rate_bpm REAL,
+	pr_ms          REAL,
+	qrs_ms         REAL,
+	qt_ms          REAL,
+	qtc_bazett_ms  REAL,
+	seconds        REAL,
+	finished_utc   TEXT NOT NULL
+);
+CREATE INDEX IF NOT EXISTS inputs_status ON inputs(status);
+`
+
+// DB is an open catalogue. It is safe for concurrent use; writes are
+// serialised.
+type DB struct {
+	db   *sql.DB
+	path string
+}
+
+// Open opens or creates the catalogue at path (write-ahead-log mode, a
+// busy timeout so that readers and the single writer do not fail each
+// other). Errors wrap ecg.ErrOutput: the catalogue belongs to the output.
+func Open(path string) (*DB, error) {
+	q := url.Values{}
+	q.Add("_pragma", "journal_mode(WAL)")
+	q.Add("_pragma", "busy_timeout(10000)")
+	q.Add("_pragma", "synchronous(NORMAL)")
+	db, err := sql.Open("sqlite", "file:"+path+"?"+q.Encode())
+	if err != nil {
+		return nil, fmt.Errorf("catalog: open %s: %w: %v", path, ecg.ErrOutput, err)
+	}
+	// One connection: SQLite has one writer anyway, and a single
+	// connection keeps WAL checkpoints simple.
+	db.SetMaxOpenConns(1)
+	if _, err := db.Exec(schema); err != nil {
+		db.Close()
+		return nil, fmt.Errorf("catalog: open %s: %w: %v", path, ecg.ErrOutput, err)
+	}
+	return &DB{db: db, path: path}, nil
+}
+
+// Path returns the file the catalogue lives in.
+func (d *DB) Path() string { return d.path }
+
+// Close checkpoints the write-ahead log and closes the database.
+func (d *DB) Close() error {
+	_, _ = d.db.Exec("PRAGMA wal_checkpoint(TRUNCATE)")
+	return d.db.Close()
+}
+
+const selectCols = `path, sha256, size_bytes, status, error_class, error, outputs, pages,
+	leads, quality, heart_rate_bpm, pr_ms, qrs_ms, qt_ms, qtc_bazett_ms, seconds, finished_utc`
+
+// Get returns the entry for the relative path p; ok is false if there is
+// none.
+func (d *DB) Get(ctx context.Context, p string) (e Entry, ok bool, err error) {
+	row := d.db.QueryRowContext(ctx, "SELECT "+selectCols+" FROM inputs WHERE path = ?", p)
+	e, err = scanEntry(row)
+	if errors.Is(err, sql.ErrNoRows) {
+		return Entry{}, false, nil
+	}
+	if err != nil {
+		return Entry{}, false, fmt.Errorf("catalog: get %s: %w", p, err)
+	}
+	return e, true, nil
+}
+
+// Put records e, replacing any earlier entry for the same path, in one
+// transaction. Errors wrap ecg.ErrOutput.
+func (d *DB) Put(ctx context.Context, e Entry) error {
+	if e.Finished.IsZero() {
+		e.Finished = time.Now()
+	}
+	tx, err := d.db.BeginTx(ctx, nil)
+	if err != nil {
+		return fmt.Errorf("catalog: put %s: %w: %v", e.Path, ecg.ErrOutput, err)
+	}
+	_, err = tx.ExecContext(ctx, `INSERT OR REPLACE INTO inputs (`+selectCols+`, leads_found)
+		VALUES (?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?)`,
+		e.Path, e.SHA256, e.Size, string(e.Status), e.Class, e.Error,
+		strings.Join(e.Outputs, ";"), e.Pages, strings.Join(e.Leads, " "),
+		null(e.Quality), null(e.HeartBPM), null(e.PRMS), null(e.QRSMS), null(e.QTMS),
+		null(e.QTcMS), null(e.Seconds), e.Finished.UTC().Format(time.RFC3339), len(e.Leads))
+	if err != nil {
+		tx.Rollback()
+		return fmt.Errorf("catalog: put %s: %w: %v", e.Path, ecg.ErrOutput, err)
+	}
+	if err := tx.Commit(); err != nil {
+		return fmt.Errorf("catalog: put %s: %w: %v", e.Path, ecg.ErrOutput, err)
+	}
+	return nil
+}
+
+// All returns every entry ordered by path.
+func (d *DB) All(ctx context.Context) ([]Entry, error) {
+	rows, err := d.db.QueryContext(ctx, "SELECT "+selectCols+" FROM inputs ORDER BY path")
+	if err != nil {
+		return nil, fmt.Errorf("catalog: list: %w", err)
+	}
+	defer rows.Close()
+	var out []Entry
+	for rows.Next() {
+		e, err := scanEntry(rows)
+		if err != nil {
+			return nil, fmt.Errorf("catalog: list: %w", err)
+		}
+		out = append(out, e)
+	}
+	if err := rows.Err(); err != nil {
+		return nil, fmt.Errorf("catalog: list: %w", err)
+	}
+	return out, nil
+}
+
+// Counts returns the number of entries per status.
+func (d *DB) Counts(ctx context.Context) (map[Status]int, error) {
+	rows, err := d.db.QueryContext(ctx, "SELECT status, COUNT(*) FROM inputs GROUP BY status")
+	if err != nil {
+		return nil, fmt.Errorf("catalog: count: %w", err)
+	}
+	defer rows.Close()
+	out := make(map[Status]int)
+	for rows.Next() {
+		var s string
+		var n int
+		if err := rows.Scan(&s, &n); err != nil {
+			return nil, fmt.Errorf("catalog: count: %w", err)
+		}
+		out[Status(s)] = n
+	}
+	return out, rows.Err()
+}
+
+// Merge copies every entry of the catalogue file src into d in one
+// transaction. Where both hold the same path, the entry finished later
+// wins. It returns the number of entries copied or replaced.
+func (d *DB) Merge(ctx context.Context, src string) (int, error) {
+	s, err := Open(src)
+	if err != nil {
+		return 0, fmt.Errorf("catalog: merge %s: %w", src, err)
+	}
+	entries, err := s.All(ctx)
+	s.Close()
+	if err != nil {
+		return 0, fmt.Errorf("catalog: merge %s: %w", src, err)
+	}
+	n := 0
+	for _, e := range entries {
+		old, ok, err := d.Get(ctx, e.Path)
+		if err != nil {
+			return n, fmt.Errorf("catalog: merge %s: %w", src, err)
+		}
+		if ok && old.Finished.After(e.Finished) {
+			continue
+		}
+		if err := d.Put(ctx, e); err != nil {
+			return n, fmt.Errorf("catalog: merge %s: %w", src, err)
+		}
+		n++
+	}
+	return n, nil
+}
+
+// WriteCSV writes every entry as CSV with the header Columns; unknown
+// numbers are empty cells.
+func (d *DB) WriteCSV(ctx context.Context, w io.Writer) error {
+	entries, err := d.All(ctx)
+	if err != nil {
+		return err
+	}
+	cw := csv.NewWriter(w)
+	if err := cw.Write(Columns); err != nil {
+		return fmt.Errorf("catalog: csv: %w", err)
+	}
+	for _, e := range entries {
+		rec := []string{
+			e.Path, e.SHA256, strconv.FormatInt(e.Size, 10), string(e.Status), e.Class, e.Error,
+			strings.Join(e.Outputs, ";"), strconv.Itoa(e.Pages), strconv.Itoa(len(e.Leads)),
+			strings.Join(e.Leads, " "), num(e.Quality, 3), num(e.HeartBPM, 1), num(e.PRMS, 0),
+			num(e.QRSMS, 0), num(e.QTMS, 0), num(e.QTcMS, 0), num(e.Seconds, 3),
+			e.Finished.UTC().Format(time.RFC3339),
+		}
+		if err := cw.Write(rec); err != nil {
+			return fmt.Errorf("catalog: csv: %w", err)
+		}
+	}
+	cw.Flush()
+	if err := cw.Error(); err != nil {
+		return fmt.Errorf("catalog: csv: %w", err)
+	}
+	return nil
+}
+
+type scanner interface{ Scan(dest ...any) error }
+
+func scanEntry(r scanner) (Entry, error) {
+	var e Entry
+	var status, outputs, leads, fin string
+	var q, hr, pr, qrs, qt, qtc, secs sql.NullFloat64
+	err := r.Scan(&e.Path, &e.SHA256, &e.Size, &status, &e.Class, &e.Error, &outputs, &e.Pages,
+		&leads, &q, &hr, &pr, &qrs, &qt, &qtc, &secs, &fin)
+	if err != nil {
+		return e, err
+	}
+	e.Status = Status(status)
+	if outputs != "" {
+		e.Outputs = strings.Split(outputs, ";")
+	}
+	if leads != "" {
+		e.Leads = strings.Fields(leads)
+	}
+	e.Quality, e.HeartBPM, e.PRMS = val(q), val(hr), val(pr)
+	e.QRSMS, e.QTMS, e.QTcMS, e.Seconds = val(qrs), val(qt), val(qtc), val(secs)
+	e.Finished, _ = time.Parse(time.RFC3339, fin)
+	return e, nil
+}
+
+func null(v float64) any {
+	if math.IsNaN(v) || math.IsInf(v, 0) {
+		return nil
+	}
+	return v
+}
+
+func val(v sql.NullFloat64) float64 {
+	if !v.Valid {
+		return math.NaN()
+	}
+	return v.Float64
+}
+
+func num(v float64, prec int) string {
+	if math.IsNaN(v) || math.IsInf(v, 0) {
+		return ""
+	}
+	return strconv.FormatFloat(v, 'f', prec, 64)
+}

@@ -1,0 +1,257 @@
+package catalog
+
+import (
+	"bytes"
+	"context"
+	"encoding/csv"
+	"errors"
+	"fmt"
+	"math"
+	"os"
+	"path/filepath"
+	"testing"
+	"time"
+
+	"github.com/stretchr/testify/assert"
+	"github.com/stretchr/testify/require"
+
+	"tracelift/ecg"
+)
+
+func TestPutGetRoundTrip(t *testing.T) {
+	ctx := context.Background()
+	db, err := Open(filepath.Join(t.TempDir(), "c.sqlite"))
+	require.NoError(t, err)
+	defer db.Close()
+
+	e := NewEntry("clinic/a.png")
+	e.SHA256, e.Size, e.Status = "abc", 42, StatusDone
+	e.Outputs = []string{"clinic/a.csv", "clinic/a.json"}
+	e.Pages, e.Leads = 1, []string{"I", "II", "V1"}
+	e.HeartBPM, e.QRSMS, e.Quality = 72.5, 96, 0.9
+	e.Finished = time.Date(2026, 1, 2, 3, 4, 5, 0, time.UTC)
+	require.NoError(t, db.Put(ctx, e))
+
+	got, ok, err := db.Get(ctx, "clinic/a.png")
+	require.NoError(t, err)
+	require.True(t, ok)
+	assert.Equal(t, e.Outputs, got.Outputs)
+	assert.Equal(t, e.Leads, got.Leads)
+	assert.Equal(t, 72.5, got.HeartBPM)
+	assert.True(t, math.IsNaN(got.PRMS), "unknown PR stays unknown (NULL), not 0")
+	assert.True(t, got.Finished.Equal(e.Finished))
+
+	_, ok, err = db.Get(ctx, "missing.png")
+	require.NoError(t, err)
+	assert.False(t, ok)
+
+	// Replacing keeps one row per path.
+	e.Status, e.Error, e.Class = StatusFailed, "x: unreadable input", "unreadable"
+	require.NoError(t, db.Put(ctx, e))
+	all, err := db.All(ctx)
+	require.NoError(t, err)
+	require.Len(t, all, 1)
+	assert.Equal(t, StatusFailed, all[0].Status)
+	counts, err := db.Counts(ctx)
+	require.NoError(t, err)
+	assert.Equal(t, map[Status]int{StatusFailed: 1}, counts)
+}
+
+func TestPersistsAcrossReopen(t *testing.T) {
+	ctx := context.Background()
+	p := filepath.Join(t.TempDir(), "c.sqlite")
+	db, err := Open(p)
+	require.NoError(t, err)
+	for i := range 5 {
+		e := NewEntry(fmt.Sprintf("f%d.png", i))
+		e.Status = StatusDone
+		require.NoError(t, db.Put(ctx, e))
+	}
+	require.NoError(t, db.Close())
+	db, err = Open(p)
+	require.NoError(t, err)
+	defer db.Close()
+	all, err := db.All(ctx)
+	require.NoError(t, err)
+	assert.Len(t, all, 5)
+}
+
+func TestOpenUnwritable(t *testing.T) {
+	_, err := Open(filepath.Join(t.TempDir(), "no", "such", "dir", "c.sqlite"))
+	require.Error(t, err)
+	assert.ErrorIs(t, err, ecg.ErrOutput)
+}
+
+func TestMergeLaterWins(t *testing.T) {
+	ctx := context.Background()
+	dir := t.TempDir()
+	t0 := time.Date(2026, 1, 1, 0, 0, 0, 0, time.UTC)
+	mk := func(name string, entries ...Entry) string {
+		p := filepath.Join(dir, name)
+		db, err := Open(p)
+		require.NoError(t, err)
+		for _, e := range entries {
+			require.NoError(t, db.Put(ctx, e))
+		}
+		require.NoError(t, db.Close())
+		return p
+	}
+	e := func(p string, s Status, at time.Duration) Entry {
+		x := NewEntry(p)
+		x.Status, x.Finished = s, t0.Add(at)
+		return x
+	}
+	a := mk("a.sqlite", e("one.png", StatusDone, 0), e("both.png", StatusFailed, time.Hour))
+	b := mk("b.sqlite", e("two.png", StatusDone, 0), e("both.png", StatusDone, 2*time.Hour))
+	m, err := Open(filepath.Join(dir, "m.sqlite"))
+	require.NoError(t, err)
+	defer m.Close()
+	n, err := m.Merge(ctx, a)
+	require.NoError(t, err)
+	assert.Equal(t, 2, n)
+	n, err = m.Merge(ctx, b)
+	require.NoError(t, err)
+	assert.Equal(t, 2, n)
+	// Merging a again must not undo b's later result for both.png.
+	_, err = m.Merge(ctx, a)
+	require.NoError(t, err)
+	got, ok, err := m.Get(ctx, "both.png")
+	require.NoError(t, err)
+	require.True(t, ok)
+	assert.Equal(t, StatusDone, got.Status)
+	all, err := m.All(ctx)
+	require.NoError(t, err)
+	assert.Len(t, all, 3)
+}
+
+func TestWriteCSV(t *testing.T) {
+	ctx := context.Background()
+	db, err := Open(filepath.Join(t.TempDir(), "c.sqlite"))
+	require.NoError(t, err)
+	defer db.Close()
+	e := NewEntry("b,odd.png")
+	e.Status, e.HeartBPM, e.Leads = StatusPartial, 60, []string{"II"}
+	e.Error = "b,odd.png: partial result: 11 leads unreadable"
+	require.NoError(t, db.Put(ctx, e))
+	var buf bytes.Buffer
+	require.NoError(t, db.WriteCSV(ctx, &buf))
+	rows, err := csv.NewReader(&buf).ReadAll()
+	require.NoError(t, err)
+	require.Len(t, rows, 2)
+	assert.Equal(t, Columns, rows[0])
+	col := func(name string) string {
+		for i, c := range Columns {
+			if c == name {
+				return rows[1][i]
+			}
+		}
+		t.Fatalf("no column %s", name)
+		return ""
+	}
+	assert.Equal(t, "b,odd.png", col("path"))
+	assert.Equal(t, "60.0", col("heart_rate_bpm"))
+	assert.Equal(t, "", col("pr_ms"), "unknown values are empty cells")
+	assert.Equal(t, "1", col("leads_found"))
+	assert.Equal(t, "partial", col("status"))
+}
+
+func TestShard(t *testing.T) {
+	for _, tc := range []struct {
+		in   string
+		want Shard
+		bad  bool
+	}{
+		{"1/1", Shard{1, 1}, false},
+		{"3/8", Shard{3, 8}, false},
+		{"0/8", Shard{}, true},
+		{"9/8", Shard{}, true},
+		{"8", Shard{}, true},
+		{"a/b", Shard{}, true},
+	} {
+		got, err := ParseShard(tc.in)
+		if tc.bad {
+			assert.Error(t, err, tc.in)
+			continue
+		}
+		require.NoError(t, err, tc.in)
+		assert.Equal(t, tc.want, got)
+	}
+
+	// Every input lands in exactly one of N shards, and shards are
+	// roughly balanced.
+	const n, files = 4, 2000
+	count := make([]int, n)
+	for i := range files {
+		rel := fmt.Sprintf("box%02d/scan-%05d.png", i%37, i)
+		hits := 0
+		for k := 1; k <= n; k++ {
+			if (Shard{k, n}).Has(rel) {
+				hits++
+				count[k-1]++
+			}
+		}
+		require.Equal(t, 1, hits, rel)
+	}
+	for k, c := range count {
+		assert.InDelta(t, files/n, c, files/n*0.2, "shard %d of %d holds %d inputs", k+1, n, c)
+	}
+	assert.True(t, Shard{}.Has("anything"))
+}
+
+func TestScan(t *testing.T) {
+	root := t.TempDir()
+	write := func(rel string) {
+		p := filepath.Join(root, filepath.FromSlash(rel))
+		require.NoError(t, os.MkdirAll(filepath.Dir(p), 0o755))
+		require.NoError(t, os.WriteFile(p, []byte(rel), 0o644))
+	}
+	for _, f := range []string{"b.PNG", "a/x.jpg", "a/deep/y.pdf", "notes.txt", ".hidden.png", ".git/z.png", "out/done.png"} {
+		write(f)
+	}
+	in, err := Scan(root, filepath.Join(root, "out"))
+	require.NoError(t, err)
+	var rels []string
+	for _, x := range in {
+		rels = append(rels, x.Rel)
+	}
+	assert.Equal(t, []string{"a/deep/y.pdf", "a/x.jpg", "b.PNG"}, rels)
+
+	_, err = Scan(filepath.Join(root, "nope"))
+	assert.ErrorIs(t, err, ecg.ErrUnreadable)
+}
+
+func TestHashFile(t *testing.T) {
+	p := filepath.Join(t.TempDir(), "abc")
+	require.NoError(t, os.WriteFile(p, []byte("abc"), 0o644))
+	h, err := HashFile(p)
+	require.NoError(t, err)
+	// FIPS 180-2, Appendix B.1: SHA-256("abc").
+	assert.Equal(t, "ba7816bf8f01cfea414140de5dae2223b00361a396177a9cb410ff61f20015ad", h)
+	_, err = HashFile(p + "-missing")
+	assert.ErrorIs(t, err, ecg.ErrUnreadable)
+}
+
+func TestWriteFileAtomic(t *testing.T) {
+	dir := t.TempDir()
+	p := filepath.Join(dir, "out.csv")
+	require.NoError(t, os.WriteFile(p, []byte("old"), 0o644))
+	err := WriteFileAtomic(p, func(f *os.File) error {
+		f.WriteString("half")
+		return errors.New("disk on fire")
+	})
+	require.ErrorIs(t, err, ecg.ErrOutput)
+	b, _ := os.ReadFile(p)
+	assert.Equal(t, "old", string(b), "a failed write leaves the old file untouched")
+	ents, _ := os.ReadDir(dir)
+	assert.Len(t, ents, 1, "no temporary file left behind")
+
+	require.NoError(t, WriteFileAtomic(p, func(f *os.File) error {
+		_, err := f.WriteString("new")
+		return err
+	}))
+	b, _ = os.ReadFile(p)
+	assert.Equal(t, "new", string(b))
+
+	err = WriteFileAtomic(filepath.Join(dir, "missing", "x"), func(*os.File) error { return nil })
+	assert.ErrorIs(t, err, ecg.ErrOutput)
+}

@@ -1,0 +1,18 @@
+// Package catalog keeps the record of an archive run: one row per input
+// file with its content hash (SHA-256), status, error, the outputs written
+// and the key measurements of its first page. The catalogue is an embedded
+// SQLite database (modernc.org/sqlite, pure Go) in write-ahead-log mode;
+// every finished input is committed in its own transaction, so a run that
+// is killed at any moment keeps everything already finished and a rerun
+// skips inputs whose hash has not changed.
+//
+// The package also lists the inputs of a folder tree (Scan), splits them
+// deterministically into shards (Shard) so that independent machines can
+// share an archive, merges catalogues of several shards (Merge) and exports
+// a catalogue as CSV (WriteCSV).
+//
+// SQLite's write-ahead log and its crash guarantees are described at
+// https://www.sqlite.org/wal.html; the shard function is 64-bit FNV-1a
+// (Fowler, Noll, Vo; IETF draft-eastlake-fnv) of the slash-separated
+// relative path.
+package catalog
