@@ -30,7 +30,18 @@ const (
 	ExitNoECG      = 4 // an input was read but no ECG was found on it
 	ExitPartial    = 5 // results written, but some leads or files failed
 	ExitOutput     = 6 // an output file or folder could not be written
+	// ExitInterrupted: stopped by Ctrl-C (SIGINT); finished work is kept
+	// (128 + SIGINT, common practice for shells).
+	ExitInterrupted = 130
 )
+
+// errInterrupted marks a run stopped by the user.
+var errInterrupted = errors.New("interrupted")
+
+// caution is printed with every output that carries measurements.
+const caution = "Caution: measurements of a digitised tracing can be wrong and are never a diagnosis; " +
+	"verify them against the original tracing. Clinical decisions rest with qualified clinicians " +
+	"under local rules and licensed practice."
 
 // IOStreams are the command's standard streams; tests pass buffers.
 type IOStreams struct {
@@ -87,6 +98,8 @@ func ExitCode(err error) int {
 		return ExitOK
 	case errors.As(err, &fe), isCobraUsage(err):
 		return ExitUsage
+	case errors.Is(err, errInterrupted), errors.Is(err, context.Canceled):
+		return ExitInterrupted
 	case errors.Is(err, ecg.ErrOutput):
 		return ExitOutput
 	case errors.Is(err, ecg.ErrPartial):
@@ -135,6 +148,9 @@ qualified clinicians under local rules and licensed practice.`,
 	root.SetErr(ios.ErrOut)
 	root.SetFlagErrorFunc(func(_ *cobra.Command, err error) error { return &FlagError{Err: err} })
 	// One line per subcommand; each lives in its own file.
-	root.AddCommand()
+	root.AddCommand(
+		newDigitizeCmd(ios, nil),
+		newBatchCmd(ios, nil),
+	)
 	return root
 }

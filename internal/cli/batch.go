@@ -1,0 +1,515 @@
+package cli
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"io"
+	"math"
+	"os"
+	"path"
+	"path/filepath"
+	"runtime"
+	"strings"
+	"sync"
+	"time"
+
+	"github.com/spf13/cobra"
+
+	"tracelift/catalog"
+	"tracelift/ecg"
+)
+
+// batchOptions are the options of `tracelift batch`.
+type batchOptions struct {
+	InputDir    string
+	OutDir      string
+	Workers     int
+	Shard       catalog.Shard
+	CatalogPath string // default OutDir/catalog.sqlite
+	Force       bool   // redo inputs even when catalogued as finished
+	Quiet       bool
+	Pipe        pipelineFlags
+
+	// process digitises one input; nil means the real pipeline. Tests
+	// inject fakes.
+	process fileProcessor
+}
+
+// fileResult is what digitising one input file produced.
+type fileResult struct {
+	Pages   int
+	Outputs []string // files written (absolute or as given)
+	First   pageSummary
+}
+
+// pageSummary holds a page's key numbers for the catalogue; NaN = unknown.
+type pageSummary struct {
+	Leads                 []string
+	Quality               float64
+	HR, PR, QRS, QT, QTcB float64
+}
+
+func unknownSummary() pageSummary {
+	n := math.NaN()
+	return pageSummary{Quality: n, HR: n, PR: n, QRS: n, QT: n, QTcB: n}
+}
+
+// fileProcessor digitises the file inPath and writes its outputs next to
+// outBase (outBase + ".csv", outBase + "-p2.csv", …). An error wrapping
+// ecg.ErrPartial comes with a usable result; any other error means nothing
+// usable was written.
+type fileProcessor func(ctx context.Context, inPath, outBase string) (fileResult, error)
+
+func newBatchCmd(ios *IOStreams, runF func(*batchOptions) error) *cobra.Command {
+	opts := &batchOptions{}
+	var shard string
+	cmd := &cobra.Command{
+		Use:   "batch INPUT_DIR -o DIR",
+		Short: "Digitise a whole archive of ECG images, resumably, into a catalogue",
+		Long: `batch digitises every image under INPUT_DIR (recursing into subfolders) with
+the same pipeline as digitize, in parallel, mirroring the relative paths in
+DIR. It keeps a catalogue, DIR/catalog.sqlite (SQLite), with one row per
+input: its SHA-256, status, error, outputs and key measurements (HR, PR,
+QRS, QT, QTc Bazett, leads found, quality). Every finished input is
+committed at once, so the run can be stopped at any moment and rerun: inputs
+already finished with unchanged content are skipped; failed ones are tried
+again. At the end the catalogue is also written as DIR/catalog.csv.
+
+--shard K/N processes a fixed share of the inputs (FNV-1a of the relative
+path mod N), so N machines can split one archive; combine their catalogues
+with 'tracelift batch merge'.
+
+Measurements of a digitised tracing can be wrong and are never a diagnosis:
+verify them against the original tracing; clinical decisions rest with
+qualified clinicians under local rules and licensed practice.`,
+		Example: `  tracelift batch scans/ -o digitised/ -j 4
+  tracelift batch scans/ -o part3/ --shard 3/8        # on machine 3 of 8
+  tracelift batch merge -o all.sqlite part*/catalog.sqlite
+  tracelift batch export all.sqlite -o all.csv`,
+		Args: cobra.ExactArgs(1),
+		RunE: func(cmd *cobra.Command, args []string) error {
+			opts.InputDir = args[0]
+			if opts.OutDir == "" {
+				return flagErrorf("batch: the output folder is required (-o DIR)")
+			}
+			if opts.Workers < 1 {
+				return flagErrorf("batch: -j must be at least 1, got %d", opts.Workers)
+			}
+			if shard != "" {
+				s, err := catalog.ParseShard(shard)
+				if err != nil {
+					return flagErrorf("batch: --%v", err)
+				}
+				opts.Shard = s
+			}
+			if err := opts.Pipe.check("batch"); err != nil {
+				return err
+			}
+			if runF != nil {
+				return runF(opts)
+			}
+			return runBatch(cmd.Context(), ios, opts)
+		},
+	}
+	f := cmd.Flags()
+	f.StringVarP(&opts.OutDir, "out", "o", "", "output folder (created if missing)")
+	f.IntVarP(&opts.Workers, "jobs", "j", runtime.NumCPU(), "files digitised in parallel")
+	f.StringVar(&shard, "shard", "", "process only share K of N of the inputs, e.g. 2/8")
+	f.StringVar(&opts.CatalogPath, "catalog", "", "catalogue file (default DIR/catalog.sqlite)")
+	f.BoolVar(&opts.Force, "force", false, "redo inputs already finished")
+	f.BoolVarP(&opts.Quiet, "quiet", "q", false, "print only the final summary")
+	opts.Pipe.register(cmd)
+	cmd.AddCommand(newBatchMergeCmd(ios), newBatchExportCmd(ios))
+	return cmd
+}
+
+// batchStats counts a run's inputs.
+type batchStats struct {
+	Total, Done, Partial, Failed, Skipped, Pages int
+	Elapsed                                      time.Duration
+}
+
+func runBatch(ctx context.Context, ios *IOStreams, opts *batchOptions) error {
+	if ctx == nil {
+		ctx = context.Background()
+	}
+	inputs, err := catalog.Scan(opts.InputDir, opts.OutDir)
+	if err != nil {
+		return fmt.Errorf("batch: %w", err)
+	}
+	bases := outputBases(inputs)
+	inputs = opts.Shard.Filter(inputs)
+	if err := os.MkdirAll(opts.OutDir, 0o755); err != nil {
+		return fmt.Errorf("batch: %s: %w: %v", opts.OutDir, ecg.ErrOutput, err)
+	}
+	catPath := opts.CatalogPath
+	if catPath == "" {
+		catPath = filepath.Join(opts.OutDir, "catalog.sqlite")
+	}
+	db, err := catalog.Open(catPath)
+	if err != nil {
+		return fmt.Errorf("batch: %w", err)
+	}
+	defer db.Close()
+	process := opts.process
+	if process == nil {
+		process = opts.Pipe.processor(ios)
+	}
+
+	prog := newProgress(ios.ErrOut, ios.IsTerminal && !opts.Quiet, len(inputs))
+	if !opts.Quiet && !ios.IsTerminal {
+		fmt.Fprintf(ios.ErrOut, "batch: %d inputs in %s (shard %s), %d workers\n",
+			len(inputs), opts.InputDir, opts.Shard, opts.Workers)
+	}
+	jobs := make(chan catalog.Input)
+	var (
+		mu       sync.Mutex
+		st       = batchStats{Total: len(inputs)}
+		fatalErr error
+	)
+	start := time.Now()
+	var wg sync.WaitGroup
+	for range min(opts.Workers, max(1, len(inputs))) {
+		wg.Go(func() {
+			for in := range jobs {
+				e, skipped, err := batchOne(ctx, db, in, opts, bases[in.Rel], process)
+				mu.Lock()
+				switch {
+				case err != nil:
+					if fatalErr == nil {
+						fatalErr = err
+					}
+				case skipped:
+					st.Skipped++
+				default:
+					st.Pages += e.Pages
+					switch e.Status {
+					case catalog.StatusDone:
+						st.Done++
+					case catalog.StatusPartial:
+						st.Partial++
+					default:
+						st.Failed++
+					}
+				}
+				if err == nil && !opts.Quiet && !ios.IsTerminal && !skipped {
+					fmt.Fprintln(ios.ErrOut, logLine(e))
+				}
+				prog.update(st, time.Since(start))
+				mu.Unlock()
+			}
+		})
+	}
+feed:
+	for _, in := range inputs {
+		select {
+		case <-ctx.Done():
+			break feed
+		case jobs <- in:
+		}
+		mu.Lock()
+		stop := fatalErr != nil
+		mu.Unlock()
+		if stop {
+			break
+		}
+	}
+	close(jobs)
+	wg.Wait()
+	st.Elapsed = time.Since(start)
+	prog.finish()
+
+	// The CSV copy of the whole catalogue, also after an interruption.
+	csvPath := filepath.Join(filepath.Dir(catPath), strings.TrimSuffix(filepath.Base(catPath), filepath.Ext(catPath))+".csv")
+	csvErr := catalog.WriteFileAtomic(csvPath, func(f *os.File) error { return db.WriteCSV(context.Background(), f) })
+
+	printBatchSummary(ios.Out, st, catPath, csvPath)
+	switch {
+	case fatalErr != nil:
+		return fmt.Errorf("batch: %w", fatalErr)
+	case ctx.Err() != nil:
+		return fmt.Errorf("batch: %w after %d of %d inputs; finished work is in %s, rerun the same command to resume",
+			errInterrupted, st.Done+st.Partial+st.Failed+st.Skipped, st.Total, catPath)
+	case csvErr != nil:
+		return fmt.Errorf("batch: %w", csvErr)
+	case st.Failed > 0 || st.Partial > 0:
+		return fmt.Errorf("batch: %w: %d of %d inputs failed and %d were partial; reasons are in %s",
+			ecg.ErrPartial, st.Failed, st.Total, st.Partial, csvPath)
+	}
+	return nil
+}
+
+// batchOne hashes, checks, digitises and catalogues one input. skipped is
+// true when the catalogue already holds a finished result for the same
+// content. err is non-nil only for failures that must stop the run (the
+// catalogue cannot be written) or an interruption.
+func batchOne(ctx context.Context, db *catalog.DB, in catalog.Input, opts *batchOptions,
+	base string, process fileProcessor) (e catalog.Entry, skipped bool, err error) {
+	if ctx.Err() != nil {
+		return e, false, ctx.Err()
+	}
+	e = catalog.NewEntry(in.Rel)
+	e.Size = in.Size
+	t0 := time.Now()
+	sum, herr := catalog.HashFile(in.Abs)
+	e.SHA256 = sum
+	if herr == nil && !opts.Force {
+		old, ok, gerr := db.Get(ctx, in.Rel)
+		if gerr != nil {
+			return e, false, gerr
+		}
+		if ok && old.SHA256 == sum && old.Status.Finished() {
+			return old, true, nil
+		}
+	}
+	var res fileResult
+	perr := herr
+	if perr == nil {
+		outBase := filepath.Join(opts.OutDir, filepath.FromSlash(base))
+		if err := os.MkdirAll(filepath.Dir(outBase), 0o755); err != nil {
+			perr = fmt.Errorf("%s: %w: %v", filepath.Dir(outBase), ecg.ErrOutput, err)
+		} else {
+			res, perr = process(ctx, in.Abs, outBase)
+		}
+	}
+	if ctx.Err() != nil {
+		// Interrupted mid-file: record nothing, the rerun redoes it.
+		return e, false, ctx.Err()
+	}
+	e.Seconds = time.Since(t0).Seconds()
+	e.Pages = res.Pages
+	for _, o := range res.Outputs {
+		if r, err := filepath.Rel(opts.OutDir, o); err == nil {
+			o = filepath.ToSlash(r)
+		}
+		e.Outputs = append(e.Outputs, o)
+	}
+	if res.Pages > 0 {
+		s := res.First
+		e.Leads, e.Quality, e.HeartBPM, e.PRMS = s.Leads, s.Quality, s.HR, s.PR
+		e.QRSMS, e.QTMS, e.QTcMS = s.QRS, s.QT, s.QTcB
+	}
+	switch {
+	case perr == nil:
+		e.Status = catalog.StatusDone
+	case errors.Is(perr, ecg.ErrPartial) && res.Pages > 0:
+		e.Status, e.Class, e.Error = catalog.StatusPartial, "partial", oneLine(perr)
+	default:
+		e.Status, e.Class, e.Error = catalog.StatusFailed, errorClass(perr), oneLine(perr)
+	}
+	e.Finished = time.Now()
+	if err := db.Put(ctx, e); err != nil {
+		return e, false, err
+	}
+	return e, false, nil
+}
+
+// outputBases maps each input's relative path to its output base (the
+// relative path without extension), adding the extension to the name
+// ("scan_png") where two inputs in one folder share a stem.
+func outputBases(in []catalog.Input) map[string]string {
+	stem := func(rel string) string { return strings.TrimSuffix(rel, path.Ext(rel)) }
+	n := make(map[string]int)
+	for _, x := range in {
+		n[strings.ToLower(stem(x.Rel))]++
+	}
+	out := make(map[string]string, len(in))
+	for _, x := range in {
+		s := stem(x.Rel)
+		if n[strings.ToLower(s)] > 1 {
+			s += "_" + strings.ToLower(strings.TrimPrefix(path.Ext(x.Rel), "."))
+		}
+		out[x.Rel] = s
+	}
+	return out
+}
+
+// errorClass names the class of err for the catalogue.
+func errorClass(err error) string {
+	switch ExitCode(err) {
+	case ExitUnreadable:
+		return "unreadable"
+	case ExitNoECG:
+		return "no-ecg"
+	case ExitPartial:
+		return "partial"
+	case ExitOutput:
+		return "output"
+	case ExitUsage:
+		return "usage"
+	default:
+		return "internal"
+	}
+}
+
+func oneLine(err error) string { return strings.ReplaceAll(err.Error(), "\n", "; ") }
+
+func logLine(e catalog.Entry) string {
+	switch e.Status {
+	case catalog.StatusFailed:
+		return fmt.Sprintf("failed  %s: %s", e.Path, e.Error)
+	case catalog.StatusPartial:
+		return fmt.Sprintf("partial %s: %d page(s), %d leads, %s; %s", e.Path, e.Pages, len(e.Leads), fmtHR(e.HeartBPM), e.Error)
+	}
+	return fmt.Sprintf("ok      %s: %d page(s), %d leads, %s, %.1f s", e.Path, e.Pages, len(e.Leads), fmtHR(e.HeartBPM), e.Seconds)
+}
+
+func fmtHR(v float64) string {
+	if math.IsNaN(v) {
+		return "HR ?"
+	}
+	return fmt.Sprintf("HR %.0f/min", v)
+}
+
+func printBatchSummary(w io.Writer, st batchStats, catPath, csvPath string) {
+	rate := 0.0
+	if s := st.Elapsed.Seconds(); s > 0 {
+		rate = float64(st.Pages) / s
+	}
+	fmt.Fprintf(w, "batch: %d inputs: %d done, %d partial, %d failed, %d skipped (already done); %d pages in %s (%.2f pages/s)\n",
+		st.Total, st.Done, st.Partial, st.Failed, st.Skipped, st.Pages, st.Elapsed.Round(time.Millisecond), rate)
+	fmt.Fprintf(w, "catalogue: %s (CSV copy: %s)\n", catPath, csvPath)
+	fmt.Fprintln(w, caution)
+}
+
+// progress draws a one-line progress bar with rate and ETA on a terminal;
+// elsewhere it draws nothing (callers log one line per input instead).
+type progress struct {
+	w     io.Writer
+	on    bool
+	total int
+	last  time.Time
+	drawn bool
+}
+
+func newProgress(w io.Writer, on bool, total int) *progress {
+	return &progress{w: w, on: on, total: total}
+}
+
+func (p *progress) update(st batchStats, elapsed time.Duration) {
+	if !p.on {
+		return
+	}
+	now := time.Now()
+	n := st.Done + st.Partial + st.Failed + st.Skipped
+	if n < p.total && now.Sub(p.last) < 150*time.Millisecond {
+		return
+	}
+	p.last = now
+	fmt.Fprint(p.w, "\r\x1b[K"+progressLine(n, p.total, st, elapsed))
+	p.drawn = true
+}
+
+func (p *progress) finish() {
+	if p.on && p.drawn {
+		fmt.Fprintln(p.w)
+	}
+}
+
+// progressLine renders "[#####.....] 120/400 30%  2.4 pages/s  ETA 1m57s  3 failed".
+// The rate counts only inputs actually processed (not skipped ones).
+func progressLine(n, total int, st batchStats, elapsed time.Duration) string {
+	const width = 24
+	frac := 1.0
+	if total > 0 {
+		frac = float64(n) / float64(total)
+	}
+	fill := int(math.Round(frac * width))
+	bar := strings.Repeat("#", fill) + strings.Repeat(".", width-fill)
+	worked := st.Done + st.Partial + st.Failed
+	s := fmt.Sprintf("[%s] %d/%d %3.0f%%", bar, n, total, 100*frac)
+	if sec := elapsed.Seconds(); sec > 0 && worked > 0 {
+		s += fmt.Sprintf("  %.2f pages/s", float64(st.Pages)/sec)
+		perInput := sec / float64(worked)
+		eta := time.Duration(perInput * float64(total-n) * float64(time.Second))
+		s += "  ETA " + eta.Round(time.Second).String()
+	}
+	if st.Failed > 0 {
+		s += fmt.Sprintf("  %d failed", st.Failed)
+	}
+	return s
+}
+
+func newBatchMergeCmd(ios *IOStreams) *cobra.Command {
+	var out string
+	cmd := &cobra.Command{
+		Use:   "merge -o OUT.sqlite CATALOG.sqlite...",
+		Short: "Merge the catalogues of several shards into one",
+		Long: `merge copies every row of the given catalogues into OUT (created if
+missing). Where two catalogues hold the same input path, the row finished
+later wins. A CSV copy is written next to OUT.`,
+		Args: cobra.MinimumNArgs(1),
+		RunE: func(cmd *cobra.Command, args []string) error {
+			if out == "" {
+				return flagErrorf("batch merge: the output catalogue is required (-o OUT.sqlite)")
+			}
+			ctx := cmd.Context()
+			if ctx == nil {
+				ctx = context.Background()
+			}
+			for _, a := range args {
+				if _, err := os.Stat(a); err != nil {
+					return fmt.Errorf("batch merge: %s: %w: %v", a, ecg.ErrUnreadable, err)
+				}
+			}
+			db, err := catalog.Open(out)
+			if err != nil {
+				return fmt.Errorf("batch merge: %w", err)
+			}
+			defer db.Close()
+			for _, a := range args {
+				n, err := db.Merge(ctx, a)
+				if err != nil {
+					return fmt.Errorf("batch merge: %w", err)
+				}
+				fmt.Fprintf(ios.Out, "merged %d rows from %s\n", n, a)
+			}
+			csvPath := strings.TrimSuffix(out, filepath.Ext(out)) + ".csv"
+			if err := catalog.WriteFileAtomic(csvPath, func(f *os.File) error { return db.WriteCSV(ctx, f) }); err != nil {
+				return fmt.Errorf("batch merge: %w", err)
+			}
+			counts, err := db.Counts(ctx)
+			if err != nil {
+				return fmt.Errorf("batch merge: %w", err)
+			}
+			fmt.Fprintf(ios.Out, "%s: %d done, %d partial, %d failed (CSV copy: %s)\n", out,
+				counts[catalog.StatusDone], counts[catalog.StatusPartial], counts[catalog.StatusFailed], csvPath)
+			return nil
+		},
+	}
+	cmd.Flags().StringVarP(&out, "out", "o", "", "merged catalogue to create or update")
+	return cmd
+}
+
+func newBatchExportCmd(ios *IOStreams) *cobra.Command {
+	var out string
+	cmd := &cobra.Command{
+		Use:   "export CATALOG.sqlite [-o OUT.csv]",
+		Short: "Write a catalogue as CSV (to standard output without -o)",
+		Args:  cobra.ExactArgs(1),
+		RunE: func(cmd *cobra.Command, args []string) error {
+			ctx := cmd.Context()
+			if ctx == nil {
+				ctx = context.Background()
+			}
+			if _, err := os.Stat(args[0]); err != nil {
+				return fmt.Errorf("batch export: %s: %w: %v", args[0], ecg.ErrUnreadable, err)
+			}
+			db, err := catalog.Open(args[0])
+			if err != nil {
+				return fmt.Errorf("batch export: %w", err)
+			}
+			defer db.Close()
+			if out == "" || out == "-" {
+				return db.WriteCSV(ctx, ios.Out)
+			}
+			if err := catalog.WriteFileAtomic(out, func(f *os.File) error { return db.WriteCSV(ctx, f) }); err != nil {
+				return fmt.Errorf("batch export: %w", err)
+			}
+			return nil
+		},
+	}
+	cmd.Flags().StringVarP(&out, "out", "o", "", "CSV file to write (default: standard output)")
+	return cmd
+}

@@ -1,0 +1,297 @@
+package cli
+
+import (
+	"bytes"
+	"context"
+	"fmt"
+	"os"
+	"path/filepath"
+	"sort"
+	"strings"
+	"sync/atomic"
+	"testing"
+	"time"
+
+	"github.com/spf13/cobra"
+	"github.com/stretchr/testify/assert"
+	"github.com/stretchr/testify/require"
+
+	"tracelift/catalog"
+	"tracelift/ecg"
+)
+
+// fakeProcess stands in for the pipeline: files whose content starts with
+// "bad" are unreadable, "blank" hold no ECG, "partial" lose some leads;
+// anything else "digitises" into outBase.csv.
+func fakeProcess(calls *atomic.Int32) fileProcessor {
+	return func(ctx context.Context, in, outBase string) (fileResult, error) {
+		calls.Add(1)
+		b, err := os.ReadFile(in)
+		if err != nil {
+			return fileResult{}, fmt.Errorf("%s: %w: %v", in, ecg.ErrUnreadable, err)
+		}
+		s := string(b)
+		switch {
+		case strings.HasPrefix(s, "bad"):
+			return fileResult{}, fmt.Errorf("%s: %w: not a PNG file", filepath.Base(in), ecg.ErrUnreadable)
+		case strings.HasPrefix(s, "blank"):
+			return fileResult{}, fmt.Errorf("%s: %w: blank page", filepath.Base(in), ecg.ErrNoECG)
+		}
+		out := outBase + ".csv"
+		if err := catalog.WriteFileAtomic(out, func(f *os.File) error {
+			_, err := f.WriteString("time_s,I\n0,0.1\n")
+			return err
+		}); err != nil {
+			return fileResult{}, err
+		}
+		sum := unknownSummary()
+		sum.Leads, sum.HR, sum.QRS = []string{"I", "II"}, 72, 90
+		res := fileResult{Pages: 1, Outputs: []string{out}, First: sum}
+		if strings.HasPrefix(s, "partial") {
+			return res, fmt.Errorf("%s: %w: 10 leads unreadable", filepath.Base(in), ecg.ErrPartial)
+		}
+		return res, nil
+	}
+}
+
+func writeTree(t *testing.T, root string, files map[string]string) {
+	t.Helper()
+	for rel, content := range files {
+		p := filepath.Join(root, filepath.FromSlash(rel))
+		require.NoError(t, os.MkdirAll(filepath.Dir(p), 0o755))
+		require.NoError(t, os.WriteFile(p, []byte(content), 0o644))
+	}
+}
+
+func testIOS() (*IOStreams, *bytes.Buffer, *bytes.Buffer) {
+	out, errOut := &bytes.Buffer{}, &bytes.Buffer{}
+	return &IOStreams{In: strings.NewReader(""), Out: out, ErrOut: errOut}, out, errOut
+}
+
+func catalogRows(t *testing.T, p string) map[string]catalog.Entry {
+	t.Helper()
+	db, err := catalog.Open(p)
+	require.NoError(t, err)
+	defer db.Close()
+	all, err := db.All(context.Background())
+	require.NoError(t, err)
+	m := make(map[string]catalog.Entry)
+	for _, e := range all {
+		m[e.Path] = e
+	}
+	return m
+}
+
+func TestBatchBadFilesDoNotStopTheRun(t *testing.T) {
+	in, out := t.TempDir(), t.TempDir()
+	writeTree(t, in, map[string]string{
+		"ward1/a.png":      "good a",
+		"ward1/b.jpg":      "bad b",
+		"ward2/deep/c.png": "good c",
+		"ward2/d.png":      "blank d",
+		"e.tif":            "partial e",
+		"readme.txt":       "not an image",
+	})
+	ios, stdout, stderr := testIOS()
+	var calls atomic.Int32
+	opts := &batchOptions{InputDir: in, OutDir: out, Workers: 2, process: fakeProcess(&calls)}
+	err := runBatch(context.Background(), ios, opts)
+	require.Error(t, err)
+	assert.Equal(t, ExitPartial, ExitCode(err), "a batch with failures ends with the partial-result code: %v", err)
+	assert.EqualValues(t, 5, calls.Load())
+
+	rows := catalogRows(t, filepath.Join(out, "catalog.sqlite"))
+	require.Len(t, rows, 5)
+	assert.Equal(t, catalog.StatusDone, rows["ward1/a.png"].Status)
+	assert.Equal(t, []string{"ward1/a.csv"}, rows["ward1/a.png"].Outputs)
+	assert.Equal(t, 72.0, rows["ward1/a.png"].HeartBPM)
+	assert.Len(t, rows["ward1/a.png"].SHA256, 64)
+	assert.Equal(t, catalog.StatusFailed, rows["ward1/b.jpg"].Status)
+	assert.Equal(t, "unreadable", rows["ward1/b.jpg"].Class)
+	assert.Contains(t, rows["ward1/b.jpg"].Error, "not a PNG file")
+	assert.Equal(t, "no-ecg", rows["ward2/d.png"].Class)
+	assert.Equal(t, catalog.StatusPartial, rows["e.tif"].Status)
+
+	// Outputs mirror the input tree.
+	assert.FileExists(t, filepath.Join(out, "ward2", "deep", "c.csv"))
+	assert.FileExists(t, filepath.Join(out, "catalog.csv"))
+	csv, _ := os.ReadFile(filepath.Join(out, "catalog.csv"))
+	assert.Equal(t, 6, strings.Count(string(csv), "\n"), "header plus one row per input")
+	assert.Contains(t, stdout.String(), "2 done, 1 partial, 2 failed, 0 skipped")
+	assert.Contains(t, stdout.String(), "Caution")
+	assert.Contains(t, stderr.String(), "failed  ward1/b.jpg")
+
+	// Rerun: finished inputs are skipped, failed ones retried.
+	calls.Store(0)
+	ios, stdout, _ = testIOS()
+	err = runBatch(context.Background(), ios, opts)
+	assert.Equal(t, ExitPartial, ExitCode(err))
+	assert.EqualValues(t, 2, calls.Load(), "only the two failed inputs are tried again")
+	assert.Contains(t, stdout.String(), "3 skipped")
+
+	// A changed input is redone even though it had finished.
+	writeTree(t, in, map[string]string{"ward1/a.png": "good a, rescanned"})
+	calls.Store(0)
+	ios, _, _ = testIOS()
+	_ = runBatch(context.Background(), ios, opts)
+	assert.EqualValues(t, 3, calls.Load())
+}
+
+func TestBatchShardsAndMerge(t *testing.T) {
+	in, base := t.TempDir(), t.TempDir()
+	files := map[string]string{}
+	for i := range 12 {
+		files[fmt.Sprintf("box%d/scan%02d.png", i%3, i)] = "good"
+	}
+	writeTree(t, in, files)
+	var calls atomic.Int32
+	var cats []string
+	for k := 1; k <= 3; k++ {
+		out := filepath.Join(base, fmt.Sprintf("part%d", k))
+		ios, _, _ := testIOS()
+		opts := &batchOptions{InputDir: in, OutDir: out, Workers: 2, Shard: catalog.Shard{K: k, N: 3}, process: fakeProcess(&calls)}
+		require.NoError(t, runBatch(context.Background(), ios, opts))
+		cats = append(cats, filepath.Join(out, "catalog.sqlite"))
+	}
+	assert.EqualValues(t, 12, calls.Load(), "the shards together process every input exactly once")
+
+	merged := filepath.Join(base, "all.sqlite")
+	var stdout, stderr bytes.Buffer
+	code := Main(append([]string{"batch", "merge", "-o", merged}, cats...), strings.NewReader(""), &stdout, &stderr)
+	require.Equal(t, ExitOK, code, stderr.String())
+	rows := catalogRows(t, merged)
+	assert.Len(t, rows, 12)
+	assert.FileExists(t, filepath.Join(base, "all.csv"))
+
+	stdout.Reset()
+	code = Main([]string{"batch", "export", merged}, strings.NewReader(""), &stdout, &stderr)
+	require.Equal(t, ExitOK, code, stderr.String())
+	assert.Equal(t, 13, strings.Count(stdout.String(), "\n"))
+	assert.True(t, strings.HasPrefix(stdout.String(), strings.Join(catalog.Columns, ",")))
+}
+
+func TestBatchInterruptKeepsFinishedWork(t *testing.T) {
+	in, out := t.TempDir(), t.TempDir()
+	files := map[string]string{}
+	for i := range 20 {
+		files[fmt.Sprintf("s%02d.png", i)] = "good"
+	}
+	writeTree(t, in, files)
+	ctx, cancel := context.WithCancel(context.Background())
+	var calls atomic.Int32
+	inner := fakeProcess(&calls)
+	proc := func(c context.Context, p, o string) (fileResult, error) {
+		if calls.Load() == 5 {
+			cancel()
+		}
+		return inner(c, p, o)
+	}
+	ios, _, _ := testIOS()
+	err := runBatch(ctx, ios, &batchOptions{InputDir: in, OutDir: out, Workers: 1, process: proc})
+	require.Error(t, err)
+	assert.Equal(t, ExitInterrupted, ExitCode(err))
+	rows := catalogRows(t, filepath.Join(out, "catalog.sqlite"))
+	assert.Len(t, rows, 5, "inputs finished before the interruption are catalogued, the one in flight is not")
+	for rel, e := range rows {
+		assert.FileExists(t, filepath.Join(out, strings.TrimSuffix(rel, ".png")+".csv"))
+		assert.Equal(t, catalog.StatusDone, e.Status)
+	}
+	// No temporary files anywhere.
+	filepath.WalkDir(out, func(p string, d os.DirEntry, err error) error {
+		assert.NotContains(t, d.Name(), ".tmp-", p)
+		return nil
+	})
+
+	// Resuming finishes the rest without redoing the first five.
+	calls.Store(0)
+	ios, _, _ = testIOS()
+	require.NoError(t, runBatch(context.Background(), ios, &batchOptions{InputDir: in, OutDir: out, Workers: 2, process: inner}))
+	assert.EqualValues(t, 15, calls.Load())
+	assert.Len(t, catalogRows(t, filepath.Join(out, "catalog.sqlite")), 20)
+}
+
+func TestBatchOutputUnwritable(t *testing.T) {
+	in := t.TempDir()
+	writeTree(t, in, map[string]string{"a.png": "good"})
+	blocker := filepath.Join(t.TempDir(), "file")
+	require.NoError(t, os.WriteFile(blocker, nil, 0o644))
+	ios, _, _ := testIOS()
+	var calls atomic.Int32
+	err := runBatch(context.Background(), ios, &batchOptions{InputDir: in, OutDir: filepath.Join(blocker, "out"), Workers: 1, process: fakeProcess(&calls)})
+	require.Error(t, err)
+	assert.Equal(t, ExitOutput, ExitCode(err), err.Error())
+	assert.EqualValues(t, 0, calls.Load())
+}
+
+func TestBatchMissingInput(t *testing.T) {
+	var stdout, stderr bytes.Buffer
+	code := Main([]string{"batch", filepath.Join(t.TempDir(), "nope"), "-o", t.TempDir()}, strings.NewReader(""), &stdout, &stderr)
+	assert.Equal(t, ExitUnreadable, code)
+	assert.Equal(t, 1, strings.Count(stderr.String(), "\n"), stderr.String())
+}
+
+func TestBatchStemCollision(t *testing.T) {
+	in, out := t.TempDir(), t.TempDir()
+	writeTree(t, in, map[string]string{"x/a.png": "good", "x/a.jpg": "good", "x/b.png": "good"})
+	ios, _, _ := testIOS()
+	var calls atomic.Int32
+	require.NoError(t, runBatch(context.Background(), ios, &batchOptions{InputDir: in, OutDir: out, Workers: 2, process: fakeProcess(&calls)}))
+	var names []string
+	ents, _ := os.ReadDir(filepath.Join(out, "x"))
+	for _, e := range ents {
+		names = append(names, e.Name())
+	}
+	sort.Strings(names)
+	assert.Equal(t, []string{"a_jpg.csv", "a_png.csv", "b.csv"}, names)
+}
+
+func TestBatchFlags(t *testing.T) {
+	for _, tc := range []struct {
+		name  string
+		args  []string
+		code  int
+		check func(t *testing.T, o *batchOptions)
+	}{
+		{"defaults", []string{"in", "-o", "out"}, ExitOK, func(t *testing.T, o *batchOptions) {
+			assert.Equal(t, "in", o.InputDir)
+			assert.GreaterOrEqual(t, o.Workers, 1)
+			assert.Equal(t, []string{"csv", "json"}, o.Pipe.Formats)
+			assert.Equal(t, 500.0, o.Pipe.RateHz)
+		}},
+		{"shard and jobs", []string{"in", "-o", "out", "-j", "3", "--shard", "2/5", "--format", "edf,csv"}, ExitOK, func(t *testing.T, o *batchOptions) {
+			assert.Equal(t, 3, o.Workers)
+			assert.Equal(t, catalog.Shard{K: 2, N: 5}, o.Shard)
+			assert.Equal(t, []string{"csv", "json", "edf"}, o.Pipe.Formats)
+		}},
+		{"no output", []string{"in"}, ExitUsage, nil},
+		{"bad shard", []string{"in", "-o", "o", "--shard", "6/5"}, ExitUsage, nil},
+		{"zero jobs", []string{"in", "-o", "o", "-j", "0"}, ExitUsage, nil},
+		{"bad format", []string{"in", "-o", "o", "--format", "docx"}, ExitUsage, nil},
+		{"bad speed", []string{"in", "-o", "o", "--speed", "-25"}, ExitUsage, nil},
+		{"two inputs", []string{"a", "b", "-o", "o"}, ExitUsage, nil},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			ios, _, _ := testIOS()
+			var got *batchOptions
+			cmd := newBatchCmd(ios, func(o *batchOptions) error { got = o; return nil })
+			cmd.SetArgs(tc.args)
+			cmd.SetOut(ios.Out)
+			cmd.SetErr(ios.ErrOut)
+			cmd.SilenceUsage, cmd.SilenceErrors = true, true
+			cmd.SetFlagErrorFunc(func(_ *cobra.Command, err error) error { return &FlagError{Err: err} })
+			err := cmd.Execute()
+			require.Equal(t, tc.code, ExitCode(err), "%v", err)
+			if tc.check != nil {
+				tc.check(t, got)
+			}
+		})
+	}
+}
+
+func TestProgressLine(t *testing.T) {
+	st := batchStats{Total: 400, Done: 100, Failed: 3, Skipped: 17, Pages: 103}
+	s := progressLine(120, 400, st, 50*time.Second)
+	// 103 pages in 50 s; 103 processed inputs took 50 s, so 280 more take ≈136 s.
+	assert.Equal(t, "[#######.................] 120/400  30%  2.06 pages/s  ETA 2m16s  3 failed", s)
+	assert.Equal(t, "[........................] 0/10   0%", progressLine(0, 10, batchStats{}, 0))
+}
