@@ -1,0 +1,408 @@
+package synth
+
+import (
+	"errors"
+	"math"
+	"testing"
+
+	"tracelift/ecg"
+)
+
+func gen(t *testing.T, p Params, seed uint64) ecg.Record {
+	t.Helper()
+	rec, err := Generate(p, seed)
+	if err != nil {
+		t.Fatalf("Generate: %v", err)
+	}
+	return rec
+}
+
+// globalFiducials measures a beat's wave boundaries back from a noise-free
+// record, independently of the generator's bookkeeping: the envelope is the
+// largest |amplitude| over the twelve leads at each sample, and each wave
+// (T searched before the next beat's QRS, rr s after this one)
+// spans the samples around its envelope peak that stay at or above 5 % of
+// that peak (the global earliest-onset / latest-offset rule of standards.md
+// §4.4, with the threshold the package documents).
+type measured struct{ pOn, qrsOn, qrsOff, tOn, tEnd float64 }
+
+func measureBeat(rec ecg.Record, rTime, rr float64) measured {
+	fs := rec.Signals[0].SampleRate
+	n := len(rec.Signals[0].Samples)
+	env := func(i int) float64 {
+		m := 0.0
+		for _, s := range rec.Signals {
+			m = max(m, math.Abs(s.Samples[i]))
+		}
+		return m
+	}
+	idx := func(t float64) int { return min(n-1, max(0, int(math.Round(t*fs)))) }
+	// wave finds the envelope peak in [a, b] s and walks out to 5 %.
+	wave := func(a, b float64) (on, off float64) {
+		ip, pk := idx(a), 0.0
+		for i := idx(a); i <= idx(b); i++ {
+			if e := env(i); e > pk {
+				ip, pk = i, e
+			}
+		}
+		thr := onsetFrac * pk
+		lo, hi := ip, ip
+		for lo > 0 && env(lo-1) >= thr {
+			lo--
+		}
+		for hi < n-1 && env(hi+1) >= thr {
+			hi++
+		}
+		return float64(lo) / fs, float64(hi) / fs
+	}
+	var m measured
+	m.qrsOn, m.qrsOff = wave(rTime-0.01, rTime+0.01)
+	m.tOn, m.tEnd = wave(m.qrsOff+0.06, m.qrsOn+min(0.6, rr-0.1))
+	m.pOn, _ = wave(m.qrsOn-0.22, m.qrsOn-0.03)
+	return m
+}
+
+// midBeat returns a normal beat with all fiducials inside the record.
+func midBeat(t *testing.T, rec ecg.Record) ecg.Beat {
+	t.Helper()
+	for _, b := range rec.Beats[1:] {
+		if b.Class == ecg.BeatNormal && !math.IsNaN(b.POn) && !math.IsNaN(b.TEnd) && b.TEnd < 9 {
+			return b
+		}
+	}
+	t.Fatal("no complete normal beat")
+	return ecg.Beat{}
+}
+
+// Einthoven (II = I + III) and Goldberger (aVR + aVL + aVF = 0, aVR =
+// −(I+II)/2, aVL = I − II/2, aVF = II − I/2) hold by construction of the
+// lead systems (common practice; standards.md §1.3), noise included.
+func TestLimbLaws(t *testing.T) {
+	p := Default()
+	p.NoiseMV, p.BaselineWanderMV, p.PowerlineMV, p.HRVStdMS, p.EctopicRate = 0.05, 0.4, 0.1, 40, 0.1
+	rec := gen(t, p, 3)
+	if len(rec.Signals) != 12 || rec.Meta.Source != "synthetic" {
+		t.Fatalf("got %d signals, source %q", len(rec.Signals), rec.Meta.Source)
+	}
+	for i, l := range ecg.Standard12 {
+		if rec.Signals[i].Lead != l || rec.Signals[i].Start != 0 || len(rec.Signals[i].Samples) != 5000 {
+			t.Fatalf("signal %d: lead %v start %g len %d", i, rec.Signals[i].Lead, rec.Signals[i].Start, len(rec.Signals[i].Samples))
+		}
+	}
+	s := func(l ecg.Lead) []float64 { return rec.Signal(l).Samples }
+	I, II, III, aVR, aVL, aVF := s(ecg.LeadI), s(ecg.LeadII), s(ecg.LeadIII), s(ecg.LeadAVR), s(ecg.LeadAVL), s(ecg.LeadAVF)
+	worst := 0.0
+	for k := range I {
+		for _, d := range []float64{
+			II[k] - (I[k] + III[k]),
+			aVR[k] + (I[k]+II[k])/2,
+			aVL[k] - (I[k] - II[k]/2),
+			aVF[k] - (II[k] - I[k]/2),
+			aVR[k] + aVL[k] + aVF[k],
+		} {
+			worst = max(worst, math.Abs(d))
+		}
+	}
+	if worst > 1e-3 { // 1 µV in mV
+		t.Errorf("largest limb-law residual %.3g mV, want ≤ 1 µV", worst)
+	}
+	if c, ok := ecg.CheckLimb(&rec); !ok || c.ResidualUV > 1 {
+		t.Errorf("CheckLimb residual %.3g µV (ok=%v), want ≤ 1 µV", c.ResidualUV, ok)
+	}
+}
+
+// HR = 60/RR (standards.md §2.1) from the true R times.
+func TestHeartRate(t *testing.T) {
+	for _, hr := range []float64{40, 60, 72, 100, 150} {
+		p := Default()
+		p.HeartRateBPM, p.DurationS = hr, 30
+		rec := gen(t, p, 1)
+		b := rec.Beats
+		got := 60 * float64(len(b)-1) / (b[len(b)-1].R - b[0].R)
+		if math.Abs(got-hr) > 1 {
+			t.Errorf("%g bpm requested: %.2f bpm from %d R times", hr, got, len(b))
+		}
+	}
+	// With variability the mean rate over a long record still matches and
+	// the RR standard deviation is the requested one (McSharry 2003: RR
+	// series scaled to the requested SD).
+	p := Default()
+	p.HeartRateBPM, p.DurationS, p.HRVStdMS = 65, 300, 50
+	rec := gen(t, p, 2)
+	var rr []float64
+	for k := 1; k < len(rec.Beats); k++ {
+		rr = append(rr, rec.Beats[k].R-rec.Beats[k-1].R)
+	}
+	mean, sd := meanSD(rr)
+	if math.Abs(60/mean-65) > 1 {
+		t.Errorf("HRV record: %.2f bpm, want 65 ± 1", 60/mean)
+	}
+	if math.Abs(1000*sd-50) > 5 {
+		t.Errorf("HRV record: RR SD %.1f ms, want 50 ± 5", 1000*sd)
+	}
+}
+
+func meanSD(x []float64) (mean, sd float64) {
+	for _, v := range x {
+		mean += v
+	}
+	mean /= float64(len(x))
+	for _, v := range x {
+		sd += (v - mean) * (v - mean)
+	}
+	return mean, math.Sqrt(sd / float64(len(x)))
+}
+
+// Rules of thumb (common practice; standards.md §2.1): QT ≈ 0.40 s at
+// 60 bpm, ST segment (QRS offset → T onset) ≈ 0.08–0.12 s, QT shortens as
+// the rate rises.
+func TestQTAndSTAtSixty(t *testing.T) {
+	p := Default()
+	p.HeartRateBPM, p.SampleRate = 60, 1000
+	rec := gen(t, p, 5)
+	b := midBeat(t, rec)
+	m := measureBeat(rec, b.R, 60/p.HeartRateBPM)
+	qt := m.tEnd - m.qrsOn
+	st := m.tOn - m.qrsOff
+	if qt < 0.36 || qt > 0.44 {
+		t.Errorf("QT at 60 bpm %.3f s, want 0.36–0.44", qt)
+	}
+	if st < 0.08 || st > 0.12 {
+		t.Errorf("ST segment at 60 bpm %.3f s, want 0.08–0.12", st)
+	}
+	t.Logf("60 bpm: QT %.1f ms, ST segment %.1f ms", 1000*qt, 1000*st)
+	prevQT := qt
+	for _, hr := range []float64{80, 100, 115} {
+		p.HeartRateBPM = hr
+		rec := gen(t, p, 5)
+		b := midBeat(t, rec)
+		m := measureBeat(rec, b.R, 60/p.HeartRateBPM)
+		q := m.tEnd - m.qrsOn
+		if q >= prevQT {
+			t.Errorf("QT at %g bpm %.3f s not shorter than %.3f s at the slower rate", hr, q, prevQT)
+		}
+		prevQT = q
+	}
+}
+
+// Requested PR, QRS and QT come back from the signals within 4 ms (the
+// global-interval tolerances of IEC 60601-2-25 are ±10 ms for PR, ±6 ms for
+// QRS and ±25 ms for QT, standards.md §3, from memory there).
+func TestRequestedIntervals(t *testing.T) {
+	cases := []struct {
+		name            string
+		hr, pr, qrs, qt float64 // bpm, ms
+	}{
+		{"short PR, narrow", 75, 120, 80, 360},
+		{"long PR", 60, 220, 100, 420},
+		{"wide QRS", 70, 180, 130, 400},
+		{"tachycardia", 110, 140, 86, 300},
+		{"defaults", 70, 0, 0, 0},
+	}
+	for _, c := range cases {
+		t.Run(c.name, func(t *testing.T) {
+			p := Default()
+			p.HeartRateBPM, p.PRMS, p.QRSMS, p.QTMS, p.SampleRate = c.hr, c.pr, c.qrs, c.qt, 1000
+			rec := gen(t, p, 11)
+			want := [3]float64{c.pr, c.qrs, c.qt}
+			if c.pr == 0 {
+				want = [3]float64{160, 90, 400 * math.Cbrt(60/c.hr)}
+			}
+			b := midBeat(t, rec)
+			truth := [3]float64{b.QRSOn - b.POn, b.QRSOff - b.QRSOn, b.TEnd - b.QRSOn}
+			m := measureBeat(rec, b.R, 60/p.HeartRateBPM)
+			got := [3]float64{m.qrsOn - m.pOn, m.qrsOff - m.qrsOn, m.tEnd - m.qrsOn}
+			t.Logf("measured PR %.1f QRS %.1f QT %.1f ms; requested %.1f %.1f %.1f", 1000*got[0], 1000*got[1], 1000*got[2], want[0], want[1], want[2])
+			for k, name := range []string{"PR", "QRS", "QT"} {
+				if d := math.Abs(1000*truth[k] - want[k]); d > 0.1 {
+					t.Errorf("%s in beat truth %.2f ms, want %.1f", name, 1000*truth[k], want[k])
+				}
+				if d := math.Abs(1000*got[k] - want[k]); d > 4 {
+					t.Errorf("%s measured %.1f ms, want %.1f ± 4", name, 1000*got[k], want[k])
+				}
+			}
+		})
+	}
+}
+
+// netQRS returns largest positive + largest negative deflection of lead l
+// within the beat's QRS (standards.md §2.3, "net amplitude").
+func netQRS(rec ecg.Record, l ecg.Lead, b ecg.Beat) (net, pos, neg float64) {
+	s := rec.Signal(l)
+	for i := int(math.Ceil(b.QRSOn * s.SampleRate)); float64(i) <= b.QRSOff*s.SampleRate; i++ {
+		pos, neg = max(pos, s.Samples[i]), min(neg, s.Samples[i])
+	}
+	return pos + neg, pos, neg
+}
+
+// Frontal axis θ = atan2(2·aVF, √3·I) from net QRS amplitudes
+// (standards.md §2.3) within 10° of the request.
+func TestAxis(t *testing.T) {
+	for _, ax := range []float64{-60, -30, 0, 30, 60, 75, 90, 120, 160} {
+		p := Default()
+		p.AxisDeg = ax
+		rec := gen(t, p, 4)
+		b := midBeat(t, rec)
+		nI, _, _ := netQRS(rec, ecg.LeadI, b)
+		nF, _, _ := netQRS(rec, ecg.LeadAVF, b)
+		got := math.Atan2(2*nF, math.Sqrt(3)*nI) * 180 / math.Pi
+		t.Logf("axis %g°: measured %.1f°", ax, got)
+		if d := math.Abs(math.Remainder(got-ax, 360)); d > 10 {
+			t.Errorf("axis %g° requested, measured %.1f°", ax, got)
+		}
+	}
+}
+
+// Textbook morphology of a normal adult 12-lead (common practice): R in II
+// about 1–1.5 mV, aVR mostly negative, V1 rS, V6 qR, R grows from V1 to
+// V4/V5, T upright in II and V5 and inverted in aVR.
+func TestMorphology(t *testing.T) {
+	rec := gen(t, Default(), 9)
+	b := midBeat(t, rec)
+	_, rII, _ := netQRS(rec, ecg.LeadII, b)
+	if rII < 1 || rII > 1.5 {
+		t.Errorf("R in II %.2f mV, want 1–1.5", rII)
+	}
+	if n, _, _ := netQRS(rec, ecg.LeadAVR, b); n >= 0 {
+		t.Errorf("aVR net QRS %.2f mV, want negative", n)
+	}
+	if _, r, s := netQRS(rec, ecg.LeadV1, b); r <= 0.05 || -s < 2*r {
+		t.Errorf("V1 r %.2f S %.2f mV: want small r, deep S", r, s)
+	}
+	if _, r, q := netQRS(rec, ecg.LeadV6, b); q >= -0.02 || r < 4*(-q) {
+		t.Errorf("V6 q %.2f R %.2f mV: want small q, tall R", q, r)
+	}
+	var rs []float64
+	for _, l := range []ecg.Lead{ecg.LeadV1, ecg.LeadV2, ecg.LeadV3, ecg.LeadV4} {
+		_, r, _ := netQRS(rec, l, b)
+		rs = append(rs, r)
+	}
+	for k := 1; k < len(rs); k++ {
+		if rs[k] <= rs[k-1] {
+			t.Errorf("R progression V1–V4 %.2f mV not increasing", rs)
+			break
+		}
+	}
+	tAt := func(l ecg.Lead) float64 { return rec.Signal(l).At(b.TPeak) }
+	if tAt(ecg.LeadII) <= 0.1 || tAt(ecg.LeadV5) <= 0.1 || tAt(ecg.LeadAVR) >= -0.05 {
+		t.Errorf("T at peak: II %.2f, V5 %.2f, aVR %.2f mV", tAt(ecg.LeadII), tAt(ecg.LeadV5), tAt(ecg.LeadAVR))
+	}
+}
+
+func TestSeed(t *testing.T) {
+	p := Default()
+	p.NoiseMV, p.HRVStdMS, p.EctopicRate, p.BaselineWanderMV = 0.02, 30, 0.1, 0.2
+	a, b, c := gen(t, p, 42), gen(t, p, 42), gen(t, p, 43)
+	same, diff := true, false
+	for i := range a.Signals {
+		for k := range a.Signals[i].Samples {
+			same = same && a.Signals[i].Samples[k] == b.Signals[i].Samples[k]
+			diff = diff || a.Signals[i].Samples[k] != c.Signals[i].Samples[k]
+		}
+	}
+	if !same || len(a.Beats) != len(b.Beats) {
+		t.Error("same seed gave different records")
+	}
+	if !diff {
+		t.Error("different seeds gave identical records")
+	}
+}
+
+// Premature beats: ventricular ones are wide (QRS ≥ 120 ms, the
+// complete-block threshold of standards.md §2.1 used here as a width test),
+// lack P and have a T opposite to the QRS; atrial ones keep a P; both come
+// early.
+func TestEctopics(t *testing.T) {
+	p := Default()
+	p.DurationS, p.EctopicRate = 300, 0.12
+	rec := gen(t, p, 8)
+	var nV, nA int
+	for k, b := range rec.Beats {
+		if k == 0 || b.Class == ecg.BeatNormal {
+			continue
+		}
+		rr := b.R - rec.Beats[k-1].R
+		if rr > 0.8*60/p.HeartRateBPM {
+			t.Errorf("beat %d (%c) not premature: RR %.3f s", k, b.Class, rr)
+		}
+		switch b.Class {
+		case ecg.BeatVentricular:
+			nV++
+			if !math.IsNaN(b.POn) || b.QRSOff-b.QRSOn < 0.12 {
+				t.Errorf("V beat %d: POn %g, QRS %.0f ms", k, b.POn, 1000*(b.QRSOff-b.QRSOn))
+			}
+			// Discordance in the lead with the largest QRS deflection.
+			best, sign := 0.0, 0.0
+			for _, l := range ecg.Standard12 {
+				if n, _, _ := netQRS(rec, l, b); math.Abs(n) > best {
+					best, sign = math.Abs(n), n*rec.Signal(l).At(b.TPeak)
+				}
+			}
+			if sign >= 0 {
+				t.Errorf("V beat %d: T not discordant", k)
+			}
+		case ecg.BeatAtrial:
+			nA++
+			if math.IsNaN(b.POn) || b.QRSOff-b.QRSOn > 0.1 {
+				t.Errorf("A beat %d: POn %g, QRS %.0f ms", k, b.POn, 1000*(b.QRSOff-b.QRSOn))
+			}
+		default:
+			t.Errorf("beat %d: class %c", k, b.Class)
+		}
+	}
+	frac := float64(nV+nA) / float64(len(rec.Beats))
+	if math.Abs(frac-p.EctopicRate) > 0.015 || nV == 0 || nA == 0 {
+		t.Errorf("ectopic fraction %.3f (V %d, A %d of %d), want %.2f", frac, nV, nA, len(rec.Beats), p.EctopicRate)
+	}
+}
+
+func TestNoiseLevels(t *testing.T) {
+	clean := gen(t, Default(), 6)
+	p := Default()
+	p.NoiseMV = 0.05
+	noisy := gen(t, p, 6)
+	d := make([]float64, 0, 5000)
+	a, b := clean.Signal(ecg.LeadV2).Samples, noisy.Signal(ecg.LeadV2).Samples
+	for k := range a {
+		d = append(d, b[k]-a[k])
+	}
+	_, sd := meanSD(d)
+	if math.Abs(sd-0.05) > 0.005 {
+		t.Errorf("noise RMS %.4f mV, want 0.05 ± 10 %%", sd)
+	}
+}
+
+func TestBadParams(t *testing.T) {
+	mod := func(f func(*Params)) Params { p := Default(); f(&p); return p }
+	cases := map[string]Params{
+		"negative rate":   mod(func(p *Params) { p.HeartRateBPM = -5 }),
+		"rate too high":   mod(func(p *Params) { p.HeartRateBPM = 400 }),
+		"QT over RR":      mod(func(p *Params) { p.HeartRateBPM = 150; p.QTMS = 450 }),
+		"negative noise":  mod(func(p *Params) { p.NoiseMV = -1 }),
+		"NaN duration":    mod(func(p *Params) { p.DurationS = math.NaN() }),
+		"ectopic rate":    mod(func(p *Params) { p.EctopicRate = 0.9 }),
+		"PR below P":      mod(func(p *Params) { p.PRMS = 60 }),
+		"QRS too wide":    mod(func(p *Params) { p.QRSMS = 400 }),
+		"mains > Nyquist": mod(func(p *Params) { p.SampleRate = 80; p.PowerlineMV = 0.1; p.PowerlineHz = 60 }),
+		"sample rate":     mod(func(p *Params) { p.SampleRate = 10 }),
+		"HRV too large":   mod(func(p *Params) { p.HRVStdMS = 500 }),
+	}
+	for name, p := range cases {
+		if _, err := Generate(p, 1); !errors.Is(err, ErrParams) {
+			t.Errorf("%s: err = %v, want ErrParams", name, err)
+		}
+	}
+	if _, err := Generate(Params{}, 1); err != nil {
+		t.Errorf("zero Params: %v", err)
+	}
+}
+
+func BenchmarkGenerate10s(b *testing.B) {
+	p := Default()
+	p.NoiseMV, p.BaselineWanderMV = 0.02, 0.2
+	for b.Loop() {
+		if _, err := Generate(p, 1); err != nil {
+			b.Fatal(err)
+		}
+	}
+}
