@@ -1,0 +1,67 @@
+// Package trace finds the layout of an ECG page, names its leads and
+// follows each printed trace into calibrated samples.
+//
+// Input is an upright ink map (255 = trace ink, grid removed) with its
+// calibration (px/mm, mm/s, mm/mV) and the calibration pulses found on the
+// page; output is an ecg.Record with one signal per lead on the record's
+// common time base (t = 0 at the left edge of the first trace column, just
+// after the calibration pulse), NaN where a lead was not printed.
+//
+// # Methods
+//
+//   - Rows: peaks of the row ink projection profile backed by a long,
+//     nearly continuous horizontal stretch of ink (projection profiles,
+//     common practice). 0 mV is the calibration pulse's foot where there is
+//     one, else the most frequent level of the row's path (the isoelectric
+//     line).
+//   - Layout: the number of rows and the printed column separators (tall
+//     isolated strokes at 1/4, 1/2, 3/4 of the row) choose among 3 × 4 with
+//     0, 1 or 3 rhythm strips, 6 × 2, 12 × 1 and a single lead printed as
+//     consecutive rhythm rows. Standard and Cabrera limb-lead orders print
+//     alike; without labels the order with the smaller Einthoven/Goldberger
+//     residual (ecg.CheckLimb) is kept.
+//   - Trace following: per panel, the globally cheapest path through the
+//     vertical ink runs of each image column, found by dynamic programming
+//     over columns (Viterbi, IEEE Trans Inf Theory 1967;13:260–9; Forney,
+//     Proc IEEE 1973;61:268–78). States are the runs of a column plus a few
+//     gap states that carry the last position across columns without ink;
+//     the transition cost is the vertical gap between consecutive runs
+//     (touching runs cost nothing, so steep QRS strokes are free) and a weak
+//     cost grows with distance from the row's baseline, so text, pen marks
+//     and a neighbouring row's complexes that are not connected to the
+//     trace are left alone. A thin run is represented by its ink-weighted
+//     centre (sub-pixel); a tall run by its ends: its top when it rises
+//     above both neighbours (R peak), its bottom when it falls below them
+//     (S peak), both ends in order when the pen passed through it, so peaks
+//     keep their amplitude.
+//   - Units: x → s and y → mV with grid.Calibration; each panel is resampled
+//     on the grid t = k/fs. A lead printed twice (II in the grid and in the
+//     rhythm strip) takes, per sample, the copy of higher quality; copies
+//     that disagree by more than 0.1 mV RMS raise a warning.
+//   - Self-check: panel quality = ink coverage of the path / (1 + mean jump
+//     in mm); the Einthoven/Goldberger residual flags limb leads far above
+//     the others.
+//   - SNR: the PhysioNet/CinC Challenge 2024 definition (see SNR).
+//
+// # Layout descriptions
+//
+// Besides the standard names ("3x4", "3x4+1", "3x4+3", "6x2", "12x1",
+// "cabrera-3x4", "rhythm"), ParseLayout reads a description of fields
+// separated by ";":
+//
+//	sec=2.5              seconds per column (default 2.5)
+//	rows=4               optional check of the number of rows
+//	cols=4               optional number of columns (width of "*" cells)
+//	cells=ROW/ROW/...    rows top to bottom; cells left to right, comma-separated
+//
+// A cell is a lead name (I, II, III, aVR, aVL, aVF, V1…V6, …) printed for
+// one column, consecutive columns following in time (a 3 × 4 row covers
+// 0–2.5, 2.5–5, 5–7.5, 7.5–10 s). Prefix "-" marks an inverted lead (−aVR);
+// suffix "*" makes the cell span the whole row (a rhythm strip, cols ×
+// sec); suffix "~" continues the lead in time from where its previous cell
+// ended (a long rhythm printed over several rows). Examples:
+//
+//	sec=2.5;cells=I,aVR,V1,V4/II,aVL,V2,V5/III,aVF,V3,V6/II*
+//	sec=5;cells=I,V1/II,V2/III,V3/aVR,V4/aVL,V5/aVF,V6
+//	sec=10;cells=II/II~/II~         (30 s of lead II over three rows)
+package trace

@@ -1,0 +1,570 @@
+package trace
+
+import (
+	"errors"
+	"fmt"
+	"image"
+	"math"
+	"sort"
+
+	"tracelift/ecg"
+	"tracelift/grid"
+)
+
+// Options tunes Extract. A nil *Options means defaults.
+type Options struct {
+	Layout     *Layout // nil = detect from the page
+	SampleRate float64 // output rate, Hz; default 500
+	DurationS  float64 // record length, s; default from the layout (10 s for the standard ones)
+}
+
+// Panel is one printed segment of one lead as found on the page.
+type Panel struct {
+	Lead    ecg.Lead
+	Negated bool            // printed inverted; the signal is returned upright
+	Row     int             // 0-based trace row, top to bottom
+	Col     int             // 0-based cell within the row
+	Bounds  image.Rectangle // search band of the panel, px
+	T0, T1  float64         // time window on the record's time base, s
+	ZeroY   float64         // y of 0 mV used for this panel, px
+	Path    []Point         // followed trace, image px, left to right
+	Quality float64         // 0..1: ink coverage of the path and its smoothness
+}
+
+// Result is the outcome of Extract.
+type Result struct {
+	Record   ecg.Record             // one signal per lead, uniform rate from t = 0, NaN where not printed; Meta.SpeedMMPerS and GainMMPerMV filled
+	Layout   Layout                 // the layout used (detected or given)
+	Panels   []Panel                // one per printed segment
+	Quality  map[ecg.Lead]float64   // per lead, 0..1
+	Limb     ecg.LimbConsistency    // Einthoven/Goldberger residual of the extracted limb leads
+	Flagged  []ecg.Lead             // leads that failed the self-check
+	Warnings []string
+}
+
+// LeadError reports a lead that could not be extracted.
+type LeadError struct {
+	Lead ecg.Lead
+	Err  error
+}
+
+func (e *LeadError) Error() string { return fmt.Sprintf("lead %v: %v", e.Lead, e.Err) }
+func (e *LeadError) Unwrap() error { return e.Err }
+
+// minQuality is the panel quality below which a panel counts as not found.
+const minQuality = 0.25
+
+// Extract follows the traces of an upright ink map (255 = trace ink, grid
+// removed) and returns one calibrated signal per lead. cal gives px/mm,
+// paper speed and gain; pulses (may be nil) give each row's 0 mV level.
+//
+// If some leads fail, the partial Result is returned with an error that
+// wraps ecg.ErrPartial; if no trace is found the error wraps ecg.ErrNoECG.
+func Extract(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse, opt *Options) (*Result, error) {
+	var o Options
+	if opt != nil {
+		o = *opt
+	}
+	if o.SampleRate <= 0 || math.IsNaN(o.SampleRate) {
+		o.SampleRate = 500
+	}
+	if ink == nil || ink.Rect.Dx() < 8 || ink.Rect.Dy() < 8 || len(ink.Pix) < ink.Stride*(ink.Rect.Dy()-1)+ink.Rect.Dx() {
+		return nil, fmt.Errorf("trace: extract: empty or malformed ink map: %w", ecg.ErrNoECG)
+	}
+	res := &Result{Quality: map[ecg.Lead]float64{}}
+	for _, v := range []*grid.Value{&cal.PxPerMMX, &cal.PxPerMMY} {
+		if !(v.V > 0.5) || v.V > 200 || math.IsInf(v.V, 0) {
+			return nil, fmt.Errorf("trace: extract: invalid calibration (%g px/mm): %w", v.V, ecg.ErrUnreadable)
+		}
+	}
+	if !(cal.SpeedMMPerS.V > 0) || math.IsInf(cal.SpeedMMPerS.V, 0) {
+		cal.SpeedMMPerS = grid.Value{V: 25, Origin: grid.FromDefault}
+		res.Warnings = append(res.Warnings, "paper speed unknown; assumed 25 mm/s")
+	}
+	if !(cal.GainMMPerMV.V > 0) || math.IsInf(cal.GainMMPerMV.V, 0) {
+		cal.GainMMPerMV = grid.Value{V: 10, Origin: grid.FromDefault}
+		res.Warnings = append(res.Warnings, "gain unknown; assumed 10 mm/mV")
+	}
+	pxX := cal.PxPerMMX.V
+	rows := findRows(ink, cal, pulses)
+	if len(rows) == 0 {
+		return nil, fmt.Errorf("trace: extract: no trace rows on the page: %w", ecg.ErrNoECG)
+	}
+	alignStarts(rows, pxX)
+	for i := range rows {
+		up, down := bandAround(rows, i, cal.PxPerMMY.V)
+		findTicks(ink, &rows[i], cal, up, down)
+	}
+	lay := o.Layout
+	detected := lay == nil
+	if detected {
+		lay = detectLayout(rows, cal)
+	}
+	if len(lay.Rows) == 0 {
+		return nil, fmt.Errorf("trace: extract: layout has no rows: %w", ecg.ErrNoECG)
+	}
+	rows = matchRows(rows, len(lay.Rows), &res.Warnings)
+	alignToTicks(rows, lay, cal)
+	dur := o.DurationS
+	if dur <= 0 {
+		dur = lay.DurationS()
+	}
+	n := int(math.Round(dur * o.SampleRate))
+	if n <= 0 || n > 100_000_000 {
+		return nil, fmt.Errorf("trace: extract: record length %g s at %g Hz is out of range: %w", dur, o.SampleRate, ecg.ErrNoECG)
+	}
+
+	// Follow every panel.
+	var cr columnRuns
+	type traced struct {
+		p    Panel
+		vals []float64 // mV on the record grid, NaN outside
+	}
+	var all []traced
+	for ri, lr := range lay.Rows {
+		if ri >= len(rows) {
+			break
+		}
+		r := rows[ri]
+		up, down := bandAround(rows, ri, cal.PxPerMMY.V)
+		spanPx := lr.RowSeconds() * cal.SpeedMMPerS.V * pxX
+		measured := float64(r.x1) - r.traceX0
+		if spanPx > 0 && math.Abs(measured-spanPx) > 0.12*spanPx && measured > 0 {
+			res.Warnings = append(res.Warnings, fmt.Sprintf("row %d: printed trace is %.0f mm long, layout expects %.0f mm (check speed or layout)", ri+1, measured/pxX, spanPx/pxX))
+		}
+		xc := r.traceX0
+		var rowPanels []traced
+		for ci, c := range lr.Cells {
+			w := (c.T1S - c.T0S) * cal.SpeedMMPerS.V * pxX
+			x0, x1 := int(math.Round(xc)), int(math.Round(xc+w))
+			xc += w
+			bounds := image.Rect(x0, int(r.baseY-up), x1, int(r.baseY+down)).Intersect(ink.Rect)
+			p := Panel{Lead: c.Lead, Negated: c.Negated, Row: ri, Col: ci, Bounds: bounds, T0: c.T0S, T1: c.T1S}
+			if bounds.Empty() {
+				rowPanels = append(rowPanels, traced{p: p})
+				continue
+			}
+			cr.scan(ink, bounds)
+			fp := defaultFollow(cal.PxPerMMY.V, r.baseY)
+			pr := follow(&cr, fp)
+			p.Path = pr.points
+			cov := 0.0
+			if pr.cols > 0 {
+				cov = float64(pr.onInk) / float64(pr.cols)
+			}
+			p.Quality = cov / (1 + pr.meanJump/cal.PxPerMMY.V)
+			rowPanels = append(rowPanels, traced{p: p})
+		}
+		// 0 mV of the row: the pulse foot, else the isoelectric level.
+		zero := r.zeroY
+		if math.IsNaN(zero) {
+			var paths [][]Point
+			for _, tp := range rowPanels {
+				paths = append(paths, tp.p.Path)
+			}
+			zero = isoelectric(paths)
+			if math.IsNaN(zero) {
+				zero = r.baseY
+			}
+		}
+		xc = r.traceX0
+		for k := range rowPanels {
+			tp := &rowPanels[k]
+			tp.p.ZeroY = zero
+			c := lr.Cells[k]
+			w := (c.T1S - c.T0S) * cal.SpeedMMPerS.V * pxX
+			tp.vals = sampleRow(tp.p.Path, xc, c.T0S, c.T1S, cal, zero, o.SampleRate, n)
+			if c.Negated {
+				for i, v := range tp.vals {
+					tp.vals[i] = -v
+				}
+			}
+			xc += w
+		}
+		all = append(all, rowPanels...)
+	}
+
+	build := func(names func(row, col int) (ecg.Lead, bool)) (rec ecg.Record, qual map[ecg.Lead]float64, warn []string) {
+		rec = ecg.Record{Meta: ecg.Metadata{SpeedMMPerS: cal.SpeedMMPerS.V, GainMMPerMV: cal.GainMMPerMV.V}}
+		qual = map[ecg.Lead]float64{}
+		type cand struct {
+			q    float64
+			vals []float64
+		}
+		byLead := map[ecg.Lead][]cand{}
+		var order []ecg.Lead
+		for _, tp := range all {
+			if tp.p.Quality < minQuality || tp.vals == nil {
+				continue
+			}
+			l, neg := names(tp.p.Row, tp.p.Col)
+			vals := tp.vals
+			if neg != tp.p.Negated {
+				vals = make([]float64, len(tp.vals))
+				for i, v := range tp.vals {
+					vals[i] = -v
+				}
+			}
+			if _, ok := byLead[l]; !ok {
+				order = append(order, l)
+			}
+			byLead[l] = append(byLead[l], cand{tp.p.Quality, vals})
+		}
+		for _, l := range order {
+			cs := byLead[l]
+			sort.SliceStable(cs, func(i, j int) bool { return cs[i].q > cs[j].q })
+			out := make([]float64, n)
+			qs, qn := 0.0, 0
+			for i := range out {
+				out[i] = math.NaN()
+				for _, c := range cs {
+					if v := c.vals[i]; !math.IsNaN(v) {
+						out[i] = v
+						qs += c.q
+						qn++
+						break
+					}
+				}
+			}
+			if qn > 0 {
+				qual[l] = qs / float64(qn)
+			}
+			for _, c := range cs[1:] {
+				if d, m := disagreement(cs[0].vals, c.vals); m > int(o.SampleRate) && d > 0.1 {
+					warn = append(warn, fmt.Sprintf("lead %v: its two printed copies differ by %.2f mV RMS", l, d))
+				}
+			}
+			rec.Set(ecg.Signal{Lead: l, SampleRate: o.SampleRate, Start: 0, Samples: out})
+		}
+		return rec, qual, warn
+	}
+	layoutNames := func(l *Layout) func(row, col int) (ecg.Lead, bool) {
+		return func(row, col int) (ecg.Lead, bool) {
+			c := l.Rows[row].Cells[col]
+			return c.Lead, c.Negated
+		}
+	}
+	rec, qual, dupWarn := build(layoutNames(lay))
+	limb, limbOK := ecg.CheckLimb(&rec)
+	if detected && lay.Name == "3x4" || detected && lay.Name == "3x4+1" || detected && lay.Name == "3x4+3" {
+		// The Cabrera order is indistinguishable from the standard one
+		// without labels; keep the assignment with the smaller
+		// Einthoven/Goldberger residual.
+		cab := cabreraOf(lay)
+		crec, cqual, cwarn := build(layoutNames(cab))
+		if cl, ok := ecg.CheckLimb(&crec); ok && limbOK && cl.ResidualUV < 0.6*limb.ResidualUV {
+			rec, qual, limb, lay, dupWarn = crec, cqual, cl, cab, cwarn
+			for i := range all {
+				c := cab.Rows[all[i].p.Row].Cells[all[i].p.Col]
+				all[i].p.Lead, all[i].p.Negated = c.Lead, c.Negated
+			}
+			res.Warnings = append(res.Warnings, "limb leads assigned in the Cabrera order (smaller Einthoven/Goldberger residual)")
+		}
+	}
+	res.Warnings = append(res.Warnings, dupWarn...)
+	res.Record, res.Quality, res.Layout = rec, qual, *lay
+	for _, tp := range all {
+		res.Panels = append(res.Panels, tp.p)
+	}
+	if limbOK {
+		res.Limb = limb
+	}
+	res.Flagged = flagLeads(res, limbOK)
+
+	// Leads the layout promised but that were not found.
+	var errs []error
+	seen := map[ecg.Lead]bool{}
+	for _, r := range lay.Rows {
+		for _, c := range r.Cells {
+			if seen[c.Lead] {
+				continue
+			}
+			seen[c.Lead] = true
+			if rec.Signal(c.Lead) == nil {
+				errs = append(errs, &LeadError{Lead: c.Lead, Err: errors.New("no trace found")})
+			}
+		}
+	}
+	if len(rec.Signals) == 0 {
+		return res, fmt.Errorf("trace: extract: no lead could be followed: %w", ecg.ErrNoECG)
+	}
+	if len(errs) > 0 {
+		return res, fmt.Errorf("trace: extract: %w", errors.Join(append([]error{ecg.ErrPartial}, errs...)...))
+	}
+	return res, nil
+}
+
+
+// cabreraOf returns the Cabrera counterpart of a standard 3 × 4 layout: the
+// six limb positions hold aVL, I, −aVR (first column) and II, aVF, III
+// (second column).
+func cabreraOf(l *Layout) *Layout {
+	c := &Layout{Name: "cabrera-" + l.Name}
+	cab := [3][2]Cell{{{Lead: ecg.LeadAVL}, {Lead: ecg.LeadII}}, {{Lead: ecg.LeadI}, {Lead: ecg.LeadAVF}}, {{Lead: ecg.LeadAVR, Negated: true}, {Lead: ecg.LeadIII}}}
+	for ri, r := range l.Rows {
+		nr := Row{Rhythm: r.Rhythm, Cells: append([]Cell(nil), r.Cells...)}
+		if ri < 3 && !r.Rhythm && len(nr.Cells) >= 2 {
+			for ci := 0; ci < 2; ci++ {
+				nr.Cells[ci].Lead, nr.Cells[ci].Negated = cab[ri][ci].Lead, cab[ri][ci].Negated
+			}
+		}
+		c.Rows = append(c.Rows, nr)
+	}
+	return c
+}
+
+// bandAround is how far above and below its baseline a row's search band
+// reaches, px: most of the way to the neighbouring rows, so tall
+// complexes fit, and 20 mm at the page's top and bottom rows.
+func bandAround(rows []rowInfo, i int, pxY float64) (up, down float64) {
+	up, down = 20*pxY, 20*pxY
+	if i > 0 {
+		up = 0.8 * (rows[i].baseY - rows[i-1].baseY)
+	}
+	if i+1 < len(rows) {
+		down = 0.8 * (rows[i+1].baseY - rows[i].baseY)
+	}
+	if i == 0 && i+1 < len(rows) {
+		up = math.Max(up, down)
+	}
+	if i == len(rows)-1 && i > 0 {
+		down = math.Max(down, up)
+	}
+	return up, down
+}
+
+// alignStarts snaps the trace starts of rows without a calibration pulse
+// to the common start of the rows that have one: standard pages start all
+// rows at the same paper position.
+func alignStarts(rows []rowInfo, pxX float64) {
+	var xs []float64
+	for _, r := range rows {
+		if r.hasPulse {
+			xs = append(xs, r.traceX0)
+		}
+	}
+	if len(xs) == 0 {
+		return
+	}
+	sort.Float64s(xs)
+	med := xs[len(xs)/2]
+	for i := range rows {
+		r := &rows[i]
+		if !r.hasPulse && math.Abs(r.traceX0-med) < 15*pxX {
+			r.traceX0 = med
+		}
+		if r.hasPulse && math.Abs(r.traceX0-med) < 1.0*pxX {
+			r.traceX0 = med
+		}
+	}
+}
+
+// matchRows keeps the want best rows (by coverage) in top-to-bottom order
+// when more rows were found than the layout has.
+func matchRows(rows []rowInfo, want int, warn *[]string) []rowInfo {
+	if len(rows) < want {
+		*warn = append(*warn, fmt.Sprintf("found %d trace rows, layout has %d", len(rows), want))
+		return rows
+	}
+	if len(rows) == want {
+		return rows
+	}
+	*warn = append(*warn, fmt.Sprintf("found %d trace rows, layout has %d; using the %d most complete", len(rows), want, want))
+	idx := make([]int, len(rows))
+	for i := range idx {
+		idx[i] = i
+	}
+	sort.SliceStable(idx, func(a, b int) bool {
+		ra, rb := rows[idx[a]], rows[idx[b]]
+		return ra.score*float64(ra.x1-ra.x0) > rb.score*float64(rb.x1-rb.x0)
+	})
+	idx = idx[:want]
+	sort.Ints(idx)
+	out := make([]rowInfo, 0, want)
+	for _, i := range idx {
+		out = append(out, rows[i])
+	}
+	return out
+}
+
+// isoelectric estimates a row's 0 mV level as the most frequent y of its
+// paths (the flat stretches between complexes), px.
+func isoelectric(paths [][]Point) float64 {
+	hist := map[int]int{}
+	n := 0
+	for _, p := range paths {
+		for _, q := range p {
+			hist[int(math.Round(q.Y))]++
+			n++
+		}
+	}
+	if n == 0 {
+		return math.NaN()
+	}
+	best, bestN := 0, -1
+	for y := range hist {
+		c := hist[y-1] + 2*hist[y] + hist[y+1]
+		if c > bestN || c == bestN && y < best {
+			best, bestN = y, c
+		}
+	}
+	// Refine: mean of the points within ±1 px of the mode.
+	s, m := 0.0, 0
+	for _, p := range paths {
+		for _, q := range p {
+			if math.Abs(q.Y-float64(best)) <= 1.5 {
+				s += q.Y
+				m++
+			}
+		}
+	}
+	if m == 0 {
+		return float64(best)
+	}
+	return s / float64(m)
+}
+
+// sampleRow resamples a panel's path onto the record grid t = k/fs over
+// [t0, t1), with the panel's left edge at x = xStart px. Samples farther
+// than 1 mm from any path point, or inside a gap of the path longer than
+// 4 mm, are NaN.
+func sampleRow(pts []Point, xStart, t0, t1 float64, cal grid.Calibration, zeroY, fs float64, n int) []float64 {
+	out := make([]float64, n)
+	for i := range out {
+		out[i] = math.NaN()
+	}
+	if len(pts) == 0 {
+		return out
+	}
+	pxX := cal.PxPerMMX.V
+	pxPerS := cal.SpeedMMPerS.V * pxX
+	edge := 1 * pxX
+	maxGap := 4 * pxX
+	k0 := max(0, int(math.Ceil(t0*fs-1e-9)))
+	j := 0
+	for k := k0; k < n; k++ {
+		t := float64(k) / fs
+		if t >= t1-1e-9 {
+			break
+		}
+		x := xStart + (t-t0)*pxPerS
+		for j+1 < len(pts) && pts[j+1].X <= x {
+			j++
+		}
+		var y float64
+		switch {
+		case x < pts[0].X:
+			if pts[0].X-x > edge {
+				continue
+			}
+			y = pts[0].Y
+		case j+1 >= len(pts):
+			if x-pts[len(pts)-1].X > edge {
+				continue
+			}
+			y = pts[len(pts)-1].Y
+		default:
+			a, b := pts[j], pts[j+1]
+			if b.X-a.X > maxGap {
+				continue
+			}
+			f := 0.0
+			if b.X > a.X {
+				f = (x - a.X) / (b.X - a.X)
+			}
+			y = a.Y + f*(b.Y-a.Y)
+		}
+		out[k] = cal.Millivolts(y - zeroY)
+	}
+	return out
+}
+
+// flagLeads lists leads whose quality is poor or whose limb residual is
+// far above the others'.
+func flagLeads(res *Result, limbOK bool) []ecg.Lead {
+	flag := map[ecg.Lead]bool{}
+	for l, q := range res.Quality {
+		if q < 0.5 {
+			flag[l] = true
+		}
+	}
+	if limbOK && len(res.Limb.PerLeadUV) >= 3 {
+		var vs []float64
+		for _, v := range res.Limb.PerLeadUV {
+			vs = append(vs, v)
+		}
+		sort.Float64s(vs)
+		med := vs[len(vs)/2]
+		for l, v := range res.Limb.PerLeadUV {
+			if v > 3*med && v > 60 {
+				flag[l] = true
+				res.Warnings = append(res.Warnings, fmt.Sprintf("lead %v: limb-lead residual %.0f µV, %.1f× the median", l, v, v/med))
+			}
+		}
+	}
+	var out []ecg.Lead
+	for l := range flag {
+		out = append(out, l)
+	}
+	sort.Slice(out, func(i, j int) bool { return out[i] < out[j] })
+	return out
+}
+
+// disagreement is the RMS difference of two copies of a lead over the
+// samples both cover, after removing each copy's mean there, mV; m is the
+// number of such samples.
+func disagreement(a, b []float64) (rms float64, m int) {
+	var sa, sb float64
+	for i := range a {
+		if !math.IsNaN(a[i]) && !math.IsNaN(b[i]) {
+			sa += a[i]
+			sb += b[i]
+			m++
+		}
+	}
+	if m == 0 {
+		return 0, 0
+	}
+	ma, mb := sa/float64(m), sb/float64(m)
+	var ss float64
+	for i := range a {
+		if !math.IsNaN(a[i]) && !math.IsNaN(b[i]) {
+			d := (a[i] - ma) - (b[i] - mb)
+			ss += d * d
+		}
+	}
+	return math.Sqrt(ss / float64(m)), m
+}
+
+// alignToTicks moves the rows' common trace start so that the printed
+// column separators fall on the layout's column boundaries: one page-wide
+// shift, the median of the ticks' offsets, applied when at least two
+// ticks agree within 4 mm.
+func alignToTicks(rows []rowInfo, lay *Layout, cal grid.Calibration) {
+	pxX := cal.PxPerMMX.V
+	pxPerS := cal.SpeedMMPerS.V * pxX
+	var ds []float64
+	for ri, lr := range lay.Rows {
+		if ri >= len(rows) || len(lr.Cells) < 2 {
+			continue
+		}
+		r := rows[ri]
+		for _, tk := range r.ticks {
+			x := r.traceX0
+			for _, c := range lr.Cells[:len(lr.Cells)-1] {
+				x += (c.T1S - c.T0S) * pxPerS
+				if d := float64(tk) - x; math.Abs(d) < 4*pxX {
+					ds = append(ds, d)
+				}
+			}
+		}
+	}
+	if len(ds) < 2 {
+		return
+	}
+	sort.Float64s(ds)
+	med := ds[len(ds)/2]
+	for i := range rows {
+		rows[i].traceX0 += med
+	}
+}

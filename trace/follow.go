@@ -1,0 +1,383 @@
+package trace
+
+import (
+	"image"
+	"math"
+	"sort"
+)
+
+// Point is a position on the page image, px (x right, y down).
+type Point struct{ X, Y float64 }
+
+// inkThreshold is the ink-map value from which a pixel counts as ink.
+const inkThreshold = 96
+
+// run is a vertical run of ink pixels in one image column.
+type run struct {
+	top, bot int32   // first and last ink row, inclusive
+	w, wy    float32 // sum of ink values and of ink·y, for the sub-pixel centre
+}
+
+func (r run) centre() float64 {
+	if r.w <= 0 {
+		return float64(r.top+r.bot) / 2
+	}
+	return float64(r.wy / r.w)
+}
+
+// columnRuns holds the runs of a rectangle of an ink map, column by column.
+type columnRuns struct {
+	x0   int
+	runs []run
+	off  []int32 // runs of column c are runs[off[c]:off[c+1]]
+	// scratch
+	open  []int32
+	acc   []run
+	count []int32
+}
+
+// scan collects the ink runs of ink inside r, reusing buffers.
+func (cr *columnRuns) scan(ink *image.Gray, r image.Rectangle) {
+	r = r.Intersect(ink.Rect)
+	w := r.Dx()
+	cr.x0 = r.Min.X
+	cr.runs = cr.runs[:0]
+	cr.open = grow(cr.open, w)
+	cr.acc = growRuns(cr.acc, w)
+	for i := range cr.open[:w] {
+		cr.open[i] = -1
+	}
+	cols := make([]int32, 0, 256)
+	for y := r.Min.Y; y < r.Max.Y; y++ {
+		row := ink.Pix[(y-ink.Rect.Min.Y)*ink.Stride+(r.Min.X-ink.Rect.Min.X):]
+		for i := 0; i < w; i++ {
+			v := row[i]
+			if v >= inkThreshold {
+				if cr.open[i] < 0 {
+					cr.open[i] = int32(y)
+					cr.acc[i] = run{top: int32(y)}
+				}
+				a := &cr.acc[i]
+				a.bot = int32(y)
+				a.w += float32(v)
+				a.wy += float32(v) * float32(y)
+			} else if cr.open[i] >= 0 {
+				cr.open[i] = -1
+				cr.runs = append(cr.runs, cr.acc[i])
+				cols = append(cols, int32(i))
+			}
+		}
+	}
+	for i := 0; i < w; i++ {
+		if cr.open[i] >= 0 {
+			cr.runs = append(cr.runs, cr.acc[i])
+			cols = append(cols, int32(i))
+		}
+	}
+	// Bucket the runs by column (counting sort, stable: top to bottom).
+	cr.count = grow(cr.count, w+1)
+	for i := range cr.count[:w+1] {
+		cr.count[i] = 0
+	}
+	for _, c := range cols {
+		cr.count[c+1]++
+	}
+	for i := 1; i <= w; i++ {
+		cr.count[i] += cr.count[i-1]
+	}
+	cr.off = append(cr.off[:0], cr.count[:w+1]...)
+	sorted := make([]run, len(cr.runs))
+	pos := append([]int32(nil), cr.count[:w]...)
+	for k, c := range cols {
+		sorted[pos[c]] = cr.runs[k]
+		pos[c]++
+	}
+	cr.runs = sorted
+}
+
+func (cr *columnRuns) width() int { return len(cr.off) - 1 }
+
+func (cr *columnRuns) col(c int) []run { return cr.runs[cr.off[c]:cr.off[c+1]] }
+
+func grow(s []int32, n int) []int32 {
+	if cap(s) < n {
+		return make([]int32, n)
+	}
+	return s[:n]
+}
+
+func growRuns(s []run, n int) []run {
+	if cap(s) < n {
+		return make([]run, n)
+	}
+	return s[:n]
+}
+
+// followParams tunes the path finder. Costs are in units of "one
+// millimetre of vertical jump".
+type followParams struct {
+	pxPerMM   float64 // vertical px per mm
+	baseline  float64 // y of the panel's baseline, px
+	gapCost   float64 // cost of a column without ink on the path
+	basePerMM float64 // cost per mm of distance from the baseline, per column
+	maxStates int     // runs kept per column (nearest the baseline)
+	carries   int     // gap states carried from one column to the next
+}
+
+func defaultFollow(pxPerMM, baseline float64) followParams {
+	return followParams{pxPerMM: pxPerMM, baseline: baseline, gapCost: 0.6, basePerMM: 0.01, maxStates: 24, carries: 3}
+}
+
+// state is one node of the trellis: a run of column c or a gap state
+// carrying the last interval across a column without ink on the path.
+type state struct {
+	top, bot float32
+	cost     float32
+	back     int32 // index of the predecessor state, -1 at the first column
+	run      int32 // index into columnRuns.runs, -1 for a gap state
+}
+
+// pathResult is the outcome of following one panel.
+type pathResult struct {
+	points   []Point
+	onInk    int     // columns whose path state is an ink run
+	cols     int     // columns in the panel
+	meanJump float64 // mean vertical jump between consecutive ink states, mm
+	penPx    float64 // estimated pen width, px
+}
+
+// follow finds the globally cheapest path through the runs of cr, column
+// by column (Viterbi 1967; Forney 1973), and turns it into a polyline that
+// keeps the extent of steep strokes: per column the run on the path is
+// represented by its centre when it is as thin as the pen, and by its ends
+// when it is tall (the pen went to the top or bottom of the run and back,
+// or passed through it).
+func follow(cr *columnRuns, p followParams) pathResult {
+	W := cr.width()
+	res := pathResult{cols: W}
+	if W <= 0 {
+		return res
+	}
+	pen := penWidth(cr)
+	res.penPx = pen
+	jumpW := 1 / p.pxPerMM // cost per px of jump
+	baseW := p.basePerMM / p.pxPerMM
+	states := make([]state, 0, W*6)
+	off := make([]int32, W+1)
+	prevLo, prevHi := 0, 0
+	idx := make([]int, 0, 64)
+	for c := 0; c < W; c++ {
+		off[c] = int32(len(states))
+		runs := cr.col(c)
+		idx = idx[:0]
+		for k := range runs {
+			idx = append(idx, k)
+		}
+		if len(idx) > p.maxStates {
+			sort.Slice(idx, func(a, b int) bool {
+				return distToBase(runs[idx[a]], p.baseline) < distToBase(runs[idx[b]], p.baseline)
+			})
+			idx = idx[:p.maxStates]
+		}
+		for _, k := range idx {
+			r := runs[k]
+			s := state{top: float32(r.top), bot: float32(r.bot), back: -1, run: cr.off[c] + int32(k)}
+			unary := float32(baseW * distToBase(r, p.baseline))
+			if c == 0 {
+				s.cost = unary
+			} else {
+				best := float32(math.Inf(1))
+				for j := prevLo; j < prevHi; j++ {
+					q := &states[j]
+					gap := float32(0)
+					if s.top > q.bot+1 {
+						gap = s.top - q.bot - 1
+					} else if q.top > s.bot+1 {
+						gap = q.top - s.bot - 1
+					}
+					v := q.cost + gap*float32(jumpW)
+					if v < best {
+						best, s.back = v, int32(j)
+					}
+				}
+				s.cost = best + unary
+			}
+			states = append(states, s)
+		}
+		// Gap states: carry the cheapest previous states across this column.
+		if c > 0 {
+			nc := 0
+			for nc < p.carries {
+				bj := -1
+				for j := prevLo; j < prevHi; j++ {
+					if states[j].cost >= 0 && (bj < 0 || states[j].cost < states[bj].cost) {
+						bj = j
+					}
+				}
+				if bj < 0 {
+					break
+				}
+				q := states[bj]
+				states[bj].cost = -1 - states[bj].cost // mark taken; restored below
+				states = append(states, state{top: q.top, bot: q.bot, cost: q.cost + float32(p.gapCost), back: int32(bj), run: -1})
+				nc++
+			}
+			for j := prevLo; j < prevHi; j++ {
+				if states[j].cost < 0 {
+					states[j].cost = -1 - states[j].cost
+				}
+			}
+		} else if len(states) == 0 {
+			states = append(states, state{top: float32(p.baseline), bot: float32(p.baseline), cost: float32(p.gapCost), back: -1, run: -1})
+		}
+		prevLo, prevHi = int(off[c]), len(states)
+	}
+	off[W] = int32(len(states))
+	// Backtrack.
+	bj := -1
+	for j := prevLo; j < prevHi; j++ {
+		if bj < 0 || states[j].cost < states[bj].cost {
+			bj = j
+		}
+	}
+	path := make([]int32, W)
+	for c := W - 1; c >= 0; c-- {
+		path[c] = int32(bj)
+		if bj >= 0 {
+			bj = int(states[bj].back)
+		}
+	}
+	res.points = pathPoints(cr, states, path, pen, &res)
+	return res
+}
+
+func distToBase(r run, b float64) float64 {
+	switch {
+	case float64(r.bot) < b:
+		return b - float64(r.bot)
+	case float64(r.top) > b:
+		return float64(r.top) - b
+	}
+	return 0
+}
+
+// penWidth estimates the trace's pen width as the median run height, px.
+func penWidth(cr *columnRuns) float64 {
+	if len(cr.runs) == 0 {
+		return 1
+	}
+	var hist [64]int
+	for _, r := range cr.runs {
+		h := int(r.bot - r.top + 1)
+		if h >= len(hist) {
+			h = len(hist) - 1
+		}
+		hist[h]++
+	}
+	half, acc := len(cr.runs)/2, 0
+	for h, n := range hist {
+		acc += n
+		if acc > half {
+			return float64(max(h, 1))
+		}
+	}
+	return 1
+}
+
+// pathPoints turns the state path into a polyline in image coordinates.
+func pathPoints(cr *columnRuns, states []state, path []int32, pen float64, res *pathResult) []Point {
+	W := len(path)
+	pts := make([]Point, 0, W+W/4)
+	hw := (pen - 1) / 2
+	thin := pen*1.6 + 1
+	tol := float32(hw + 1)
+	iv := func(c int) (float32, float32, bool) {
+		if c < 0 || c >= W || path[c] < 0 {
+			return 0, 0, false
+		}
+		s := states[path[c]]
+		return s.top, s.bot, true
+	}
+	var jumpSum float64
+	var jumpN int
+	for c := 0; c < W; c++ {
+		if path[c] < 0 {
+			continue
+		}
+		s := states[path[c]]
+		if s.run < 0 {
+			continue
+		}
+		res.onInk++
+		if pt, pb, ok := iv(c - 1); ok {
+			gap := 0.0
+			if s.top > pb+1 {
+				gap = float64(s.top - pb - 1)
+			} else if pt > s.bot+1 {
+				gap = float64(pt - s.bot - 1)
+			}
+			jumpSum += gap
+			jumpN++
+		}
+		r := cr.runs[s.run]
+		x := float64(cr.x0 + c)
+		h := float64(r.bot - r.top + 1)
+		if h <= thin {
+			pts = append(pts, Point{x, r.centre()})
+			continue
+		}
+		top, bot := float64(r.top)+hw, float64(r.bot)-hw
+		pt, pb, okp := iv(c - 1)
+		nt, nb, okn := iv(c + 1)
+		if !okp && !okn {
+			pts = append(pts, Point{x, r.centre()})
+			continue
+		}
+		if !okp {
+			pt, pb = nt, nb
+		}
+		if !okn {
+			nt, nb = pt, pb
+		}
+		up := s.top < min(pt, nt)-tol
+		down := s.bot > max(pb, nb)+tol
+		pc, nc := (pt+pb)/2, (nt+nb)/2
+		switch {
+		case up && down:
+			if pb-pt <= float32(thin) && nb-nt <= float32(thin) && absf(pc-nc) <= float32(pen)*2 {
+				// A thin trace on both sides: something crossed the trace
+				// here (a mark, a tick); keep the trace's level.
+				pts = append(pts, Point{x, float64(pc+nc) / 2})
+				continue
+			}
+			if absf(pc-s.top) < absf(pc-s.bot) {
+				pts = append(pts, Point{x - 0.25, top}, Point{x + 0.25, bot})
+			} else {
+				pts = append(pts, Point{x - 0.25, bot}, Point{x + 0.25, top})
+			}
+		case up:
+			pts = append(pts, Point{x, top})
+		case down:
+			pts = append(pts, Point{x, bot})
+		default:
+			// The pen passed through: enter at the end nearer the previous
+			// column, leave at the end nearer the next.
+			if absf(pc-s.top) < absf(pc-s.bot) {
+				pts = append(pts, Point{x - 0.25, top}, Point{x + 0.25, bot})
+			} else {
+				pts = append(pts, Point{x - 0.25, bot}, Point{x + 0.25, top})
+			}
+		}
+	}
+	if jumpN > 0 {
+		res.meanJump = jumpSum / float64(jumpN) / 1 // px; converted by caller
+	}
+	return pts
+}
+
+func absf(v float32) float32 {
+	if v < 0 {
+		return -v
+	}
+	return v
+}
