@@ -22,7 +22,7 @@ func TestPlot(t *testing.T) {
 	}
 	for name, p := range map[string]Params{
 		"default": Default(),
-		"ectopic": func() Params { q := Default(); q.EctopicRate = 0.2; q.HRVStdMS = 40; return q }(),
+		"ectopic": func() Params { q := Default(); q.EctopicRate = 0.3; q.HRVStdMS = 40; return q }(),
 		"noisy": func() Params {
 			q := Default()
 			q.NoiseMV = 0.03
@@ -31,7 +31,7 @@ func TestPlot(t *testing.T) {
 			return q
 		}(),
 	} {
-		rec, err := Generate(p, 7)
+		rec, err := Generate(p, 8)
 		if err != nil {
 			t.Fatal(err)
 		}
