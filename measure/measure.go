@@ -1,0 +1,518 @@
+package measure
+
+import (
+	"fmt"
+	"math"
+	"slices"
+
+	"tracelift/ecg"
+)
+
+// Measure detects the beats of rec, builds a median beat per lead from the
+// dominant beats, delineates P, QRS and T on each, and reports global
+// intervals, QTc, frontal axes, per-lead amplitudes, voltage criteria, a
+// per-beat table and flags against common adult reference ranges.
+//
+// Leads need not be simultaneous: on a 3 × 4 page each short lead covers
+// only its 2.5 s column and is NaN elsewhere. Every lead's median beat is
+// aligned on the same beat fiducials (refined on the lead that covers most
+// of the record, normally the rhythm strip), so all leads' boundaries are
+// on one time frame relative to the QRS fiducial, and global intervals
+// take the earliest onset and latest offset over all leads after dropping
+// outlying leads (see combine). This treats the dominant beats of
+// different columns as one morphology, which is the premise of a median
+// beat.
+//
+// Errors wrap ecg.ErrNoECG when the record has no samples or fewer than two
+// beats are found.
+func Measure(rec ecg.Record, opt *Options) (*Report, error) {
+	o := opt.withDefaults()
+	f, err := newFrame(&rec, o.Leads)
+	if err != nil {
+		return nil, fmt.Errorf("measure: %w", err)
+	}
+	idx := detect(f, &o)
+	if len(idx) < 2 {
+		return nil, fmt.Errorf("measure: %d beats found, need at least 2: %w", len(idx), ecg.ErrNoECG)
+	}
+	cls := classify(f, idx, &o)
+	cond := condition(f, &o)
+	rep := &Report{Caution: Caution, QTcMS: map[string]float64{}, Flags: []Flag{}, Warnings: []string{}, Leads: []LeadMeasures{}}
+	fs := f.fs
+	ms := func(samples float64) float64 { return samples / fs * 1000 }
+
+	// Rhythm.
+	var rr, nn []float64
+	for i := 1; i < len(idx); i++ {
+		v := ms(float64(idx[i] - idx[i-1]))
+		rr = append(rr, v)
+		if cls[i] == ecg.BeatNormal && cls[i-1] == ecg.BeatNormal {
+			nn = append(nn, v)
+		}
+	}
+	meanRR, sdRR := meanSD(rr)
+	rep.RRMS, rep.RRSDMS = round(meanRR, 1), round(sdRR, 1)
+	rep.HeartRateBPM = round(HeartRate(meanRR), 1)
+	if len(nn) >= 2 {
+		s := 0.0
+		for i := 1; i < len(nn); i++ {
+			d := nn[i] - nn[i-1]
+			s += d * d
+		}
+		rep.RMSSDMS = round(math.Sqrt(s/float64(len(nn)-1)), 1)
+	} else {
+		rep.RMSSDMS = NaN()
+	}
+	if len(nn) == 0 {
+		nn = slices.Clone(rr)
+	}
+	rrDom := median(slices.Clone(nn)) / 1000 // s
+
+	// Dominant beats, aligned.
+	var dom []int
+	for i, c := range cls {
+		if c == ecg.BeatNormal {
+			dom = append(dom, idx[i])
+		}
+	}
+	if len(dom) < max(2, len(idx)/5) {
+		dom = slices.Clone(idx)
+		rep.Warnings = append(rep.Warnings, "no dominant beat class: the median beat mixes all beats")
+	}
+	dom = align(cond, dom, &o)
+
+	S := func(s float64) int { return int(math.Round(s * fs)) }
+	pre := S(math.Min(0.42, math.Max(0.22, 0.6*rrDom)))
+	post := S(math.Min(0.74, math.Max(0.36, 0.8*rrDom)))
+	tmpl := templates(cond, dom, pre, post, o.MaxTemplateBeats)
+	d := newDelineator(fs, defaultDelin)
+	lw := make([]waves, len(f.leads))
+	for k := range f.leads {
+		lw[k] = d.delineate(tmpl[k], pre, rrDom, true, true)
+	}
+	g := combineLeads(lw, fs)
+	rel := func(i float64) Num { return round(ms(i-float64(pre)), 1) }
+	if g.ok {
+		rep.QRSMS = round(ms(g.qrsOff-g.qrsOn), 1)
+		rep.QTMS = round(ms(g.tEnd-g.qrsOn), 1)
+		rep.PRMS = round(ms(g.qrsOn-g.pOn), 1)
+		rep.PMS = round(ms(g.pOff-g.pOn), 1)
+	} else {
+		rep.QRSMS, rep.QTMS, rep.PRMS, rep.PMS = NaN(), NaN(), NaN(), NaN()
+		rep.Warnings = append(rep.Warnings, "no lead's median beat could be delineated")
+	}
+	if rep.QTMS.Valid() && rrDom > 0 {
+		for _, k := range qtcNames {
+			rep.QTcMS[k] = float64(round(QTc(k, float64(rep.QTMS), rrDom*1000), 1))
+		}
+	}
+	if g.ok && !rep.PMS.Valid() {
+		rep.Warnings = append(rep.Warnings, "no P waves found (atrial fibrillation or flutter, junctional or paced rhythm, or a noisy tracing)")
+	}
+
+	// Per-lead amplitudes on the median beats, against the PR-segment level
+	// just before the global QRS onset.
+	amps := make(map[ecg.Lead]LeadMeasures)
+	for k, l := range f.leads {
+		lm := leadAmplitudes(tmpl[k], g, fs)
+		lm.Lead = l.String()
+		lm.Beats = coverage(cond.x[k], dom)
+		w := lw[k]
+		lm.POnMS, lm.POffMS = rel(w.pOn), rel(w.pOff)
+		lm.QRSOnMS, lm.QRSOffMS = rel(w.qrsOn), rel(w.qrsOff)
+		lm.TPeakMS, lm.TEndMS = rel(w.tPeak), rel(w.tEnd)
+		rep.Leads = append(rep.Leads, lm)
+		amps[l] = lm
+	}
+	rep.Axes = axes(f, tmpl, g, fs)
+	if v1, ok := amps[ecg.LeadV1]; ok && v1.SMV.Valid() {
+		r5, r6 := amps[ecg.LeadV5].RMV, amps[ecg.LeadV6].RMV
+		_, ok5 := amps[ecg.LeadV5]
+		_, ok6 := amps[ecg.LeadV6]
+		if ok5 || ok6 {
+			m := math.Inf(-1)
+			if ok5 && r5.Valid() {
+				m = float64(r5)
+			}
+			if ok6 && r6.Valid() {
+				m = math.Max(m, float64(r6))
+			}
+			if !math.IsInf(m, -1) {
+				v := float64(round(-float64(v1.SMV)+m, 3))
+				rep.SokolowLyonMV = &v
+			}
+		}
+	}
+	if avl, ok := amps[ecg.LeadAVL]; ok && avl.RMV.Valid() {
+		if v3, ok := amps[ecg.LeadV3]; ok && v3.SMV.Valid() {
+			v := float64(round(float64(avl.RMV)-float64(v3.SMV), 3))
+			rep.CornellMV = &v
+		}
+	}
+
+	// Per-beat table.
+	if !o.NoBeatTable {
+		rep.Beats = beatTable(f, cond, idx, cls, d)
+	} else {
+		rep.Beats = []Beat{}
+	}
+	rep.Flags = flags(rep, &o)
+	if n := len(idx) - len(dom); n > 0 {
+		counts := map[ecg.BeatClass]int{}
+		for _, c := range cls {
+			counts[c]++
+		}
+		rep.Warnings = append(rep.Warnings, fmt.Sprintf("%d of %d beats are not dominant (V %d, A %d, Q %d) and were left out of the median beat",
+			n, len(idx), counts[ecg.BeatVentricular], counts[ecg.BeatAtrial], counts[ecg.BeatUnknown]))
+	}
+	return rep, nil
+}
+
+// condition returns f's leads high-passed at o.HighPassHz and low-passed at
+// o.LowPassHz (2nd-order Butterworth sections run forward and backward:
+// zero phase), each contiguous run of samples separately.
+func condition(f *frame, o *Options) *frame {
+	c := &frame{fs: f.fs, t0: f.t0, n: f.n, leads: f.leads, x: make([][]float64, len(f.x))}
+	hp, lp := butterHigh(o.HighPassHz, f.fs), butterLow(o.LowPassHz, f.fs)
+	for k, x := range f.x {
+		c.x[k] = bandFilter(nil, x, f.fs, 1.0, 0.3, hp, lp)
+	}
+	return c
+}
+
+// align refines each beat fiducial by up to ±20 ms to best match the QRS
+// template (±60 ms) of the reference lead — the lead recorded over most of
+// the record — or, where that lead is absent, the sum of the matches of
+// the leads present.
+func align(f *frame, idx []int, o *Options) []int {
+	h := int(0.06 * f.fs)
+	sh := int(0.02 * f.fs)
+	tmpl := templates(f, idx, h, h, o.MaxTemplateBeats)
+	ref, refN := -1, 0
+	for k, x := range f.x {
+		n := 0
+		for _, v := range x {
+			if !math.IsNaN(v) {
+				n++
+			}
+		}
+		if n > refN || (n == refN && f.leads[k] == ecg.LeadII) {
+			ref, refN = k, n
+		}
+	}
+	covered := func(k, r int) bool {
+		if r-h-sh < 0 || r+h+sh >= f.n {
+			return false
+		}
+		x := f.x[k]
+		return !math.IsNaN(x[r-h-sh]) && !math.IsNaN(x[r+h+sh]) && !math.IsNaN(x[r])
+	}
+	out := make([]int, len(idx))
+	var use []int
+	for i, r := range idx {
+		out[i] = r
+		use = use[:0]
+		if ref >= 0 && covered(ref, r) {
+			use = append(use, ref)
+		} else {
+			for k := range f.x {
+				if covered(k, r) {
+					use = append(use, k)
+				}
+			}
+		}
+		if len(use) == 0 {
+			continue
+		}
+		best, bd := math.Inf(-1), 0
+		for dlt := -sh; dlt <= sh; dlt++ {
+			s := 0.0
+			for _, k := range use {
+				c := pearson(f.x[k][r+dlt-h:r+dlt+h+1], tmpl[k])
+				if !math.IsNaN(c) {
+					s += c
+				}
+			}
+			if s > best {
+				best, bd = s, dlt
+			}
+		}
+		out[i] = r + bd
+	}
+	return out
+}
+
+// coverage counts the beats whose fiducial sample is recorded in x.
+func coverage(x []float64, idx []int) int {
+	n := 0
+	for _, r := range idx {
+		if r >= 0 && r < len(x) && !math.IsNaN(x[r]) {
+			n++
+		}
+	}
+	return n
+}
+
+// combineLeads merges per-lead waves of simultaneous (or aligned) leads
+// into global boundaries (sample positions on the shared frame): the
+// earliest onset and latest offset over the leads, CSE/AHA style, after
+// leaving out leads whose value lies further than a tolerance from the
+// median over leads (40 ms for QRS, 60 ms for P, 80 ms for T end) — one
+// badly delineated lead would otherwise set the global value. P counts as
+// present when found in at least a third of the leads with a QRS.
+func combineLeads(ws []waves, fs float64) waves {
+	g := noWaves()
+	var nq int
+	for _, w := range ws {
+		if w.ok {
+			nq++
+		}
+	}
+	if nq == 0 {
+		return g
+	}
+	g.ok = true
+	pick := func(get func(w waves) float64, tolS float64, earliest bool, minN int) float64 {
+		var v []float64
+		for _, w := range ws {
+			if x := get(w); w.ok && !math.IsNaN(x) {
+				v = append(v, x)
+			}
+		}
+		if len(v) < minN || len(v) == 0 {
+			return math.NaN()
+		}
+		m := median(slices.Clone(v))
+		best := math.NaN()
+		for _, x := range v {
+			if math.Abs(x-m) > tolS*fs {
+				continue
+			}
+			if math.IsNaN(best) || (earliest && x < best) || (!earliest && x > best) {
+				best = x
+			}
+		}
+		return best
+	}
+	g.qrsOn = pick(func(w waves) float64 { return w.qrsOn }, 0.04, true, 1)
+	g.qrsOff = pick(func(w waves) float64 { return w.qrsOff }, 0.04, false, 1)
+	g.tEnd = pick(func(w waves) float64 { return w.tEnd }, 0.08, false, 1)
+	g.tPeak = pick(func(w waves) float64 { return w.tPeak }, 0.08, false, 1)
+	pMin := max(1, (nq+2)/3)
+	g.pOn = pick(func(w waves) float64 { return w.pOn }, 0.06, true, pMin)
+	g.pOff = pick(func(w waves) float64 { return w.pOff }, 0.06, false, pMin)
+	if math.IsNaN(g.pOn) || math.IsNaN(g.pOff) || g.pOff <= g.pOn || g.pOff >= g.qrsOn {
+		g.pOn, g.pOff = math.NaN(), math.NaN()
+	}
+	return g
+}
+
+// leadAmplitudes measures one median beat x against global boundaries g.
+func leadAmplitudes(x []float64, g waves, fs float64) LeadMeasures {
+	lm := LeadMeasures{PMV: NaN(), QMV: NaN(), RMV: NaN(), SMV: NaN(), TMV: NaN(), STJMV: NaN(), STJ60MV: NaN()}
+	if !g.ok || math.IsNaN(g.qrsOn) || math.IsNaN(g.qrsOff) {
+		return lm
+	}
+	S := func(s float64) int { return int(math.Round(s * fs)) }
+	on, off := int(g.qrsOn), int(g.qrsOff)
+	base := meanRange(x, on-S(0.020), on-S(0.004))
+	if math.IsNaN(base) || off >= len(x) {
+		return lm
+	}
+	ir, rv := -1, 0.0
+	for i := on; i <= off; i++ {
+		if v := x[i] - base; v > rv {
+			ir, rv = i, v
+		}
+	}
+	lm.RMV = round(rv, 3)
+	q, s := 0.0, 0.0
+	if ir < 0 { // QS complex: the whole negative deflection counts as Q
+		for i := on; i <= off; i++ {
+			q = math.Min(q, x[i]-base)
+		}
+	} else {
+		for i := on; i < ir; i++ {
+			q = math.Min(q, x[i]-base)
+		}
+		for i := ir; i <= off; i++ {
+			s = math.Min(s, x[i]-base)
+		}
+	}
+	lm.QMV, lm.SMV = round(q, 3), round(s, 3)
+	lm.STJMV = round(at(x, off)-base, 3)
+	lm.STJ60MV = round(at(x, off+S(0.06))-base, 3)
+	if !math.IsNaN(g.tEnd) {
+		lm.TMV = round(extreme(x, off+S(0.04), int(g.tEnd), base), 3)
+	}
+	if !math.IsNaN(g.pOn) {
+		lm.PMV = round(extreme(x, int(g.pOn), int(g.pOff), base), 3)
+	}
+	return lm
+}
+
+// axes computes the frontal P, QRS and T axes from the limb leads' median
+// beats: QRS from net amplitude (largest positive + largest negative
+// deflection), P and T from the mean level over the wave (area / duration),
+// after fitting leads I and II by least squares to every limb lead present
+// (lead = a·I + b·II, Einthoven/Goldberger) so that any two limb leads
+// suffice.
+func axes(f *frame, tmpl [][]float64, g waves, fs float64) Axes {
+	ax := Axes{PDeg: NaN(), QRSDeg: NaN(), TDeg: NaN()}
+	if !g.ok || math.IsNaN(g.qrsOn) {
+		return ax
+	}
+	S := func(s float64) int { return int(math.Round(s * fs)) }
+	on, off := int(g.qrsOn), int(g.qrsOff)
+	type obs struct{ a, b, v float64 }
+	fit := func(val func(x []float64, base float64) float64) Num {
+		var os []obs
+		for k, l := range f.leads {
+			a, b, ok := ecg.FrontalCoefficients(l)
+			if !ok {
+				continue
+			}
+			x := tmpl[k]
+			base := meanRange(x, on-S(0.020), on-S(0.004))
+			if math.IsNaN(base) {
+				continue
+			}
+			if v := val(x, base); !math.IsNaN(v) {
+				os = append(os, obs{a, b, v})
+			}
+		}
+		var s11, s12, s22, b1, b2 float64
+		for _, o := range os {
+			s11 += o.a * o.a
+			s12 += o.a * o.b
+			s22 += o.b * o.b
+			b1 += o.a * o.v
+			b2 += o.b * o.v
+		}
+		det := s11*s22 - s12*s12
+		if len(os) < 2 || math.Abs(det) < 1e-9 {
+			return NaN()
+		}
+		i := (s22*b1 - s12*b2) / det
+		ii := (s11*b2 - s12*b1) / det
+		return round(FrontalAxis(i, ii-i/2), 1)
+	}
+	ax.QRSDeg = fit(func(x []float64, base float64) float64 {
+		hi, lo := 0.0, 0.0
+		for i := on; i <= off && i < len(x); i++ {
+			hi, lo = math.Max(hi, x[i]-base), math.Min(lo, x[i]-base)
+		}
+		return hi + lo
+	})
+	if !math.IsNaN(g.tEnd) {
+		ax.TDeg = fit(func(x []float64, base float64) float64 { return meanRange(x, off+S(0.04), int(g.tEnd)) - base })
+	}
+	if !math.IsNaN(g.pOn) {
+		ax.PDeg = fit(func(x []float64, base float64) float64 { return meanRange(x, int(g.pOn), int(g.pOff)) - base })
+	}
+	return ax
+}
+
+// beatTable delineates QRS and T of every beat on the leads recorded at
+// that beat and combines them like the median beats.
+func beatTable(f, cond *frame, idx []int, cls []ecg.BeatClass, d *delineator) []Beat {
+	out := make([]Beat, len(idx))
+	ws := make([]waves, 0, len(f.x))
+	fs := f.fs
+	for i, r := range idx {
+		b := Beat{RS: round6(f.time(r)), Class: string(rune(cls[i])), RRMS: NaN(),
+			QRSOnS: NaN(), QRSOffS: NaN(), TEndS: NaN(), QRSMS: NaN(), QTMS: NaN()}
+		rrS := math.NaN()
+		if i > 0 {
+			rrS = float64(r-idx[i-1]) / fs
+			b.RRMS = round(rrS*1000, 1)
+		}
+		next := math.NaN()
+		if i+1 < len(idx) {
+			next = float64(idx[i+1]-r) / fs
+		}
+		if math.IsNaN(next) {
+			next = rrS
+		}
+		ws = ws[:0]
+		for _, x := range cond.x {
+			if math.IsNaN(x[r]) {
+				continue
+			}
+			ws = append(ws, d.delineate(x, r, next, false, !math.IsNaN(next)))
+		}
+		g := combineLeads(ws, fs)
+		if g.ok && !math.IsNaN(g.qrsOn) && !math.IsNaN(g.qrsOff) {
+			b.QRSOnS = Num(round6(f.time(0) + g.qrsOn/fs))
+			b.QRSOffS = Num(round6(f.time(0) + g.qrsOff/fs))
+			b.QRSMS = round((g.qrsOff-g.qrsOn)/fs*1000, 1)
+			if !math.IsNaN(g.tEnd) {
+				b.TEndS = Num(round6(f.time(0) + g.tEnd/fs))
+				b.QTMS = round((g.tEnd-g.qrsOn)/fs*1000, 1)
+			}
+		}
+		out[i] = b
+	}
+	return out
+}
+
+func meanSD(v []float64) (mean, sd float64) {
+	if len(v) == 0 {
+		return math.NaN(), math.NaN()
+	}
+	for _, x := range v {
+		mean += x
+	}
+	mean /= float64(len(v))
+	if len(v) < 2 {
+		return mean, math.NaN()
+	}
+	for _, x := range v {
+		sd += (x - mean) * (x - mean)
+	}
+	return mean, math.Sqrt(sd / float64(len(v)-1))
+}
+
+// meanRange is the mean of x[a..b] (inclusive, clipped), NaN if empty or
+// if any sample is NaN.
+func meanRange(x []float64, a, b int) float64 {
+	a, b = max(a, 0), min(b, len(x)-1)
+	if b < a {
+		return math.NaN()
+	}
+	s := 0.0
+	for i := a; i <= b; i++ {
+		s += x[i]
+	}
+	return s / float64(b-a+1)
+}
+
+// extreme returns the value of x[a..b] − base with the largest magnitude.
+func extreme(x []float64, a, b int, base float64) float64 {
+	a, b = max(a, 0), min(b, len(x)-1)
+	best := math.NaN()
+	for i := a; i <= b; i++ {
+		v := x[i] - base
+		if math.IsNaN(best) || math.Abs(v) > math.Abs(best) {
+			best = v
+		}
+	}
+	return best
+}
+
+func at(x []float64, i int) float64 {
+	if i < 0 || i >= len(x) {
+		return math.NaN()
+	}
+	return x[i]
+}
+
+func round(v float64, dec int) Num {
+	if math.IsNaN(v) || math.IsInf(v, 0) {
+		return NaN()
+	}
+	p := math.Pow(10, float64(dec))
+	return Num(math.Round(v*p) / p)
+}
+
+func round6(v float64) float64 { return math.Round(v*1e6) / 1e6 }
