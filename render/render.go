@@ -1,0 +1,193 @@
+package render
+
+import (
+	"fmt"
+	"image"
+	"image/png"
+	"io"
+	"math"
+	"strings"
+
+	"tracelift/ecg"
+)
+
+// ScanFunc simulates scanning, faxing or photographing a page: it returns
+// the degraded image and the homography h (row-major, input px → output
+// px, pixel centres at integer coordinates) that it applied.
+type ScanFunc func(img image.Image) (out image.Image, h [9]float64, err error)
+
+// Page is a rendered page and its truth.
+type Page struct {
+	Image image.Image
+	Truth Truth
+}
+
+// WritePNG encodes the page image as PNG.
+func (p *Page) WritePNG(w io.Writer) error {
+	enc := png.Encoder{CompressionLevel: png.BestSpeed}
+	if err := enc.Encode(w, p.Image); err != nil {
+		return fmt.Errorf("render: write png: %w: %w", ecg.ErrOutput, err)
+	}
+	return nil
+}
+
+// Render prints rec on ECG paper as opt describes (nil means defaults: A4,
+// "3x4+1", 25 mm/s, 10 mm/mV, 300 dpi, red line grid) and returns the
+// page with its truth. Invalid options wrap ErrOption; a record with no
+// signals, or none of the layout's leads, wraps ecg.ErrNoECG. Render does
+// not modify rec and is safe for concurrent use with different options.
+func Render(rec ecg.Record, opt *Options) (*Page, error) {
+	o, err := resolve(&rec, opt)
+	if err != nil {
+		return nil, err
+	}
+	sh, err := plan(&rec, o)
+	if err != nil {
+		return nil, err
+	}
+	r := newRaster(sh.wMM, sh.hMM, o.dpi)
+	if err := sh.draw(r, &rec); err != nil {
+		return nil, err
+	}
+	t := buildTruth(&rec, sh)
+	t.WidthPx, t.HeightPx = r.img.Bounds().Dx(), r.img.Bounds().Dy()
+	page := &Page{Image: r.img, Truth: t}
+	if o.scan != nil {
+		out, h, err := o.scan(r.img)
+		if err != nil {
+			return nil, fmt.Errorf("render: scan simulation: %w", err)
+		}
+		page.Image = out
+		composeScan(&page.Truth, h, out.Bounds())
+	}
+	return page, nil
+}
+
+// composeScan folds the scan homography h (render px → output px) into
+// the truth geometry.
+func composeScan(t *Truth, h [9]float64, b image.Rectangle) {
+	t.PaperToImage = mulH(h, t.PaperToImage)
+	t.WidthPx, t.HeightPx = b.Dx(), b.Dy()
+	// Local scale and rotation at the paper's centre, by central
+	// differences of the composed homography.
+	cx, cy := t.PaperWidthMM/2, t.PaperHeightMM/2
+	const d = 1.0
+	ux0, vx0 := applyH(t.PaperToImage, cx-d, cy)
+	ux1, vx1 := applyH(t.PaperToImage, cx+d, cy)
+	uy0, vy0 := applyH(t.PaperToImage, cx, cy-d)
+	uy1, vy1 := applyH(t.PaperToImage, cx, cy+d)
+	t.PxPerMMX = math.Hypot(ux1-ux0, vx1-vx0) / (2 * d)
+	t.PxPerMMY = math.Hypot(uy1-uy0, vy1-vy0) / (2 * d)
+	// Image y points down, so a counter-clockwise turn makes the paper's
+	// x axis point up-right: angle = atan2(−dv, du).
+	t.RotationDeg = math.Atan2(-(vx1-vx0), ux1-ux0) * 180 / math.Pi
+}
+
+// draw paints grid, header, pulses, ticks, labels and traces.
+func (sh *sheet) draw(r *raster, rec *ecg.Record) error {
+	o := sh.o
+	r.drawGrid(o.gridKind, o.gridColor, sh.gx0, sh.gy0, sh.gx0+sh.gw, sh.gy0+sh.gh)
+	fs, err := newFonts(o.dpi)
+	if err != nil {
+		return err
+	}
+	if !o.header.Hidden {
+		for _, l := range sh.headerLines() {
+			face := fs.regular
+			if l.bold {
+				face = fs.bold
+			}
+			x := l.x
+			if l.right {
+				x -= r.textWidthMM(face, l.s)
+			}
+			r.text(face, l.s, x, l.y, textColor)
+		}
+	}
+	// Labels: bold, above the baseline at each panel's start.
+	for _, p := range sh.panels {
+		r.text(fs.small, p.label(), p.x0+1.2, p.baseline-sh.labelRise(), textColor)
+	}
+	ink := o.traceColor
+	var marks [][][2]float64
+	for _, p := range sh.pulses {
+		marks = append(marks, p.path())
+	}
+	for _, t := range sh.ticks {
+		marks = append(marks, [][2]float64{{t[0], t[1]}, {t[0], t[2]}})
+	}
+	r.strokePolylines(marks, o.traceWidth, ink)
+	for _, p := range sh.panels {
+		r.strokePolylines(sh.points(rec, p), o.traceWidth, ink)
+	}
+	return nil
+}
+
+// labelRise is how far above the baseline lead labels sit, mm.
+func (sh *sheet) labelRise() float64 {
+	rows := 0
+	for _, p := range sh.pulses {
+		rows = max(rows, p.row+1)
+	}
+	rowH := sh.gh / float64(max(rows, 1))
+	return math.Max(3.5, math.Min(rowH*0.3, 14))
+}
+
+type textLine struct {
+	s     string
+	x, y  float64 // mm, left end of the baseline (right end when right)
+	bold  bool
+	right bool
+}
+
+// headerLines lays out header and footer text.
+func (sh *sheet) headerLines() []textLine {
+	h := sh.o.header
+	left, right := sh.gx0, sh.gx0+sh.gw
+	var out []textLine
+	join := func(parts ...string) string {
+		var keep []string
+		for _, p := range parts {
+			if strings.TrimSpace(p) != "" {
+				keep = append(keep, p)
+			}
+		}
+		return strings.Join(keep, "     ")
+	}
+	lab := func(k, v string) string {
+		if v == "" {
+			return ""
+		}
+		return k + v
+	}
+	if sh.o.paper == PaperStrip {
+		out = append(out, textLine{s: join(h.Clinic, lab("Name: ", h.Name), lab("ID: ", h.ID), h.Date), x: left, y: sh.gy0 - 3})
+	} else {
+		y := sh.headerTop + 4
+		if h.Clinic != "" {
+			out = append(out, textLine{s: h.Clinic, x: left, y: y, bold: true})
+		}
+		if h.Date != "" {
+			out = append(out, textLine{s: h.Date, x: right, y: y, right: true})
+		}
+		y += 5
+		if s := join(lab("Name: ", h.Name), lab("ID: ", h.ID)); s != "" {
+			out = append(out, textLine{s: s, x: left, y: y})
+		}
+		y += 4.5
+		if s := join(h.Device, h.Extra); s != "" {
+			out = append(out, textLine{s: s, x: left, y: y})
+		}
+	}
+	foot := fmt.Sprintf("%s mm/s  %s mm/mV", trimNum(sh.o.speed), trimNum(sh.o.gain))
+	if h.Filter != "" {
+		foot += "  " + h.Filter
+	}
+	out = append(out, textLine{s: foot, x: left, y: sh.footerY})
+	if h.FooterTag != "" {
+		out = append(out, textLine{s: h.FooterTag, x: right, y: sh.footerY, right: true})
+	}
+	return out
+}
+
+func trimNum(v float64) string { return strings.TrimSuffix(fmt.Sprintf("%.2f", v), ".00") }

@@ -1,0 +1,316 @@
+package render
+
+import (
+	"encoding/json"
+	"fmt"
+	"io"
+	"math"
+	"strconv"
+
+	"tracelift/ecg"
+)
+
+// TruthVersion is the current sidecar version.
+const TruthVersion = 1
+
+// Truth is the ground-truth sidecar of a rendered page: everything needed
+// to map the printed record to image pixels and back. Distances are in
+// millimetres on the paper (x right, y down, origin at the paper's top-left
+// corner), times in seconds on the record's time base, image coordinates
+// in pixels with pixel (i, j) centred on (i, j).
+type Truth struct {
+	Version   int     `json:"version"` // TruthVersion
+	Condition string  `json:"condition"`
+	WidthPx   int     `json:"width_px"`  // final image width
+	HeightPx  int     `json:"height_px"` // final image height
+	DPI       float64 `json:"dpi"`       // render resolution before any scan simulation
+	// PxPerMMX and PxPerMMY are the final image's pixels per millimetre
+	// along the paper's x and y axes (before rotation): DPI/25.4 times the
+	// scan simulation's scale, measured at the paper's centre.
+	PxPerMMX float64 `json:"px_per_mm_x"`
+	PxPerMMY float64 `json:"px_per_mm_y"`
+	// RotationDeg is the rotation applied by the scan simulation,
+	// counter-clockwise as seen on the image positive.
+	RotationDeg float64 `json:"rotation_deg"`
+	// PaperToImage is the row-major homography from paper mm to final
+	// image px: [u v w]ᵀ = H·[x y 1]ᵀ, pixel = (u/w, v/w). Exact except for
+	// a lens warp of the scan simulation.
+	PaperToImage  [9]float64    `json:"paper_to_image"`
+	SpeedMMPerS   float64       `json:"speed_mm_s"`
+	GainMMPerMV   float64       `json:"gain_mm_mv"`
+	Paper         string        `json:"paper"` // "A4", "Letter", "strip"
+	PaperWidthMM  float64       `json:"paper_width_mm"`
+	PaperHeightMM float64       `json:"paper_height_mm"`
+	Layout        string        `json:"layout"`
+	Grid          TruthGrid     `json:"grid"`
+	Panels        []TruthPanel  `json:"panels"`  // one per printed lead segment
+	Pulses        []TruthPulse  `json:"pulses"`  // one per row
+	Signals       []TruthSignal `json:"signals"` // the record that was printed
+	Beats         []TruthBeat   `json:"beats,omitempty"`
+	// TraceWidthMM is the stroke width of the traces.
+	TraceWidthMM float64 `json:"trace_width_mm"`
+	// GridRectMM is the gridded area [x0, y0, x1, y1] in mm.
+	GridRectMM [4]float64 `json:"grid_rect_mm"`
+	// Ticks are the column separator ticks [x, y0, y1] in mm.
+	Ticks [][3]float64 `json:"ticks,omitempty"`
+}
+
+// TruthGrid describes the printed grid.
+type TruthGrid struct {
+	Kind    string  `json:"kind"`     // "lines", "dots", "major" or "none"
+	Color   string  `json:"color"`    // full-strength grid colour, "#rrggbb"
+	MinorMM float64 `json:"minor_mm"` // 1
+	MajorMM float64 `json:"major_mm"` // 5
+	X0MM    float64 `json:"x0_mm"`    // x of a major line (the grid's left edge)
+	Y0MM    float64 `json:"y0_mm"`    // y of a major line (the grid's top edge)
+}
+
+// TruthPanel is one printed lead segment.
+type TruthPanel struct {
+	Lead        string  `json:"lead"` // standard name; "-aVR" for the inverted Cabrera lead
+	Row         int     `json:"row"`
+	Col         int     `json:"col"`
+	T0          float64 `json:"t0_s"` // window on the record's time base, s
+	T1          float64 `json:"t1_s"`
+	X0MM        float64 `json:"x0_mm"` // where the window starts and ends on the paper
+	X1MM        float64 `json:"x1_mm"`
+	BaselineYMM float64 `json:"baseline_y_mm"` // the 0 mV line
+	Rhythm      bool    `json:"rhythm"`        // a full-width rhythm row
+}
+
+// TruthPulse is one calibration pulse: the rectangle from X0MM to X1MM,
+// rising HeightMM above BaselineYMM.
+type TruthPulse struct {
+	Row         int     `json:"row"`
+	X0MM        float64 `json:"x0_mm"`
+	X1MM        float64 `json:"x1_mm"`
+	BaselineYMM float64 `json:"baseline_y_mm"`
+	HeightMM    float64 `json:"height_mm"`
+}
+
+// TruthSignal is one lead of the printed record.
+type TruthSignal struct {
+	Lead       string  `json:"lead"`
+	SampleRate float64 `json:"sample_rate"` // Hz
+	StartS     float64 `json:"start_s"`
+	SamplesMV  Samples `json:"samples_mv"` // NaN written as null
+}
+
+// Samples is a float slice whose JSON form writes NaN (and ±Inf) as null
+// with 7 significant digits, and reads null back as NaN.
+type Samples []float64
+
+// MarshalJSON implements json.Marshaler.
+func (s Samples) MarshalJSON() ([]byte, error) {
+	b := make([]byte, 0, 2+len(s)*10)
+	b = append(b, '[')
+	for i, v := range s {
+		if i > 0 {
+			b = append(b, ',')
+		}
+		if !finite(v) {
+			b = append(b, "null"...)
+			continue
+		}
+		b = strconv.AppendFloat(b, v, 'g', 7, 64)
+	}
+	return append(b, ']'), nil
+}
+
+// UnmarshalJSON implements json.Unmarshaler.
+func (s *Samples) UnmarshalJSON(b []byte) error {
+	var raw []*float64
+	if err := json.Unmarshal(b, &raw); err != nil {
+		return err
+	}
+	out := make([]float64, len(raw))
+	for i, p := range raw {
+		if p == nil {
+			out[i] = math.NaN()
+		} else {
+			out[i] = *p
+		}
+	}
+	*s = out
+	return nil
+}
+
+// TruthBeat is one beat's fiducials in seconds (NaN = absent, null in
+// JSON).
+type TruthBeat struct {
+	Class  string
+	R      float64
+	POn    float64
+	PPeak  float64
+	POff   float64
+	QRSOn  float64
+	QRSOff float64
+	TPeak  float64
+	TEnd   float64
+}
+
+type truthBeatJSON struct {
+	Class  string   `json:"class"`
+	R      *float64 `json:"r_s"`
+	POn    *float64 `json:"p_on_s"`
+	PPeak  *float64 `json:"p_peak_s"`
+	POff   *float64 `json:"p_off_s"`
+	QRSOn  *float64 `json:"qrs_on_s"`
+	QRSOff *float64 `json:"qrs_off_s"`
+	TPeak  *float64 `json:"t_peak_s"`
+	TEnd   *float64 `json:"t_end_s"`
+}
+
+func optF(v float64) *float64 {
+	if !finite(v) {
+		return nil
+	}
+	return &v
+}
+
+func fromOpt(p *float64) float64 {
+	if p == nil {
+		return math.NaN()
+	}
+	return *p
+}
+
+// MarshalJSON implements json.Marshaler (NaN as null).
+func (b TruthBeat) MarshalJSON() ([]byte, error) {
+	return json.Marshal(truthBeatJSON{b.Class, optF(b.R), optF(b.POn), optF(b.PPeak), optF(b.POff),
+		optF(b.QRSOn), optF(b.QRSOff), optF(b.TPeak), optF(b.TEnd)})
+}
+
+// UnmarshalJSON implements json.Unmarshaler (null as NaN).
+func (b *TruthBeat) UnmarshalJSON(data []byte) error {
+	var j truthBeatJSON
+	if err := json.Unmarshal(data, &j); err != nil {
+		return err
+	}
+	*b = TruthBeat{j.Class, fromOpt(j.R), fromOpt(j.POn), fromOpt(j.PPeak), fromOpt(j.POff),
+		fromOpt(j.QRSOn), fromOpt(j.QRSOff), fromOpt(j.TPeak), fromOpt(j.TEnd)}
+	return nil
+}
+
+// WriteTruth writes the page's truth as indented JSON.
+func (p *Page) WriteTruth(w io.Writer) error { return WriteTruth(w, p.Truth) }
+
+// WriteTruth writes t as JSON.
+func WriteTruth(w io.Writer, t Truth) error {
+	b, err := json.MarshalIndent(t, "", " ")
+	if err != nil {
+		return fmt.Errorf("render: truth: %w", err)
+	}
+	b = append(b, '\n')
+	if _, err := w.Write(b); err != nil {
+		return fmt.Errorf("render: write truth: %w: %w", ecg.ErrOutput, err)
+	}
+	return nil
+}
+
+// ReadTruth reads a truth sidecar written by WriteTruth. It rejects
+// malformed JSON and unknown versions (wrapping ecg.ErrUnreadable).
+func ReadTruth(r io.Reader) (Truth, error) {
+	var t Truth
+	dec := json.NewDecoder(r)
+	if err := dec.Decode(&t); err != nil {
+		return Truth{}, fmt.Errorf("render: read truth: %w: %w", ecg.ErrUnreadable, err)
+	}
+	if t.Version != TruthVersion {
+		return Truth{}, fmt.Errorf("render: read truth: version %d not supported (want %d): %w", t.Version, TruthVersion, ecg.ErrUnreadable)
+	}
+	return t, nil
+}
+
+// Record returns the printed record from the truth's signals and beats.
+// Lead names that are not standard are skipped.
+func (t *Truth) Record() ecg.Record {
+	var rec ecg.Record
+	for _, s := range t.Signals {
+		l, err := ecg.ParseLead(s.Lead)
+		if err != nil {
+			continue
+		}
+		rec.Set(ecg.Signal{Lead: l, SampleRate: s.SampleRate, Start: s.StartS, Samples: append([]float64(nil), s.SamplesMV...)})
+	}
+	for _, b := range t.Beats {
+		c := ecg.BeatUnknown
+		if len(b.Class) == 1 {
+			c = ecg.BeatClass(b.Class[0])
+		}
+		rec.Beats = append(rec.Beats, ecg.Beat{Class: c, R: b.R, POn: b.POn, PPeak: b.PPeak, POff: b.POff,
+			QRSOn: b.QRSOn, QRSOff: b.QRSOff, TPeak: b.TPeak, TEnd: b.TEnd})
+	}
+	return rec
+}
+
+// PaperToPx maps a paper point (mm) to final image pixels with the truth's
+// homography.
+func (t *Truth) PaperToPx(xMM, yMM float64) (u, v float64) { return applyH(t.PaperToImage, xMM, yMM) }
+
+// PanelPoint returns the paper position (mm) of value vMV at time tS on
+// panel p (honouring the inverted "-aVR" panel).
+func (t *Truth) PanelPoint(p TruthPanel, tS, vMV float64) (xMM, yMM float64) {
+	sign := 1.0
+	if len(p.Lead) > 0 && p.Lead[0] == '-' {
+		sign = -1
+	}
+	return p.X0MM + (tS-p.T0)*t.SpeedMMPerS, p.BaselineYMM - sign*vMV*t.GainMMPerMV
+}
+
+func applyH(h [9]float64, x, y float64) (float64, float64) {
+	w := h[6]*x + h[7]*y + h[8]
+	return (h[0]*x + h[1]*y + h[2]) / w, (h[3]*x + h[4]*y + h[5]) / w
+}
+
+func mulH(a, b [9]float64) [9]float64 {
+	var c [9]float64
+	for i := 0; i < 3; i++ {
+		for j := 0; j < 3; j++ {
+			for k := 0; k < 3; k++ {
+				c[3*i+j] += a[3*i+k] * b[3*k+j]
+			}
+		}
+	}
+	return c
+}
+
+// buildTruth fills the geometry-independent parts of the truth.
+func buildTruth(rec *ecg.Record, sh *sheet) Truth {
+	o := sh.o
+	s := pxPerMM(o.dpi)
+	t := Truth{
+		Version: TruthVersion, Condition: o.condition, DPI: o.dpi,
+		PxPerMMX: s, PxPerMMY: s,
+		PaperToImage: [9]float64{s, 0, -0.5, 0, s, -0.5, 0, 0, 1},
+		SpeedMMPerS:  o.speed, GainMMPerMV: o.gain,
+		Paper: o.paper, PaperWidthMM: sh.wMM, PaperHeightMM: sh.hMM, Layout: o.layout,
+		Grid:         TruthGrid{Kind: o.gridKind, Color: hexColor(o.gridColor), MinorMM: 1, MajorMM: 5, X0MM: sh.gx0, Y0MM: sh.gy0},
+		TraceWidthMM: o.traceWidth,
+		GridRectMM:   [4]float64{sh.gx0, sh.gy0, sh.gx0 + sh.gw, sh.gy0 + sh.gh},
+		Ticks:        sh.ticks,
+	}
+	if o.gridKind == GridNone {
+		t.Grid.Color = ""
+	}
+	for _, p := range sh.panels {
+		t.Panels = append(t.Panels, TruthPanel{Lead: p.label(), Row: p.row, Col: p.col, T0: p.t0, T1: p.t1,
+			X0MM: p.x0, X1MM: p.x1, BaselineYMM: p.baseline, Rhythm: p.rhythm})
+	}
+	for _, p := range sh.pulses {
+		t.Pulses = append(t.Pulses, TruthPulse{Row: p.row, X0MM: p.x0, X1MM: p.x1, BaselineYMM: p.baseline, HeightMM: p.height})
+	}
+	for _, sg := range rec.Signals {
+		t.Signals = append(t.Signals, TruthSignal{Lead: sg.Lead.String(), SampleRate: sg.SampleRate, StartS: sg.Start,
+			SamplesMV: append(Samples(nil), sg.Samples...)})
+	}
+	for _, b := range rec.Beats {
+		cls := ""
+		if b.Class != 0 {
+			cls = string(rune(b.Class))
+		}
+		t.Beats = append(t.Beats, TruthBeat{Class: cls, R: b.R, POn: b.POn, PPeak: b.PPeak, POff: b.POff,
+			QRSOn: b.QRSOn, QRSOff: b.QRSOff, TPeak: b.TPeak, TEnd: b.TEnd})
+	}
+	return t
+}
