@@ -1,0 +1,303 @@
+package scansim
+
+import (
+	"errors"
+	"image"
+	"image/color"
+	"math"
+	"testing"
+)
+
+// dotPage is a white w × h page with 5 × 5 px black squares centred on pts
+// (continuous coordinates, pixel centres at +0.5).
+func dotPage(w, h int, pts [][2]float64) *image.NRGBA {
+	img := image.NewNRGBA(image.Rect(0, 0, w, h))
+	for i := range img.Pix {
+		img.Pix[i] = 255
+	}
+	for _, p := range pts {
+		x0, y0 := int(p[0])-2, int(p[1])-2 // centre of pixels x0..x0+4 is p
+		for y := y0; y < y0+5; y++ {
+			for x := x0; x < x0+5; x++ {
+				img.SetNRGBA(x, y, color.NRGBA{0, 0, 0, 255})
+			}
+		}
+	}
+	return img
+}
+
+// blobs returns the darkness-weighted centroids (continuous coordinates)
+// of the 4-connected dark regions of img.
+func blobs(img image.Image) [][2]float64 {
+	b := img.Bounds()
+	w, h := b.Dx(), b.Dy()
+	dark := make([]float64, w*h)
+	for y := range h {
+		for x := range w {
+			r, g, bb, _ := img.At(b.Min.X+x, b.Min.Y+y).RGBA()
+			v := 1 - float64(r+g+bb)/(3*65535)
+			if v > 0.25 {
+				dark[y*w+x] = v
+			}
+		}
+	}
+	seen := make([]bool, w*h)
+	var out [][2]float64
+	for i := range dark {
+		if dark[i] == 0 || seen[i] {
+			continue
+		}
+		var sx, sy, sw float64
+		stack := []int{i}
+		seen[i] = true
+		for len(stack) > 0 {
+			j := stack[len(stack)-1]
+			stack = stack[:len(stack)-1]
+			x, y := j%w, j/w
+			sx += dark[j] * (float64(x) + 0.5)
+			sy += dark[j] * (float64(y) + 0.5)
+			sw += dark[j]
+			for _, n := range [4]int{j - 1, j + 1, j - w, j + w} {
+				if n >= 0 && n < w*h && !seen[n] && dark[n] > 0 && (n/w == y || n%w == x) {
+					seen[n] = true
+					stack = append(stack, n)
+				}
+			}
+		}
+		out = append(out, [2]float64{sx / sw, sy / sw})
+	}
+	return out
+}
+
+// H must carry printed points to where they land in the output, within
+// 1 px (measured from the dots' centroids, not from H).
+func TestHomographyMapsPoints(t *testing.T) {
+	w, h := 600, 400
+	var pts [][2]float64
+	for _, fx := range []float64{0.1, 0.5, 0.9} {
+		for _, fy := range []float64{0.1, 0.5, 0.9} {
+			pts = append(pts, [2]float64{math.Floor(fx*float64(w)) + 0.5, math.Floor(fy*float64(h)) + 0.5})
+		}
+	}
+	src := dotPage(w, h, pts)
+	cases := []Options{
+		{},
+		{RotationDeg: 7},
+		{RotationDeg: -3, ScaleX: 0.8, ScaleY: 0.6},
+		{ScaleX: 1.5, ScaleY: 1.5},
+		{Perspective: 0.15, RotationDeg: 5, Seed: 3},
+		{Perspective: 0.1, Seed: 11, BlurPx: 1},
+	}
+	for _, o := range cases {
+		out, H, err := Apply(src, o)
+		if err != nil {
+			t.Fatalf("%+v: %v", o, err)
+		}
+		got := blobs(out)
+		if len(got) != len(pts) {
+			t.Errorf("%+v: found %d dots, want %d", o, len(got), len(pts))
+			continue
+		}
+		worst := 0.0
+		for _, p := range pts {
+			x, y := Map(H, p[0], p[1])
+			best := math.Inf(1)
+			for _, g := range got {
+				best = min(best, math.Hypot(g[0]-x, g[1]-y))
+			}
+			worst = max(worst, best)
+		}
+		t.Logf("rot %g scale %g×%g persp %g: worst dot error %.3f px", o.RotationDeg, o.ScaleX, o.ScaleY, o.Perspective, worst)
+		if worst > 1 {
+			t.Errorf("%+v: dot %.2f px from H's prediction", o, worst)
+		}
+		// The whole page stays on the canvas.
+		ob := out.Bounds()
+		for _, c := range [4][2]float64{{0, 0}, {float64(w), 0}, {0, float64(h)}, {float64(w), float64(h)}} {
+			x, y := Map(H, c[0], c[1])
+			if x < -0.5 || y < -0.5 || x > float64(ob.Dx())+0.5 || y > float64(ob.Dy())+0.5 {
+				t.Errorf("%+v: page corner %v maps off the canvas to (%.1f, %.1f)", o, c, x, y)
+			}
+		}
+	}
+}
+
+func TestBinarizeIsTwoLevel(t *testing.T) {
+	src := dotPage(300, 200, [][2]float64{{50.5, 50.5}, {150.5, 100.5}})
+	o, err := Preset("fax", 300, 4)
+	if err != nil {
+		t.Fatal(err)
+	}
+	out, _, err := Apply(src, o)
+	if err != nil {
+		t.Fatal(err)
+	}
+	g, ok := out.(*image.Gray)
+	if !ok {
+		t.Fatalf("fax output is %T, want *image.Gray", out)
+	}
+	var n0, n255 int
+	for _, v := range g.Pix {
+		switch v {
+		case 0:
+			n0++
+		case 255:
+			n255++
+		default:
+			t.Fatalf("binarised pixel value %d", v)
+		}
+	}
+	if n0 == 0 || n255 == 0 {
+		t.Errorf("binarised output has %d black and %d white pixels", n0, n255)
+	}
+	// Fax resolutions 204 dpi across and 98 or 196 dpi down (ITU-T T.4).
+	if math.Abs(o.ScaleX-204.0/300) > 1e-12 || (math.Abs(o.ScaleY-98.0/300) > 1e-12 && math.Abs(o.ScaleY-196.0/300) > 1e-12) {
+		t.Errorf("fax scales %g × %g", o.ScaleX, o.ScaleY)
+	}
+}
+
+func TestPresetsDeterministic(t *testing.T) {
+	src := dotPage(240, 160, [][2]float64{{40.5, 40.5}, {200.5, 120.5}})
+	for _, name := range PresetNames() {
+		a, err := Preset(name, 300, 9)
+		if err != nil {
+			t.Fatalf("%s: %v", name, err)
+		}
+		b, _ := Preset(name, 300, 9)
+		if a != b {
+			t.Errorf("%s: options differ for the same seed", name)
+		}
+		ia, ha, err := Apply(src, a)
+		if err != nil {
+			t.Fatalf("%s: %v", name, err)
+		}
+		ib, hb, _ := Apply(src, b)
+		if ha != hb || !samePixels(ia, ib) {
+			t.Errorf("%s: output differs for the same seed", name)
+		}
+		if name != "clean" {
+			c, _ := Preset(name, 300, 10)
+			if c == a {
+				t.Errorf("%s: seeds 9 and 10 give the same options", name)
+			}
+		}
+	}
+}
+
+func samePixels(a, b image.Image) bool {
+	if a.Bounds() != b.Bounds() {
+		return false
+	}
+	switch x := a.(type) {
+	case *image.Gray:
+		y, ok := b.(*image.Gray)
+		return ok && string(x.Pix) == string(y.Pix)
+	case *image.NRGBA:
+		y, ok := b.(*image.NRGBA)
+		return ok && string(x.Pix) == string(y.Pix)
+	}
+	return false
+}
+
+func TestBadOptions(t *testing.T) {
+	src := dotPage(50, 50, nil)
+	bad := map[string]Options{
+		"rotation":    {RotationDeg: 90},
+		"scale":       {ScaleX: -1},
+		"perspective": {Perspective: 0.7},
+		"lens":        {LensK1: 1},
+		"lighting":    {Lighting: 2},
+		"blur":        {BlurPx: -1},
+		"noise NaN":   {NoiseSD: math.NaN()},
+		"jpeg":        {JPEGQuality: 101},
+		"pen":         {PenMarks: -2},
+	}
+	for name, o := range bad {
+		if _, _, err := Apply(src, o); !errors.Is(err, ErrOptions) {
+			t.Errorf("%s: err = %v, want ErrOptions", name, err)
+		}
+	}
+	if _, _, err := Apply(image.NewGray(image.Rect(0, 0, 0, 0)), Options{}); !errors.Is(err, ErrOptions) {
+		t.Errorf("empty image: err = %v", err)
+	}
+	if _, _, err := Apply(nil, Options{}); !errors.Is(err, ErrOptions) {
+		t.Errorf("nil image: err = %v", err)
+	}
+	if _, err := Preset("watercolour", 300, 1); !errors.Is(err, ErrOptions) {
+		t.Errorf("unknown preset: err = %v", err)
+	}
+	if _, err := Preset("scan", 0, 1); !errors.Is(err, ErrOptions) {
+		t.Errorf("zero dpi: err = %v", err)
+	}
+}
+
+// The clean preset leaves pixels untouched and H the identity.
+func TestCleanIsIdentity(t *testing.T) {
+	src := dotPage(120, 80, [][2]float64{{30.5, 30.5}})
+	o, _ := Preset("clean", 300, 1)
+	out, H, err := Apply(src, o)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if H != [9]float64{1, 0, 0, 0, 1, 0, 0, 0, 1} || !samePixels(src, out) {
+		t.Error("clean preset changed the image")
+	}
+}
+
+// Lens warp leaves the canvas centre fixed and moves corners inward for
+// barrel distortion (positive k1 samples farther out, so content shrinks).
+func TestLensWarp(t *testing.T) {
+	w, h := 400, 300
+	pts := [][2]float64{{200.5, 150.5}, {40.5, 40.5}}
+	out, H, err := Apply(dotPage(w, h, pts), Options{LensK1: 0.1})
+	if err != nil {
+		t.Fatal(err)
+	}
+	got := blobs(out)
+	if len(got) != 2 {
+		t.Fatalf("found %d dots", len(got))
+	}
+	cx, cy := Map(H, pts[0][0], pts[0][1])
+	var centre, corner [2]float64
+	for _, g := range got {
+		if math.Hypot(g[0]-cx, g[1]-cy) < 3 {
+			centre = g
+		} else {
+			corner = g
+		}
+	}
+	if math.Hypot(centre[0]-cx, centre[1]-cy) > 0.5 {
+		t.Errorf("centre dot moved to %v", centre)
+	}
+	// Pre-warp position q' = c + (q − c)(1 + k1 r²/R²); solve for q by
+	// fixed-point iteration and compare.
+	qx, qy := pts[1][0], pts[1][1]
+	R2 := float64(w*w+h*h) / 4
+	for range 50 {
+		f := 1 + 0.1*((qx-200)*(qx-200)+(qy-150)*(qy-150))/R2
+		qx, qy = 200+(pts[1][0]-200)/f, 150+(pts[1][1]-150)/f
+	}
+	if d := math.Hypot(corner[0]-qx, corner[1]-qy); d > 1 {
+		t.Errorf("corner dot at %v, model says (%.1f, %.1f)", corner, qx, qy)
+	}
+}
+
+func BenchmarkPhotoA4(b *testing.B) {
+	src := dotPage(3508, 2480, nil)
+	o, _ := Preset("photo", 300, 1)
+	for b.Loop() {
+		if _, _, err := Apply(src, o); err != nil {
+			b.Fatal(err)
+		}
+	}
+}
+
+func BenchmarkScanA4(b *testing.B) {
+	src := dotPage(3508, 2480, nil)
+	o, _ := Preset("scan", 300, 1)
+	for b.Loop() {
+		if _, _, err := Apply(src, o); err != nil {
+			b.Fatal(err)
+		}
+	}
+}
