@@ -1,0 +1,145 @@
+package imageproc
+
+import (
+	"image"
+	"slices"
+)
+
+// background is a smooth per-channel estimate of the paper's brightness:
+// the 90th percentile of each channel per block of a downscaled page,
+// median-filtered over 3×3 blocks, bilinearly interpolated between block
+// centres (common practice for flat-field correction).
+type background struct {
+	nx, ny int
+	cell   float64      // block size in the coordinates of the image it is applied to
+	v      [3][]float64 // per channel, ny×nx
+}
+
+// estimateBackground measures the background of m with blocks of about
+// block px; scale converts m's pixels into those of the image the
+// estimate will be applied to (full-resolution px per m px).
+func estimateBackground(m *image.NRGBA, block int, scale float64) *background {
+	w, h := m.Rect.Dx(), m.Rect.Dy()
+	block = max(block, 4)
+	nx, ny := max(1, (w+block-1)/block), max(1, (h+block-1)/block)
+	bg := &background{nx: nx, ny: ny, cell: float64(block) * scale}
+	raw := [3][]float64{}
+	for c := range raw {
+		raw[c] = make([]float64, nx*ny)
+	}
+	var hist [3][256]int
+	for by := 0; by < ny; by++ {
+		for bx := 0; bx < nx; bx++ {
+			hist = [3][256]int{}
+			n := 0
+			for y := by * block; y < min(h, by*block+block); y++ {
+				row := m.Pix[y*m.Stride:]
+				for x := bx * block; x < min(w, bx*block+block); x++ {
+					hist[0][row[4*x]]++
+					hist[1][row[4*x+1]]++
+					hist[2][row[4*x+2]]++
+					n++
+				}
+			}
+			for c := 0; c < 3; c++ {
+				// 90th percentile from the top.
+				need := n / 10
+				acc := 0
+				v := 255
+				for ; v > 0; v-- {
+					acc += hist[c][v]
+					if acc > need {
+						break
+					}
+				}
+				raw[c][by*nx+bx] = float64(max(v, 24))
+			}
+		}
+	}
+	var nb []float64
+	for c := 0; c < 3; c++ {
+		bg.v[c] = make([]float64, nx*ny)
+		for by := 0; by < ny; by++ {
+			for bx := 0; bx < nx; bx++ {
+				nb = nb[:0]
+				for yy := max(0, by-1); yy <= min(ny-1, by+1); yy++ {
+					for xx := max(0, bx-1); xx <= min(nx-1, bx+1); xx++ {
+						nb = append(nb, raw[c][yy*nx+xx])
+					}
+				}
+				slices.Sort(nb)
+				bg.v[c][by*nx+bx] = nb[len(nb)/2]
+			}
+		}
+	}
+	return bg
+}
+
+// gainRow fills dst (3 per pixel) with 255/background for row y of a
+// w-pixel-wide image.
+func (bg *background) gainRow(dst []float32, y, w int) {
+	fy := (float64(y)+0.5)/bg.cell - 0.5
+	y0 := int(fy)
+	if fy < 0 {
+		y0, fy = 0, 0
+	}
+	if y0 >= bg.ny-1 {
+		y0, fy = bg.ny-1, float64(bg.ny-1)
+	}
+	y1 := min(y0+1, bg.ny-1)
+	ay := fy - float64(y0)
+	var col [3][]float64
+	for c := 0; c < 3; c++ {
+		col[c] = make([]float64, bg.nx)
+		for i := 0; i < bg.nx; i++ {
+			col[c][i] = (1-ay)*bg.v[c][y0*bg.nx+i] + ay*bg.v[c][y1*bg.nx+i]
+		}
+	}
+	inv := 1 / bg.cell
+	for x := 0; x < w; x++ {
+		fx := (float64(x)+0.5)*inv - 0.5
+		x0 := int(fx)
+		if fx < 0 {
+			x0, fx = 0, 0
+		}
+		if x0 >= bg.nx-1 {
+			x0, fx = bg.nx-1, float64(bg.nx-1)
+		}
+		x1 := min(x0+1, bg.nx-1)
+		ax := fx - float64(x0)
+		for c := 0; c < 3; c++ {
+			v := (1-ax)*col[c][x0] + ax*col[c][x1]
+			dst[3*x+c] = float32(255 / v)
+		}
+	}
+}
+
+// normalise returns a copy of m with each channel divided by bg (clamped
+// to 255): paper becomes white whatever its tint and lighting.
+func normalise(m *image.NRGBA, bg *background) *image.NRGBA {
+	w, h := m.Rect.Dx(), m.Rect.Dy()
+	dst := image.NewNRGBA(m.Rect)
+	g := make([]float32, 3*w)
+	for y := 0; y < h; y++ {
+		bg.gainRow(g, y, w)
+		s := m.Pix[y*m.Stride : y*m.Stride+4*w]
+		d := dst.Pix[y*dst.Stride : y*dst.Stride+4*w]
+		for x := 0; x < w; x++ {
+			for c := 0; c < 3; c++ {
+				d[4*x+c] = clamp8(float32(s[4*x+c]) * g[3*x+c])
+			}
+			d[4*x+3] = 255
+		}
+	}
+	return dst
+}
+
+func clamp8(v float32) uint8 {
+	if v >= 255 {
+		return 255
+	}
+	if v <= 0 {
+		return 0
+	}
+	return uint8(v + 0.5)
+}

@@ -1,0 +1,34 @@
+// Package imageproc turns a decoded ECG page into an upright, rectified
+// page with the trace ink separated from the printed grid.
+//
+// Prepare runs, in order:
+//
+//   - background normalisation: each colour channel is divided by a smooth
+//     upper envelope of the page (a high percentile per block on a
+//     downscaled copy, bilinearly interpolated), which removes paper tint
+//     and uneven lighting (common practice);
+//   - grid colour detection: a hue histogram of the chromatic pixels picks
+//     the grid's colour family; each pixel's absorption (255 − channel) is
+//     then split by least squares into a grid-colour component and a
+//     neutral (dark ink) component. Grey and 1-bit pages are separated by
+//     structure instead: grid lines are thin, long, axis-aligned runs found
+//     from row and column darkness profiles per strip (common practice);
+//   - orientation (quarter turns) from the ink's banding (trace rows run
+//     along x) and the upward skew of the traces (calibration pulses and
+//     most QRS complexes point up);
+//   - skew from the sharpness (sum of squares) of projection profiles over
+//     candidate angles, coarse to fine on downscaled copies (Postl 1986,
+//     ICPR; projection profiles after Radon 1917);
+//   - phone-photo rectification: the two line families' local directions
+//     in tiles give their vanishing points; the line at infinity they span
+//     gives the projective part and an affine map aligns the families with
+//     the axes (Hartley & Zisserman, Multiple View Geometry, 2nd ed. 2004,
+//     §2.7, from memory). EstimateHomography provides the normalised direct
+//     linear transform (Hartley, IEEE TPAMI 1997;19:580–93) for point
+//     correspondences;
+//   - one bilinear resampling of the full-resolution page through the
+//     composed homography (upright px → input px), kept in Page.ToSource.
+//
+// Estimation runs on downscaled copies (at most about 1024 px on the long
+// side); only the final resampling and separation touch every pixel.
+package imageproc

@@ -1,0 +1,148 @@
+package imageproc
+
+import (
+	"image"
+	"math"
+)
+
+// orientation decides how many quarter turns counter-clockwise make the
+// page upright, from an ink map of the page as given: traces run along x,
+// so an upright page's ink forms horizontal bands (rows of leads) and its
+// column profile is flat; the traces' calibration pulses and most QRS
+// complexes, P and T waves point up from the baseline (common practice).
+func orientation(ink *image.Gray) int {
+	w, h := ink.Rect.Dx(), ink.Rect.Dy()
+	rows, cols := make([]float64, h), make([]float64, w)
+	for y := 0; y < h; y++ {
+		for x, v := range ink.Pix[y*ink.Stride : y*ink.Stride+w] {
+			rows[y] += float64(v)
+			cols[x] += float64(v)
+		}
+	}
+	cvR := bandContrast(rows, max(3, h/60))
+	cvC := bandContrast(cols, max(3, w/60))
+	score := math.Log((cvR + 1e-9) / (cvC + 1e-9))
+	if w >= h {
+		score += 0.15 // ECG pages are usually landscape
+	} else {
+		score -= 0.15
+	}
+	q := 0
+	if score < 0 {
+		q = 1
+	}
+	m := ink
+	if q == 1 {
+		m = turnGray(ink, 1)
+	}
+	if upwardSkew(m) < 0 {
+		q += 2
+	}
+	return q
+}
+
+// bandContrast returns the coefficient of variation of prof after a box
+// smoothing of width k (which hides the grid's period).
+func bandContrast(prof []float64, k int) float64 {
+	n := len(prof)
+	if n < 2*k {
+		return 0
+	}
+	sm := make([]float64, 0, n)
+	acc := 0.0
+	for i := 0; i < n; i++ {
+		acc += prof[i]
+		if i >= k {
+			acc -= prof[i-k]
+		}
+		if i >= k-1 {
+			sm = append(sm, acc/float64(k))
+		}
+	}
+	mean, sd := 0.0, 0.0
+	for _, v := range sm {
+		mean += v
+	}
+	mean /= float64(len(sm))
+	for _, v := range sm {
+		sd += (v - mean) * (v - mean)
+	}
+	sd = math.Sqrt(sd / float64(len(sm)))
+	if mean == 0 {
+		return 0
+	}
+	return sd / mean
+}
+
+// upwardSkew is positive when the ink around each trace baseline lies more
+// above it than below (an upright page) and negative when upside down.
+// Baselines are the strongest peaks of the row profile; each is compared
+// over half the distance to its neighbours.
+func upwardSkew(ink *image.Gray) float64 {
+	w, h := ink.Rect.Dx(), ink.Rect.Dy()
+	// Left and right halves separately: baselines differ where rows are
+	// split into columns, and the pulses sit at the left.
+	total := 0.0
+	for half := 0; half < 2; half++ {
+		x0, x1 := half*w/2, (half+1)*w/2
+		prof := make([]float64, h)
+		for y := 0; y < h; y++ {
+			for _, v := range ink.Pix[y*ink.Stride+x0 : y*ink.Stride+x1] {
+				prof[y] += float64(v)
+			}
+		}
+		peaks := profilePeaks(prof, max(4, h/25))
+		for i, b := range peaks {
+			lo, hi := 0, h-1
+			if i > 0 {
+				lo = (peaks[i-1] + b) / 2
+			} else {
+				lo = max(0, b-(h/12))
+			}
+			if i < len(peaks)-1 {
+				hi = (peaks[i+1] + b) / 2
+			} else {
+				hi = min(h-1, b+h/12)
+			}
+			gap := max(2, h/300)
+			up, down := 0.0, 0.0
+			for y := lo; y < b-gap; y++ {
+				up += prof[y]
+			}
+			for y := b + gap + 1; y <= hi; y++ {
+				down += prof[y]
+			}
+			if up+down > 0 {
+				total += (up - down) / (up + down)
+			}
+		}
+	}
+	return total
+}
+
+// profilePeaks returns the indices of local maxima of prof at least sep
+// apart, each at least 35 % of the strongest, in increasing order.
+func profilePeaks(prof []float64, sep int) []int {
+	mx := 0.0
+	for _, v := range prof {
+		mx = max(mx, v)
+	}
+	var out []int
+	for i := 1; i < len(prof)-1; i++ {
+		v := prof[i]
+		if v < 0.35*mx {
+			continue
+		}
+		isMax := true
+		for j := max(0, i-sep); j <= min(len(prof)-1, i+sep); j++ {
+			if prof[j] > v || (prof[j] == v && j < i) {
+				isMax = false
+				break
+			}
+		}
+		if isMax {
+			out = append(out, i)
+		}
+	}
+	return out
+}

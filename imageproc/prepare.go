@@ -1,0 +1,247 @@
+package imageproc
+
+import (
+	"fmt"
+	"image"
+	"math"
+
+	"tracelift/ecg"
+)
+
+// Options tune Prepare. A nil *Options means the defaults.
+type Options struct {
+	// DPIX, DPIY are the resolution metadata of the input (dots per inch),
+	// 0 when unknown. Prepare only passes them on; grid uses them as priors.
+	DPIX, DPIY float64
+	// NoRectify skips the perspective correction of photos (deskew only).
+	NoRectify bool
+	// NoDeskew keeps the input's angle (orientation is still fixed).
+	NoDeskew bool
+	// NoOrient keeps the input's quarter-turn orientation.
+	NoOrient bool
+	// MaxSkewDeg bounds the skew search, degrees; 0 means 12.
+	MaxSkewDeg float64
+	// MaxPixels rejects larger inputs (ErrUnreadable); 0 means 150 million.
+	MaxPixels int
+}
+
+// Page is an upright, rectified ECG page with ink and grid separated. All
+// images share the geometry of Color.
+type Page struct {
+	Color *image.NRGBA // upright, rectified page (original colours)
+	Ink   *image.Gray  // trace-ink strength 0..255 (255 = certainly ink); grid and paper removed
+	Grid  *image.Gray  // grid-line strength 0..255
+	Gray  *image.Gray  // luminance after background normalisation (255 = paper)
+	// RotationDeg is the skew that was removed, degrees, counter-clockwise
+	// positive as seen on the input (after the quarter turns).
+	RotationDeg float64
+	// QuarterTurns is the orientation fix applied before the deskew:
+	// the input was turned QuarterTurns × 90° counter-clockwise.
+	QuarterTurns int
+	// ToSource maps upright pixels to input pixels (row-major homography,
+	// pixel centres at integer coordinates).
+	ToSource [9]float64
+	// Rectified reports that a perspective (photo) correction was applied.
+	Rectified bool
+	// GridColor is the grid's colour family: "red", "pink", "orange",
+	// "green", "blue", "grey" or "none".
+	GridColor string
+	// DPIX, DPIY are the input's resolution metadata from Options.
+	DPIX, DPIY float64
+	Warnings   []string
+}
+
+// ErrBlank reports a page without any marks. It wraps ecg.ErrNoECG.
+var ErrBlank = fmt.Errorf("imageproc: blank page: %w", ecg.ErrNoECG)
+
+// workSide is the long side of the downscaled copy used for estimation.
+const workSide = 1024
+
+// Prepare turns a decoded page into an upright, rectified page with
+// separated ink and grid. It returns an error wrapping ecg.ErrUnreadable
+// for empty or oversized images and ErrBlank (ecg.ErrNoECG) for pages
+// without marks. img is not modified; Page.Color may share its memory when
+// no geometric correction is needed and img is an *image.NRGBA.
+func Prepare(img image.Image, opt *Options) (*Page, error) {
+	var o Options
+	if opt != nil {
+		o = *opt
+	}
+	if o.MaxSkewDeg <= 0 {
+		o.MaxSkewDeg = 12
+	}
+	if o.MaxPixels <= 0 {
+		o.MaxPixels = 150_000_000
+	}
+	if img == nil {
+		return nil, fmt.Errorf("imageproc: no image: %w", ecg.ErrUnreadable)
+	}
+	b := img.Bounds()
+	W, H := b.Dx(), b.Dy()
+	if W < 32 || H < 32 {
+		return nil, fmt.Errorf("imageproc: image %d×%d px is too small for an ECG page: %w", W, H, ecg.ErrUnreadable)
+	}
+	if W*H > o.MaxPixels {
+		return nil, fmt.Errorf("imageproc: image %d×%d px exceeds %d pixels: %w", W, H, o.MaxPixels, ecg.ErrUnreadable)
+	}
+	src := toNRGBA(img)
+	f := max(1, (max(W, H)+workSide-1)/workSide)
+	work := downscale(src, f)
+	bgw := estimateBackground(work, blockSize(work), 1)
+	workN := normalise(work, bgw)
+	sep := analyseColour(workN)
+	wGray, wInk, wGrid := sep.maps(work, bgw)
+	lineMap := wGrid
+	if !sep.colour {
+		lineMap = invert(wGray)
+	}
+	if blank(wGray, 0.0005) {
+		return nil, ErrBlank
+	}
+	p := &Page{GridColor: sep.family, DPIX: o.DPIX, DPIY: o.DPIY}
+	// Geometry on the work image: corrected work px → work px.
+	theta := 0.0
+	if !o.NoDeskew {
+		theta = estimateSkew(lineMap, o.MaxSkewDeg*math.Pi/180, both)
+	}
+	p.RotationDeg = theta * 180 / math.Pi
+	ww, wh := work.Rect.Dx(), work.Rect.Dy()
+	var persp *perspective
+	if !o.NoRectify && !o.NoDeskew {
+		persp = estimatePerspective(lineMap, theta)
+	}
+	s := float64(f)
+	// Work coordinates → full: x_full = f·x + (f−1)/2.
+	S := Homography{s, 0, (s - 1) / 2, 0, s, (s - 1) / 2, 0, 0, 1}
+	Sinv, _ := Invert(S)
+	var toSrc Homography // corrected full-res px → input px
+	OW, OH := W, H
+	cw, ch := ww, wh // corrected work size
+	var toWork Homography
+	switch {
+	case persp != nil:
+		toWork = persp.toWork
+		cw, ch = int(math.Ceil(persp.w)), int(math.Ceil(persp.h))
+		toSrc = Mul(S, Mul(toWork, Sinv))
+		OW, OH = int(math.Ceil(persp.w*s)), int(math.Ceil(persp.h*s))
+		p.Rectified = true
+	case math.Abs(p.RotationDeg) >= 0.02:
+		toSrc, OW, OH = rotation(theta, W, H)
+		var rw Homography
+		rw, cw, ch = rotation(theta, ww, wh)
+		toWork = rw
+	default:
+		toSrc, toWork = identity, identity
+		p.RotationDeg = 0
+	}
+	q := 0
+	if !o.NoOrient {
+		ci := wInk
+		if toWork != identity {
+			ci = image.NewGray(image.Rect(0, 0, cw, ch))
+			warpGray(ci, wInk, toWork, 0)
+		}
+		if !sep.colour {
+			// Remove the (now axis-aligned) grid lines from the ink first.
+			cg := wGray
+			if toWork != identity {
+				cg = image.NewGray(image.Rect(0, 0, cw, ch))
+				warpGray(cg, wGray, toWork, 255)
+			}
+			structureSplit(cg, ci, image.NewGray(cg.Rect))
+		}
+		q = orientation(ci)
+	}
+	p.QuarterTurns = q
+	UW, UH := turnedSize(q, OW, OH)
+	toSrc = Mul(toSrc, quarterTurn(q, OW, OH))
+	OW, OH = UW, UH
+	if OW*OH > 2*o.MaxPixels {
+		return nil, fmt.Errorf("imageproc: rectified page would be %d×%d px: %w", OW, OH, ecg.ErrNoECG)
+	}
+	p.ToSource = toSrc
+	if p.ToSource == identity {
+		p.Color = src
+	} else {
+		p.Color = image.NewNRGBA(image.Rect(0, 0, OW, OH))
+		warpNRGBA(p.Color, src, p.ToSource)
+	}
+	uw := downscale(p.Color, f)
+	bg := estimateBackground(uw, blockSize(uw), float64(f))
+	p.Gray, p.Ink, p.Grid = sep.maps(p.Color, bg)
+	if !sep.colour {
+		structureSplit(p.Gray, p.Ink, p.Grid)
+		if !hasLines(p.Grid) {
+			p.GridColor = GridNone
+			p.Warnings = append(p.Warnings, "no grid lines found; calibration must come from pulses, metadata or options")
+		}
+	}
+	return p, nil
+}
+
+// blockSize is the background block size for a downscaled page: about a
+// 24th of its short side, so that blocks are larger than a few grid
+// squares but follow lighting gradients.
+func blockSize(m *image.NRGBA) int {
+	return max(8, min(m.Rect.Dx(), m.Rect.Dy())/24)
+}
+
+// invert returns 255 − m.
+func invert(m *image.Gray) *image.Gray {
+	d := image.NewGray(m.Rect)
+	for i, v := range m.Pix {
+		d.Pix[i] = 255 - v
+	}
+	return d
+}
+
+// blank reports whether fewer than frac of gray's pixels are marked
+// (darker than 60 below paper).
+func blank(gray *image.Gray, frac float64) bool {
+	n := 0
+	for _, v := range gray.Pix {
+		if v < 195 {
+			n++
+		}
+	}
+	return float64(n) < frac*float64(len(gray.Pix))
+}
+
+// hasLines reports whether a grid-strength map of an upright page holds
+// at least ten line rows (rows much darker on average than the median).
+func hasLines(m *image.Gray) bool {
+	w, h := m.Rect.Dx(), m.Rect.Dy()
+	rows := make([]float64, h)
+	for y := 0; y < h; y++ {
+		for _, v := range m.Pix[y*m.Stride : y*m.Stride+w] {
+			rows[y] += float64(v)
+		}
+		rows[y] /= float64(w)
+	}
+	line := make([]bool, h)
+	markLines(rows, line)
+	n := 0
+	for _, l := range line {
+		if l {
+			n++
+		}
+	}
+	return n >= 10
+}
+
+// rotation returns the map from a page turned upright by removing a
+// counter-clockwise skew theta (radians) to the w×h input, and the
+// upright page's size (the rotated input's bounding box).
+func rotation(theta float64, w, h int) (Homography, int, int) {
+	c, sn := math.Cos(theta), math.Sin(theta)
+	ow := int(math.Ceil(float64(w)*math.Abs(c) + float64(h)*math.Abs(sn)))
+	oh := int(math.Ceil(float64(w)*math.Abs(sn) + float64(h)*math.Abs(c)))
+	cx, cy := float64(w-1)/2, float64(h-1)/2
+	ux, uy := float64(ow-1)/2, float64(oh-1)/2
+	// t = c_t + R(θ)(u − c_u), R turning counter-clockwise as seen.
+	return Homography{
+		c, sn, cx - c*ux - sn*uy,
+		-sn, c, cy + sn*ux - c*uy,
+		0, 0, 1,
+	}, ow, oh
+}

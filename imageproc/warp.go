@@ -1,0 +1,140 @@
+package imageproc
+
+import (
+	"image"
+	"math"
+)
+
+// warpNRGBA fills dst by sampling src bilinearly at toSrc(x, y) for every
+// dst pixel; samples outside src are white paper.
+func warpNRGBA(dst, src *image.NRGBA, toSrc Homography) {
+	dw, dh := dst.Rect.Dx(), dst.Rect.Dy()
+	sw, sh := src.Rect.Dx(), src.Rect.Dy()
+	affine := toSrc[6] == 0 && toSrc[7] == 0
+	h := toSrc
+	if affine && h[8] != 1 {
+		for i := range h {
+			h[i] /= toSrc[8]
+		}
+	}
+	sp := src.Pix
+	ss := src.Stride
+	white := []uint8{255, 255, 255, 255}
+	pick := func(xx, yy int) []uint8 {
+		if xx < 0 || yy < 0 || xx >= sw || yy >= sh {
+			return white
+		}
+		i := yy*ss + 4*xx
+		return sp[i : i+4 : i+4]
+	}
+	for y := 0; y < dh; y++ {
+		fy := float64(y)
+		// x, y, w of the source point are linear along the row.
+		px := h[1]*fy + h[2]
+		py := h[4]*fy + h[5]
+		pw := h[7]*fy + h[8]
+		d := dst.Pix[y*dst.Stride : y*dst.Stride+4*dw]
+		for x := 0; x < dw; x++ {
+			fx := float64(x)
+			sx := h[0]*fx + px
+			sy := h[3]*fx + py
+			if !affine {
+				w := h[6]*fx + pw
+				sx /= w
+				sy /= w
+			}
+			o := d[4*x : 4*x+4 : 4*x+4]
+			if !(sx > -1 && sy > -1 && sx < float64(sw) && sy < float64(sh)) {
+				o[0], o[1], o[2], o[3] = 255, 255, 255, 255
+				continue
+			}
+			x0f, y0f := math.Floor(sx), math.Floor(sy)
+			ax, ay := sx-x0f, sy-y0f
+			x0, y0 := int(x0f), int(y0f)
+			x1, y1 := x0+1, y0+1
+			// Clamp at the border (outside pixels read as white).
+			var c00, c10, c01, c11 []uint8
+			if x0 >= 0 && y0 >= 0 && x1 < sw && y1 < sh {
+				i := y0*ss + 4*x0
+				c00 = sp[i : i+4 : i+4]
+				c10 = sp[i+4 : i+8 : i+8]
+				c01 = sp[i+ss : i+ss+4 : i+ss+4]
+				c11 = sp[i+ss+4 : i+ss+8 : i+ss+8]
+			} else {
+				c00, c10, c01, c11 = pick(x0, y0), pick(x1, y0), pick(x0, y1), pick(x1, y1)
+			}
+			w00 := (1 - ax) * (1 - ay)
+			w10 := ax * (1 - ay)
+			w01 := (1 - ax) * ay
+			w11 := ax * ay
+			for c := 0; c < 3; c++ {
+				v := w00*float64(c00[c]) + w10*float64(c10[c]) + w01*float64(c01[c]) + w11*float64(c11[c])
+				o[c] = uint8(v + 0.5)
+			}
+			o[3] = 255
+		}
+	}
+}
+
+// warpGray samples src bilinearly at toSrc(x, y) for every dst pixel;
+// outside samples are fill.
+func warpGray(dst, src *image.Gray, toSrc Homography, fill uint8) {
+	dw, dh := dst.Rect.Dx(), dst.Rect.Dy()
+	sw, sh := src.Rect.Dx(), src.Rect.Dy()
+	for y := 0; y < dh; y++ {
+		d := dst.Pix[y*dst.Stride : y*dst.Stride+dw]
+		for x := range d {
+			sx, sy := Apply(toSrc, float64(x), float64(y))
+			if !(sx >= 0 && sy >= 0 && sx <= float64(sw-1) && sy <= float64(sh-1)) {
+				d[x] = fill
+				continue
+			}
+			x0, y0 := int(sx), int(sy)
+			ax, ay := sx-float64(x0), sy-float64(y0)
+			x1, y1 := min(x0+1, sw-1), min(y0+1, sh-1)
+			r0 := src.Pix[y0*src.Stride:]
+			r1 := src.Pix[y1*src.Stride:]
+			v := (1-ay)*((1-ax)*float64(r0[x0])+ax*float64(r0[x1])) + ay*((1-ax)*float64(r1[x0])+ax*float64(r1[x1]))
+			d[x] = uint8(v + 0.5)
+		}
+	}
+}
+
+// quarterTurn returns the homography mapping a pixel of the image turned
+// q×90° counter-clockwise back to the w×h input it was turned from.
+func quarterTurn(q, w, h int) Homography {
+	W, H := float64(w-1), float64(h-1)
+	switch q & 3 {
+	case 1: // upright (ux,uy) ← source (W−uy, ux)
+		return Homography{0, -1, W, 1, 0, 0, 0, 0, 1}
+	case 2:
+		return Homography{-1, 0, W, 0, -1, H, 0, 0, 1}
+	case 3: // source (uy, H−ux)
+		return Homography{0, 1, 0, -1, 0, H, 0, 0, 1}
+	}
+	return identity
+}
+
+// turnedSize returns the size of a w×h image after q quarter turns.
+func turnedSize(q, w, h int) (int, int) {
+	if q&1 == 1 {
+		return h, w
+	}
+	return w, h
+}
+
+// turnGray returns src turned q×90° counter-clockwise.
+func turnGray(src *image.Gray, q int) *image.Gray {
+	w, h := src.Rect.Dx(), src.Rect.Dy()
+	tw, th := turnedSize(q, w, h)
+	dst := image.NewGray(image.Rect(0, 0, tw, th))
+	m := quarterTurn(q, w, h)
+	for y := 0; y < th; y++ {
+		for x := 0; x < tw; x++ {
+			sx := int(m[0]*float64(x) + m[1]*float64(y) + m[2])
+			sy := int(m[3]*float64(x) + m[4]*float64(y) + m[5])
+			dst.Pix[y*dst.Stride+x] = src.Pix[sy*src.Stride+sx]
+		}
+	}
+	return dst
+}
