@@ -166,14 +166,13 @@ func plan(rec *ecg.Record, o resolved) (*sheet, error) {
 		if !have(lead) {
 			return nil, fmt.Errorf("render: rhythm lead %v not in record: %w", lead, ecg.ErrNoECG)
 		}
-		rowH := math.Max(12, math.Round(2.2*o.gain))
-		nrows := int(math.Floor(sh.gh / rowH))
+		// As many rows as fit with at least 2 mV (and 12 mm) between
+		// baselines, spread evenly over the grid.
+		nrows := max(1, int(math.Floor(sh.gh/math.Max(12, 2*o.gain))))
 		if o.paper == PaperStrip {
-			rowH, nrows = sh.gh, 1
-		}
-		if nrows < 1 {
 			nrows = 1
 		}
+		rowH := sh.gh / float64(nrows)
 		for r := 0; r < nrows; r++ {
 			t0 := start + float64(r)*total
 			if t0 >= end-1e-9 {

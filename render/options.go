@@ -10,6 +10,7 @@ import (
 	"time"
 
 	"tracelift/ecg"
+	"tracelift/scansim"
 )
 
 // Paper names.
@@ -104,9 +105,10 @@ type Options struct {
 	// RhythmLead is the lead of the "rhythm" layout and of strips;
 	// LeadUnknown means II (or the record's first lead if II is absent).
 	RhythmLead ecg.Lead
-	// Scan, if set, is applied to the finished page by the scan
-	// simulation; the truth geometry includes its homography.
-	Scan ScanFunc
+	// Scan, if set, is applied last to the finished page by the scan
+	// simulation (scansim.Apply); the truth geometry (PaperToImage,
+	// PxPerMM, RotationDeg, size) includes its homography.
+	Scan *scansim.Options
 	// Condition is a name recorded in the truth (e.g. "clean", "fax").
 	Condition string
 }
@@ -121,7 +123,7 @@ type resolved struct {
 	traceColor       color.NRGBA
 	header           Header
 	rhythmLead       ecg.Lead
-	scan             ScanFunc
+	scan             *scansim.Options
 	condition        string
 }
 

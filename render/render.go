@@ -9,12 +9,8 @@ import (
 	"strings"
 
 	"tracelift/ecg"
+	"tracelift/scansim"
 )
-
-// ScanFunc simulates scanning, faxing or photographing a page: it returns
-// the degraded image and the homography h (row-major, input px → output
-// px, pixel centres at integer coordinates) that it applied.
-type ScanFunc func(img image.Image) (out image.Image, h [9]float64, err error)
 
 // Page is a rendered page and its truth.
 type Page struct {
@@ -53,9 +49,9 @@ func Render(rec ecg.Record, opt *Options) (*Page, error) {
 	t.WidthPx, t.HeightPx = r.img.Bounds().Dx(), r.img.Bounds().Dy()
 	page := &Page{Image: r.img, Truth: t}
 	if o.scan != nil {
-		out, h, err := o.scan(r.img)
+		out, h, err := scansim.Apply(r.img, *o.scan)
 		if err != nil {
-			return nil, fmt.Errorf("render: scan simulation: %w", err)
+			return nil, fmt.Errorf("render: scan simulation: %w: %w", ErrOption, err)
 		}
 		page.Image = out
 		composeScan(&page.Truth, h, out.Bounds())
@@ -63,10 +59,14 @@ func Render(rec ecg.Record, opt *Options) (*Page, error) {
 	return page, nil
 }
 
-// composeScan folds the scan homography h (render px → output px) into
-// the truth geometry.
+// composeScan folds the scan homography h (render px → output px, in
+// scansim's convention of pixel centres at integer + 0.5) into the truth
+// geometry (pixel centres at integers): shift by +0.5 px, apply h, shift
+// back.
 func composeScan(t *Truth, h [9]float64, b image.Rectangle) {
-	t.PaperToImage = mulH(h, t.PaperToImage)
+	in := [9]float64{1, 0, 0.5, 0, 1, 0.5, 0, 0, 1}
+	out := [9]float64{1, 0, -0.5, 0, 1, -0.5, 0, 0, 1}
+	t.PaperToImage = mulH(out, mulH(h, mulH(in, t.PaperToImage)))
 	t.WidthPx, t.HeightPx = b.Dx(), b.Dy()
 	// Local scale and rotation at the paper's centre, by central
 	// differences of the composed homography.

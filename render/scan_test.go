@@ -1,0 +1,121 @@
+package render
+
+import (
+	"image"
+	"math"
+	"testing"
+
+	"tracelift/scansim"
+)
+
+// grayAt returns 255 − luminance-ish darkness (max channel) of any image.
+func darkness(img image.Image, x, y int) float64 {
+	r, g, b, _ := img.At(x, y).RGBA()
+	return 255 - float64(max(r, g, b)>>8)
+}
+
+// TestScanGeometry renders with a geometric scan simulation (rotation and
+// unequal scales, no blur or noise) and checks that the truth's composed
+// homography still puts the trace where the ink is: the ink centroid in a
+// small window around each predicted point lies within half a pixel of the
+// predicted trace line (perpendicular distance).
+func TestScanGeometry(t *testing.T) {
+	rec := sineRecord(500, 10, 0.4, 0.4, 0)
+	for _, sc := range []scansim.Options{
+		{RotationDeg: 2.5, ScaleX: 0.8, ScaleY: 0.8},
+		{RotationDeg: -1.2, ScaleX: 0.68, ScaleY: 0.5},
+		{Perspective: 0.08, RotationDeg: 4, Seed: 3},
+	} {
+		p, err := Render(rec, &Options{Layout: Layout12x1, DPI: 300, Grid: Grid{Kind: GridNone}, Header: hidden(), Scan: &sc})
+		if err != nil {
+			t.Fatal(err)
+		}
+		tr := p.Truth
+		if sc.Perspective == 0 {
+			if math.Abs(tr.RotationDeg-sc.RotationDeg) > 1e-6 {
+				t.Errorf("rotation %g°, want %g°", tr.RotationDeg, sc.RotationDeg)
+			}
+			if w := 300 / 25.4 * sc.ScaleX; math.Abs(tr.PxPerMMX-w) > 1e-6 {
+				t.Errorf("px/mm x %g, want %g", tr.PxPerMMX, w)
+			}
+			if w := 300 / 25.4 * sc.ScaleY; math.Abs(tr.PxPerMMY-w) > 1e-6 {
+				t.Errorf("px/mm y %g, want %g", tr.PxPerMMY, w)
+			}
+		}
+		if b := p.Image.Bounds(); b.Dx() != tr.WidthPx || b.Dy() != tr.HeightPx {
+			t.Errorf("truth size %d×%d, image %v", tr.WidthPx, tr.HeightPx, b)
+		}
+		var worst float64
+		n := 0
+		for _, pn := range tr.Panels {
+			sig := rec.Signal(mustLead(t, pn.Lead))
+			for ts := pn.T0 + 0.2; ts < pn.T1-0.2; ts += 0.37 {
+				x, y := tr.PanelPoint(pn, ts, sampleLinear(sig, ts))
+				u, v := tr.PaperToPx(x, y)
+				x2, y2 := tr.PanelPoint(pn, ts+0.01, sampleLinear(sig, ts+0.01))
+				u2, v2 := tr.PaperToPx(x2, y2)
+				du, dv := u2-u, v2-v
+				l := math.Hypot(du, dv)
+				nu, nv := -dv/l, du/l // unit normal of the trace
+				var sw, su, sv float64
+				for yy := int(v) - 4; yy <= int(v)+4; yy++ {
+					for xx := int(u) - 4; xx <= int(u)+4; xx++ {
+						if w := darkness(p.Image, xx, yy) - 40; w > 0 {
+							sw += w
+							su += w * float64(xx)
+							sv += w * float64(yy)
+						}
+					}
+				}
+				if sw == 0 {
+					t.Fatalf("%+v: no ink near (%.1f, %.1f) for %s at %.2f s", sc, u, v, pn.Lead, ts)
+				}
+				d := math.Abs((su/sw-u)*nu + (sv/sw-v)*nv)
+				worst = math.Max(worst, d)
+				n++
+			}
+		}
+		t.Logf("rotation %g° scale %g×%g perspective %g: worst perpendicular offset %.3f px over %d points", sc.RotationDeg, sc.ScaleX, sc.ScaleY, sc.Perspective, worst, n)
+		if worst > 0.5 {
+			t.Errorf("scan %+v: worst offset %.3f px, want ≤ 0.5", sc, worst)
+		}
+	}
+}
+
+// TestConditions renders every named condition at a small size and
+// checks the truth records it.
+func TestConditions(t *testing.T) {
+	if testing.Short() {
+		t.Skip("renders eight scanned pages")
+	}
+	for i, name := range ConditionNames() {
+		o, err := ConditionOptions(name, uint64(i+1))
+		if err != nil {
+			t.Fatal(err)
+		}
+		if (name == "clean") != (o.Scan == nil) {
+			t.Errorf("%s: scan options %v", name, o.Scan)
+		}
+		o.DPI = 100 // keep the test light; presets were drawn for 300 dpi
+		rec, err := CorpusRecord(uint64(i), name == "overlap")
+		if err != nil {
+			t.Fatal(err)
+		}
+		p, err := Render(rec, o)
+		if err != nil {
+			t.Fatalf("%s: %v", name, err)
+		}
+		if p.Truth.Condition != name || p.Image.Bounds().Dx() != p.Truth.WidthPx {
+			t.Errorf("%s: truth %q %d px wide, image %v", name, p.Truth.Condition, p.Truth.WidthPx, p.Image.Bounds())
+		}
+	}
+	if _, err := ConditionOptions("mud", 1); err == nil {
+		t.Error("unknown condition accepted")
+	}
+	// Same seed, same options.
+	a, _ := ConditionOptions("photo", 9)
+	b, _ := ConditionOptions("photo", 9)
+	if a.Layout != b.Layout || a.Grid != b.Grid || *a.Scan != *b.Scan {
+		t.Error("ConditionOptions is not deterministic")
+	}
+}
