@@ -1,0 +1,227 @@
+package grid
+
+import (
+	"fmt"
+	"math"
+	"slices"
+
+	"tracelift/ecg"
+	"tracelift/imageproc"
+)
+
+// ErrNoGrid reports a page on which neither a grid nor a calibration pulse
+// could be found (and no resolution was given). It wraps ecg.ErrNoECG.
+var ErrNoGrid = fmt.Errorf("grid: no grid and no calibration pulse found: %w", ecg.ErrNoECG)
+
+// Options tune Detect. A nil *Options means the defaults.
+type Options struct {
+	// DPIX, DPIY are a resolution given by the user (--dpi), dots per inch;
+	// 0 means none. Resolution metadata travels in imageproc.Page.DPIX/DPIY.
+	DPIX, DPIY float64
+	// SpeedMMPerS and GainMMPerMV are the user's paper speed (mm/s) and
+	// gain (mm/mV); 0 means automatic.
+	SpeedMMPerS, GainMMPerMV float64
+}
+
+// Result is what Detect found on an upright page.
+type Result struct {
+	Calibration Calibration
+	Pulses      []Pulse // 1 mV calibration pulses, upright px
+	// MinorPitchX, MinorPitchY are the 1 mm line spacings, px (equal to the
+	// calibration's px/mm when measured from the grid).
+	MinorPitchX, MinorPitchY float64
+	// XLines, YLines are the positions of the major (5 mm) lines found:
+	// x of vertical lines and y of horizontal lines, px.
+	XLines, YLines []float64
+	// GridFound reports that the printed grid was measured on both axes.
+	GridFound bool
+	Warnings  []string
+}
+
+// Detect measures the grid of an upright page (imageproc.Prepare's
+// output) and calibrates it: px/mm along x and y from the grid's period,
+// gain from the calibration pulses, speed from options or 25 mm/s. Without
+// a grid it falls back to the user's resolution, the pulses (assuming
+// 10 mm/mV) and the image's metadata, with a warning. With none of these it
+// returns ErrNoGrid.
+func Detect(p *imageproc.Page, opt *Options) (*Result, error) {
+	var o Options
+	if opt != nil {
+		o = *opt
+	}
+	if p == nil || p.Grid == nil || p.Ink == nil {
+		return nil, fmt.Errorf("grid: detect: no page")
+	}
+	r := &Result{}
+	px, okx := measureAxis(p.Grid, true)
+	py, oky := measureAxis(p.Grid, false)
+	if okx && oky {
+		// Both axes of one page: unresolved minor lines on one axis only
+		// show up as a 5:1 disagreement.
+		px, py = reconcile(px, py)
+	}
+	if okx {
+		r.Calibration.PxPerMMX = Value{px.pitch, FromGrid}
+		r.MinorPitchX = px.pitch
+		r.XLines = px.major
+	}
+	if oky {
+		r.Calibration.PxPerMMY = Value{py.pitch, FromGrid}
+		r.MinorPitchY = py.pitch
+		r.YLines = py.major
+	}
+	r.GridFound = okx && oky
+	// Only one axis measured: the other from the option, else assume
+	// square pixels.
+	switch {
+	case okx && !oky:
+		r.Calibration.PxPerMMY = fallbackAxis(o.DPIY, p.DPIY, px.pitch)
+		r.Warnings = append(r.Warnings, "grid: horizontal grid lines not found; px/mm along y taken as "+r.Calibration.PxPerMMY.String())
+	case oky && !okx:
+		r.Calibration.PxPerMMX = fallbackAxis(o.DPIX, p.DPIX, py.pitch)
+		r.Warnings = append(r.Warnings, "grid: vertical grid lines not found; px/mm along x taken as "+r.Calibration.PxPerMMX.String())
+	case !okx && !oky:
+		switch {
+		case o.DPIX > 0 || o.DPIY > 0:
+			dx, dy := orOther(o.DPIX, o.DPIY), orOther(o.DPIY, o.DPIX)
+			r.Calibration.PxPerMMX = Value{dx / 25.4, FromOption}
+			r.Calibration.PxPerMMY = Value{dy / 25.4, FromOption}
+			r.Warnings = append(r.Warnings, "grid: no grid found; px/mm from the given resolution")
+		case p.DPIX > 0 || p.DPIY > 0:
+			dx, dy := orOther(p.DPIX, p.DPIY), orOther(p.DPIY, p.DPIX)
+			r.Calibration.PxPerMMX = Value{dx / 25.4, FromMetadata}
+			r.Calibration.PxPerMMY = Value{dy / 25.4, FromMetadata}
+			r.Warnings = append(r.Warnings, "grid: no grid found; px/mm from the image's resolution metadata")
+		}
+	}
+	// Pulses: with a scale, search in millimetres; without one, a
+	// rectangular pulse of any size gives the scale (1 mV = gain mm).
+	scaleY := r.Calibration.PxPerMMY.V
+	scaleX := r.Calibration.PxPerMMX.V
+	r.Pulses = findPulses(p.Ink, scaleX, scaleY)
+	if scaleY == 0 {
+		if len(r.Pulses) == 0 {
+			return nil, ErrNoGrid
+		}
+		gain := o.GainMMPerMV
+		if gain == 0 {
+			gain = 10
+		}
+		hpx := medianPulse(r.Pulses, func(q Pulse) float64 { return q.BaseY - q.TopY })
+		v := hpx / gain
+		r.Calibration.PxPerMMY = Value{v, FromPulse}
+		r.Calibration.PxPerMMX = Value{v, FromPulse}
+		r.Warnings = append(r.Warnings, fmt.Sprintf("grid: no grid and no resolution; px/mm (%.3g) from the calibration pulse's height assuming %g mm/mV and square pixels", v, gain))
+		for i := range r.Pulses {
+			r.Pulses[i].HeightMM = (r.Pulses[i].BaseY - r.Pulses[i].TopY) / v
+		}
+	}
+	r.calibrateGainSpeed(o)
+	return r, nil
+}
+
+func orOther(a, b float64) float64 {
+	if a > 0 {
+		return a
+	}
+	return b
+}
+
+// fallbackAxis picks px/mm for an axis without grid lines: the user's dpi,
+// else metadata, else the other axis's value (square pixels).
+func fallbackAxis(user, meta, other float64) Value {
+	switch {
+	case user > 0:
+		return Value{user / 25.4, FromOption}
+	case meta > 0:
+		return Value{meta / 25.4, FromMetadata}
+	}
+	return Value{other, FromGrid}
+}
+
+// standardGains are the usual gains, mm/mV (standards.md §1.1, M).
+var standardGains = []float64{5, 10, 20}
+
+// calibrateGainSpeed fills gain and speed.
+func (r *Result) calibrateGainSpeed(o Options) {
+	c := &r.Calibration
+	switch {
+	case o.GainMMPerMV > 0:
+		c.GainMMPerMV = Value{o.GainMMPerMV, FromOption}
+		if len(r.Pulses) > 0 && c.PxPerMMY.Origin != FromPulse {
+			h := medianPulse(r.Pulses, func(q Pulse) float64 { return q.HeightMM })
+			if math.Abs(h-o.GainMMPerMV) > 0.1*o.GainMMPerMV {
+				r.Warnings = append(r.Warnings, fmt.Sprintf("grid: calibration pulses are %.1f mm tall but the gain was given as %g mm/mV", h, o.GainMMPerMV))
+			}
+		}
+	case len(r.Pulses) > 0 && c.PxPerMMY.Origin != FromPulse:
+		h := medianPulse(r.Pulses, func(q Pulse) float64 { return q.HeightMM })
+		g, snapped := snapGain(h)
+		c.GainMMPerMV = Value{g, FromPulse}
+		if !snapped {
+			r.Warnings = append(r.Warnings, fmt.Sprintf("grid: calibration pulse height %.2f mm is not a standard gain (5, 10, 20 mm/mV); using the measured value", h))
+		}
+	case c.PxPerMMY.Origin == FromPulse:
+		c.GainMMPerMV = Value{10, FromDefault}
+		if o.GainMMPerMV > 0 {
+			c.GainMMPerMV = Value{o.GainMMPerMV, FromOption}
+		}
+	default:
+		c.GainMMPerMV = Value{10, FromDefault}
+		r.Warnings = append(r.Warnings, "grid: no calibration pulse found; assuming the standard 10 mm/mV")
+	}
+	if o.SpeedMMPerS > 0 {
+		c.SpeedMMPerS = Value{o.SpeedMMPerS, FromOption}
+	} else {
+		c.SpeedMMPerS = Value{25, FromDefault}
+	}
+	// Cross-check: the printed pulse is usually about 0.2 s wide (common
+	// practice): at 50 mm/s it would be about 10 mm.
+	if len(r.Pulses) > 0 && c.PxPerMMX.V > 0 {
+		wmm := medianPulse(r.Pulses, func(q Pulse) float64 { return (q.X1 - q.X0) / c.PxPerMMX.V })
+		if s := wmm / c.SpeedMMPerS.V; s < 0.06 || s > 0.5 {
+			r.Warnings = append(r.Warnings, fmt.Sprintf("grid: calibration pulse is %.1f mm wide (%.2f s at %g mm/s): check the paper speed", wmm, s, c.SpeedMMPerS.V))
+		}
+	}
+}
+
+// snapGain rounds a measured pulse height (mm for 1 mV) to a standard
+// gain when within 4 %.
+func snapGain(h float64) (float64, bool) {
+	for _, g := range standardGains {
+		if math.Abs(h-g) <= 0.04*g {
+			return g, true
+		}
+	}
+	return h, false
+}
+
+func medianPulse(ps []Pulse, f func(Pulse) float64) float64 {
+	v := make([]float64, len(ps))
+	for i, q := range ps {
+		v[i] = f(q)
+	}
+	slices.Sort(v)
+	return v[len(v)/2]
+}
+
+// axisFit is one axis's grid measurement.
+type axisFit struct {
+	pitch  float64   // px per 1 mm
+	major  []float64 // major line positions, px
+	minorR bool      // minor lines resolved
+	period float64   // autocorrelation period used, px
+}
+
+// reconcile fixes a 5:1 mix-up between the axes: if one axis resolved only
+// major lines and reads 5× the other, believe the resolved one.
+func reconcile(x, y axisFit) (axisFit, axisFit) {
+	ratio := x.pitch / y.pitch
+	switch {
+	case math.Abs(ratio/5-1) < 0.15 && !x.minorR && y.minorR:
+		x.pitch /= 5
+	case math.Abs(ratio*5-1) < 0.15 && !y.minorR && x.minorR:
+		y.pitch /= 5
+	}
+	return x, y
+}

@@ -1,0 +1,210 @@
+package grid
+
+import (
+	"image"
+	"math"
+	"slices"
+)
+
+// stroke is a vertical ink stroke: columns x0..x1 whose ink runs span
+// y0..y1 (px, inclusive).
+type stroke struct {
+	x0, x1 int
+	y0, y1 int
+}
+
+// findPulses finds rectangular calibration pulses in an ink map: two
+// vertical strokes of equal extent, 1.5–16 mm apart, joined along their
+// top by ink (the flat 1 mV level) and with ink at their foot (the
+// baseline). QRS complexes have pointed tops and fail the flat-top test.
+// ppmX, ppmY are px/mm (0 when unknown: then strokes of 8–400 px count).
+func findPulses(ink *image.Gray, ppmX, ppmY float64) []Pulse {
+	w, h := ink.Rect.Dx(), ink.Rect.Dy()
+	const on = 110
+	minRun, maxRun := 8, 400
+	if ppmY > 0 {
+		minRun, maxRun = int(2.5*ppmY), int(42*ppmY)
+	}
+	minRun = max(minRun, 6)
+	// Vertical runs per column, merged into strokes across columns.
+	var open, done []stroke
+	for x := 0; x < w; x++ {
+		var runs [][2]int
+		y := 0
+		for y < h {
+			if ink.Pix[y*ink.Stride+x] < on {
+				y++
+				continue
+			}
+			y0 := y
+			for y < h && ink.Pix[y*ink.Stride+x] >= on {
+				y++
+			}
+			if l := y - y0; l >= minRun && l <= maxRun {
+				runs = append(runs, [2]int{y0, y - 1})
+			}
+		}
+		var next []stroke
+		used := make([]bool, len(runs))
+		for _, s := range open {
+			ext := false
+			for i, r := range runs {
+				if !used[i] && abs(r[0]-s.y0) <= 3 && abs(r[1]-s.y1) <= 3 {
+					used[i] = true
+					s.x1 = x
+					s.y0, s.y1 = min(s.y0, r[0]), max(s.y1, r[1])
+					next = append(next, s)
+					ext = true
+					break
+				}
+			}
+			if !ext {
+				done = append(done, s)
+			}
+		}
+		for i, r := range runs {
+			if !used[i] {
+				next = append(next, stroke{x, x, r[0], r[1]})
+			}
+		}
+		open = next
+	}
+	done = append(done, open...)
+	// Strokes are thin (a pen width).
+	maxW := 6
+	if ppmX > 0 {
+		maxW = max(3, int(1.2*ppmX))
+	}
+	var st []stroke
+	for _, s := range done {
+		if s.x1-s.x0+1 <= maxW {
+			st = append(st, s)
+		}
+	}
+	slices.SortFunc(st, func(a, b stroke) int { return a.x0 - b.x0 })
+	minGap, maxGap := 6, 200
+	tol := 4
+	if ppmX > 0 {
+		minGap, maxGap = int(1.5*ppmX), int(16*ppmX)
+	}
+	if ppmY > 0 {
+		tol = max(2, int(0.5*ppmY))
+	}
+	var out []Pulse
+	taken := make([]bool, len(st))
+	for i, a := range st {
+		if taken[i] {
+			continue
+		}
+		for j := i + 1; j < len(st); j++ {
+			b := st[j]
+			gap := b.x0 - a.x1
+			if gap > maxGap {
+				break
+			}
+			if taken[j] || gap < minGap || abs(a.y0-b.y0) > tol || abs(a.y1-b.y1) > tol {
+				continue
+			}
+			// Flat top: ink along the top between the strokes.
+			top := (a.y0 + b.y0) / 2
+			thick := topThickness(ink, a.x1+1, b.x0-1, top, on)
+			if thick == 0 || coverage(ink, a.x1+1, b.x0-1, top, thick, on) < 0.9 {
+				continue
+			}
+			base := (a.y1 + b.y1) / 2
+			// Foot: the baseline leaves the pulse on at least one side,
+			// and the top does not continue outside (a box or a table).
+			left := coverage(ink, max(0, a.x0-minGap), a.x0-1, base-thick+1, thick, on)
+			right := coverage(ink, b.x1+1, min(w-1, b.x1+minGap), base-thick+1, thick, on)
+			if max(left, right) < 0.6 {
+				continue
+			}
+			outside := coverage(ink, max(0, a.x0-minGap), a.x0-1, top, thick, on)
+			if outside > 0.5 {
+				continue
+			}
+			t := float64(thick)
+			p := Pulse{
+				X0:    float64(a.x0+a.x1) / 2,
+				X1:    float64(b.x0+b.x1) / 2,
+				TopY:  float64(top) + (t-1)/2,
+				BaseY: float64(a.y1+b.y1)/2 - (t-1)/2,
+			}
+			if ppmY > 0 {
+				p.HeightMM = (p.BaseY - p.TopY) / ppmY
+			}
+			out = append(out, p)
+			taken[i], taken[j] = true, true
+			break
+		}
+	}
+	return consistent(out)
+}
+
+// topThickness returns how many rows from y down are inked at the middle
+// of [x0, x1] (the pen width of the pulse's top), 0 if none.
+func topThickness(ink *image.Gray, x0, x1, y int, on uint8) int {
+	if x1 < x0 {
+		return 0
+	}
+	h := ink.Rect.Dy()
+	xm := (x0 + x1) / 2
+	// Find the ink near the top row first.
+	for y > 0 && ink.Pix[(y-1)*ink.Stride+xm] >= on {
+		y--
+	}
+	n := 0
+	for yy := y; yy < h && ink.Pix[yy*ink.Stride+xm] >= on; yy++ {
+		n++
+	}
+	return n
+}
+
+// coverage returns the fraction of columns in [x0, x1] with ink in rows
+// y..y+t−1 (±1).
+func coverage(ink *image.Gray, x0, x1, y, t int, on uint8) float64 {
+	h := ink.Rect.Dy()
+	if x1 < x0 {
+		return 0
+	}
+	n := 0
+	for x := x0; x <= x1; x++ {
+		for yy := max(0, y-1); yy <= min(h-1, y+t); yy++ {
+			if ink.Pix[yy*ink.Stride+x] >= on {
+				n++
+				break
+			}
+		}
+	}
+	return float64(n) / float64(x1-x0+1)
+}
+
+// consistent keeps the pulses whose height and width agree with the
+// median (within 12 %): one page has one gain.
+func consistent(ps []Pulse) []Pulse {
+	if len(ps) < 2 {
+		return ps
+	}
+	hs := make([]float64, len(ps))
+	ws := make([]float64, len(ps))
+	for i, p := range ps {
+		hs[i], ws[i] = p.BaseY-p.TopY, p.X1-p.X0
+	}
+	slices.Sort(hs)
+	slices.Sort(ws)
+	mh, mw := hs[len(hs)/2], ws[len(ws)/2]
+	var out []Pulse
+	for _, p := range ps {
+		if math.Abs(p.BaseY-p.TopY-mh) <= 0.12*mh && math.Abs(p.X1-p.X0-mw) <= 0.2*mw+2 {
+			out = append(out, p)
+		}
+	}
+	return out
+}
+
+func abs(a int) int {
+	if a < 0 {
+		return -a
+	}
+	return a
+}
