@@ -11,7 +11,7 @@ import (
 // tick within 1.5 mm.
 func breakAt(r rowInfo, x, pxX float64) bool {
 	for _, t := range r.ticks {
-		if math.Abs(float64(t)-x) <= 2.5*pxX {
+		if math.Abs(t-x) <= 2.5*pxX {
 			return true
 		}
 	}

@@ -33,12 +33,12 @@ type Panel struct {
 
 // Result is the outcome of Extract.
 type Result struct {
-	Record   ecg.Record             // one signal per lead, uniform rate from t = 0, NaN where not printed; Meta.SpeedMMPerS and GainMMPerMV filled
-	Layout   Layout                 // the layout used (detected or given)
-	Panels   []Panel                // one per printed segment
-	Quality  map[ecg.Lead]float64   // per lead, 0..1
-	Limb     ecg.LimbConsistency    // Einthoven/Goldberger residual of the extracted limb leads
-	Flagged  []ecg.Lead             // leads that failed the self-check
+	Record   ecg.Record           // one signal per lead, uniform rate from t = 0, NaN where not printed; Meta.SpeedMMPerS and GainMMPerMV filled
+	Layout   Layout               // the layout used (detected or given)
+	Panels   []Panel              // one per printed segment
+	Quality  map[ecg.Lead]float64 // per lead, 0..1
+	Limb     ecg.LimbConsistency  // Einthoven/Goldberger residual of the extracted limb leads
+	Flagged  []ecg.Lead           // leads that failed the self-check
 	Warnings []string
 }
 
@@ -293,7 +293,6 @@ func Extract(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse, opt *Op
 	}
 	return res, nil
 }
-
 
 // cabreraOf returns the Cabrera counterpart of a standard 3 × 4 layout: the
 // six limb positions hold aVL, I, −aVR (first column) and II, aVF, III
@@ -553,7 +552,7 @@ func alignToTicks(rows []rowInfo, lay *Layout, cal grid.Calibration) {
 			x := r.traceX0
 			for _, c := range lr.Cells[:len(lr.Cells)-1] {
 				x += (c.T1S - c.T0S) * pxPerS
-				if d := float64(tk) - x; math.Abs(d) < 4*pxX {
+				if d := tk - x; math.Abs(d) < 4*pxX {
 					ds = append(ds, d)
 				}
 			}

@@ -285,14 +285,31 @@ func penWidth(cr *columnRuns) float64 {
 }
 
 // pathPoints turns the state path into a polyline in image coordinates.
+//
+// The printed stroke is the centre line swept by a round pen of radius r
+// (px), so the run of column c reaches from min(y(x) − √(r²−(x−c)²)) to
+// max(y(x) + √(r²−(x−c)²)) over |x − c| ≤ r. Turned around, the runs of the
+// neighbouring columns bound the centre line at c:
+//
+//	L = max_k top(c+k) + √(r²−k²) ≤ y(c) ≤ min_k bot(c+k) − √(r²−k²) = U,
+//
+// which pins y(c) on steep strokes (L ≈ U) where a run's own middle would
+// be biased near an apex. A thin run takes its ink-weighted centre clipped
+// to [L, U]; a tall run whose top is at or above both neighbours' tops is
+// a peak and takes L, one whose bottom is at or below theirs a trough and
+// takes U, any other the middle of [L, U].
 func pathPoints(cr *columnRuns, states []state, path []int32, pen float64, res *pathResult) []Point {
 	W := len(path)
-	pts := make([]Point, 0, W+W/4)
-	hw := (pen - 1) / 2
+	pts := make([]Point, 0, W+W/8)
+	r := math.Max((pen-1)/2, 0)
+	kr := int(math.Ceil(r))
+	sk := make([]float64, 2*kr+1)
+	for k := -kr; k <= kr; k++ {
+		sk[k+kr] = math.Sqrt(math.Max(r*r-float64(k*k), 0))
+	}
 	thin := pen*1.6 + 1
-	tol := float32(hw + 1)
 	iv := func(c int) (float32, float32, bool) {
-		if c < 0 || c >= W || path[c] < 0 {
+		if c < 0 || c >= W || path[c] < 0 || states[path[c]].run < 0 {
 			return 0, 0, false
 		}
 		s := states[path[c]]
@@ -319,18 +336,28 @@ func pathPoints(cr *columnRuns, states []state, path []int32, pen float64, res *
 			jumpSum += gap
 			jumpN++
 		}
-		r := cr.runs[s.run]
+		ru := cr.runs[s.run]
 		x := float64(cr.x0 + c)
-		h := float64(r.bot - r.top + 1)
+		lo, hi := math.Inf(-1), math.Inf(1)
+		for k := -kr; k <= kr; k++ {
+			if t, b, ok := iv(c + k); ok {
+				lo = math.Max(lo, float64(t)+sk[k+kr])
+				hi = math.Min(hi, float64(b)-sk[k+kr])
+			}
+		}
+		h := float64(ru.bot - ru.top + 1)
 		if h <= thin {
-			pts = append(pts, Point{x, r.centre()})
+			y := ru.centre()
+			if lo <= hi {
+				y = math.Min(math.Max(y, lo), hi)
+			}
+			pts = append(pts, Point{x, y})
 			continue
 		}
-		top, bot := float64(r.top)+hw, float64(r.bot)-hw
 		pt, pb, okp := iv(c - 1)
 		nt, nb, okn := iv(c + 1)
 		if !okp && !okn {
-			pts = append(pts, Point{x, r.centre()})
+			pts = append(pts, Point{x, ru.centre()})
 			continue
 		}
 		if !okp {
@@ -339,9 +366,10 @@ func pathPoints(cr *columnRuns, states []state, path []int32, pen float64, res *
 		if !okn {
 			nt, nb = pt, pb
 		}
-		up := s.top < min(pt, nt)-tol
-		down := s.bot > max(pb, nb)+tol
+		up := s.top <= min(pt, nt)
+		down := s.bot >= max(pb, nb)
 		pc, nc := (pt+pb)/2, (nt+nb)/2
+		top, bot := float64(ru.top)+r, float64(ru.bot)-r
 		switch {
 		case up && down:
 			if pb-pt <= float32(thin) && nb-nt <= float32(thin) && absf(pc-nc) <= float32(pen)*2 {
@@ -350,27 +378,30 @@ func pathPoints(cr *columnRuns, states []state, path []int32, pen float64, res *
 				pts = append(pts, Point{x, float64(pc+nc) / 2})
 				continue
 			}
+			// A whole spike inside one column: both ends, nearer first.
 			if absf(pc-s.top) < absf(pc-s.bot) {
 				pts = append(pts, Point{x - 0.25, top}, Point{x + 0.25, bot})
 			} else {
 				pts = append(pts, Point{x - 0.25, bot}, Point{x + 0.25, top})
 			}
 		case up:
-			pts = append(pts, Point{x, top})
+			pts = append(pts, Point{x, math.Max(lo, top)})
 		case down:
-			pts = append(pts, Point{x, bot})
+			pts = append(pts, Point{x, math.Min(hi, bot)})
 		default:
-			// The pen passed through: enter at the end nearer the previous
-			// column, leave at the end nearer the next.
-			if absf(pc-s.top) < absf(pc-s.bot) {
-				pts = append(pts, Point{x - 0.25, top}, Point{x + 0.25, bot})
+			if lo <= hi || math.IsInf(lo, 0) || math.IsInf(hi, 0) {
+				if math.IsInf(lo, 0) || math.IsInf(hi, 0) {
+					pts = append(pts, Point{x, float64(ru.top+ru.bot) / 2})
+				} else {
+					pts = append(pts, Point{x, (lo + hi) / 2})
+				}
 			} else {
-				pts = append(pts, Point{x - 0.25, bot}, Point{x + 0.25, top})
+				pts = append(pts, Point{x, (lo + hi) / 2})
 			}
 		}
 	}
 	if jumpN > 0 {
-		res.meanJump = jumpSum / float64(jumpN) / 1 // px; converted by caller
+		res.meanJump = jumpSum / float64(jumpN)
 	}
 	return pts
 }

@@ -15,8 +15,8 @@ type rowInfo struct {
 	x0, x1   int     // horizontal extent of the row's ink, px
 	traceX0  float64 // left edge of the trace (after the calibration pulse), px
 	hasPulse bool
-	score    float64 // coverage of the row's extent by ink near the baseline, 0..1
-	ticks    []int   // x of tall isolated strokes (column separators), px
+	score    float64   // coverage of the row's extent by ink near the baseline, 0..1
+	ticks    []float64 // x of tall isolated strokes (column separators), px
 }
 
 // inkProfile returns the number of ink pixels of each image row.
@@ -256,12 +256,14 @@ func findTicks(ink *image.Gray, r *rowInfo, cal grid.Calibration, rowsAbove, row
 		if h < 3*pxY {
 			continue
 		}
-		if maxH(c-d) <= 2*pen+1 && maxH(c+d) <= 2*pen+1 {
-			x := cr.x0 + c
-			if n := len(r.ticks); n > 0 && x-r.ticks[n-1] < d {
-				continue
-			}
-			r.ticks = append(r.ticks, x)
+		e := c
+		for e+1 < cr.width() && maxH(e+1) >= 3*pxY {
+			e++
 		}
+		if e-c <= d && maxH(c-d) <= 2*pen+1 && maxH(e+d) <= 2*pen+1 {
+			// The stroke's centre, px.
+			r.ticks = append(r.ticks, float64(cr.x0)+float64(c+e)/2)
+		}
+		c = e
 	}
 }
