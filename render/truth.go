@@ -45,7 +45,7 @@ type Truth struct {
 	Grid          TruthGrid     `json:"grid"`
 	Panels        []TruthPanel  `json:"panels"`  // one per printed lead segment
 	Pulses        []TruthPulse  `json:"pulses"`  // one per row
-	Signals       []TruthSignal `json:"signals"` // the record that was printed
+	Signals       []TruthSignal `json:"signals"` // the record that was printed, over the printed time span
 	Beats         []TruthBeat   `json:"beats,omitempty"`
 	// TraceWidthMM is the stroke width of the traces.
 	TraceWidthMM float64 `json:"trace_width_mm"`
@@ -300,9 +300,21 @@ func buildTruth(rec *ecg.Record, sh *sheet) Truth {
 	for _, p := range sh.pulses {
 		t.Pulses = append(t.Pulses, TruthPulse{Row: p.row, X0MM: p.x0, X1MM: p.x1, BaselineYMM: p.baseline, HeightMM: p.height})
 	}
+	// Signals: each lead over the printed time span (the union of all
+	// panel windows), so a long record printed on one page does not carry
+	// hours of unprinted samples.
+	lo, hi := math.Inf(1), math.Inf(-1)
+	for _, p := range sh.panels {
+		lo, hi = math.Min(lo, p.t0), math.Max(hi, p.t1)
+	}
 	for _, sg := range rec.Signals {
-		t.Signals = append(t.Signals, TruthSignal{Lead: sg.Lead.String(), SampleRate: sg.SampleRate, StartS: sg.Start,
-			SamplesMV: append(Samples(nil), sg.Samples...)})
+		i0 := max(0, int(math.Floor((lo-sg.Start)*sg.SampleRate+1e-6)))
+		i1 := min(len(sg.Samples), int(math.Ceil((hi-sg.Start)*sg.SampleRate-1e-6))+1)
+		if i1 <= i0 {
+			continue
+		}
+		t.Signals = append(t.Signals, TruthSignal{Lead: sg.Lead.String(), SampleRate: sg.SampleRate,
+			StartS: sg.Start + float64(i0)/sg.SampleRate, SamplesMV: append(Samples(nil), sg.Samples[i0:i1]...)})
 	}
 	for _, b := range rec.Beats {
 		cls := ""

@@ -151,6 +151,7 @@ qualified clinicians under local rules and licensed practice.`,
 	root.AddCommand(
 		newDigitizeCmd(ios, nil),
 		newBatchCmd(ios, nil),
+		newRenderCmd(ios, nil),
 	)
 	return root
 }
