@@ -3,6 +3,7 @@ package grid
 import (
 	"image"
 	"math"
+	"slices"
 )
 
 // measureAxis measures the grid period along x (vertical lines, column
@@ -223,15 +224,19 @@ func fitLattice(pos, wt []float64, period float64) (pitch, phase float64, ok boo
 	}
 	pitch = period
 	phase = pos[a]
-	use := make([]bool, len(pos))
-	for iter := 0; iter < 4; iter++ {
+	lo0, hi0 := slices.Min(pos), slices.Max(pos)
+	// Grow the window around the anchor so that a slightly wrong period
+	// cannot slip the line indices at the far ends of the page.
+	radius := 12 * period
+	for final := false; ; {
 		var sk, sx, skk, skx, sn float64
 		lo, hi := math.Inf(1), math.Inf(-1)
-		for i, x := range pos {
+		for _, x := range pos {
+			if math.Abs(x-pos[a]) > radius {
+				continue
+			}
 			k := math.Round((x - phase) / pitch)
-			res := x - (phase + k*pitch)
-			use[i] = math.Abs(res) < 0.25*pitch
-			if !use[i] {
+			if math.Abs(x-(phase+k*pitch)) >= 0.25*pitch {
 				continue
 			}
 			sk += k
@@ -241,24 +246,26 @@ func fitLattice(pos, wt []float64, period float64) (pitch, phase float64, ok boo
 			sn++
 			lo, hi = min(lo, x), max(hi, x)
 		}
-		if sn < 8 {
-			return 0, 0, false
-		}
 		d := sn*skk - sk*sk
-		if d == 0 {
+		if sn < 3 || d == 0 {
 			return 0, 0, false
 		}
 		pitch = (sn*skx - sk*sx) / d
 		phase = (sx - pitch*sk) / sn
-		if iter == 3 {
+		if final {
 			// Lines must cover a good part of the axis and most maxima
 			// must sit on the lattice (a random texture's maxima do not).
 			frac := sn / float64(len(pos))
 			span := (hi - lo) / pitch
-			if frac < 0.6 || span < 12 {
+			if sn < 8 || frac < 0.6 || span < 12 {
 				return 0, 0, false
 			}
+			break
 		}
+		if pos[a]-radius <= lo0 && pos[a]+radius >= hi0 {
+			final = true
+		}
+		radius *= 1.6
 	}
 	return pitch, phase, pitch > 0
 }

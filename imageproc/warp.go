@@ -138,3 +138,14 @@ func turnGray(src *image.Gray, q int) *image.Gray {
 	}
 	return dst
 }
+
+// Warp fills dst by sampling src bilinearly at toSrc(x, y) for every dst
+// pixel (pixel centres at integer coordinates); samples outside src are
+// white paper. It is the resampler Prepare uses, exported for overlays
+// and for simulating scans in tests.
+func Warp(dst *image.NRGBA, src image.Image, toSrc Homography) {
+	if dst.Rect.Min != (image.Point{}) {
+		panic("imageproc: Warp: dst must start at (0,0)")
+	}
+	warpNRGBA(dst, toNRGBA(src), toSrc)
+}
