@@ -54,13 +54,13 @@ type Timing struct {
 // Result keeps every intermediate of a run. Fields of stages that did not
 // run are nil.
 type Result struct {
-	Source   decode.Page       // the input page (Image shared, not copied)
-	Page     *imageproc.Page   // upright, rectified page with ink and grid separated
-	Grid     *grid.Result      // calibration, pulses and grid geometry
-	Trace    *trace.Result     // layout, panels, record and quality
-	Report   *measure.Report   // measurements; nil if measuring failed
-	Timings  []Timing          // per stage, in order
-	Warnings []string          // every stage's warnings, prefixed with the stage
+	Source   decode.Page     // the input page (Image shared, not copied)
+	Page     *imageproc.Page // upright, rectified page with ink and grid separated
+	Grid     *grid.Result    // calibration, pulses and grid geometry
+	Trace    *trace.Result   // layout, panels, record and quality
+	Report   *measure.Report // measurements; nil if measuring failed
+	Timings  []Timing        // per stage, in order
+	Warnings []string        // every stage's warnings, prefixed with the stage
 }
 
 // Record returns the digitised record, or nil before trace extraction.
