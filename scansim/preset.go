@@ -79,7 +79,7 @@ func Preset(name string, dpi float64, seed uint64) (Options, error) {
 			LensK1:      k1,
 			Lighting:    u(0.3, 0.8),
 			PaperTint:   color.RGBA{255, 252, 245, 255},
-			Background:  color.RGBA{uint8(u(90, 150)), uint8(u(70, 110)), uint8(u(50, 80)), 255},
+			Background:  desk(u(80, 170), u(0.68, 0.8), u(0.48, 0.6)),
 			BlurPx:      u(0.8, 1.8) * k,
 			NoiseSD:     u(3, 8),
 			JPEGQuality: 70 + rng.IntN(21),
@@ -95,4 +95,10 @@ func Preset(name string, dpi float64, seed uint64) (Options, error) {
 		return Options{}, fmt.Errorf("%w: unknown preset %q (want one of %v)", ErrOptions, name, presetNames)
 	}
 	return o, nil
+}
+
+// desk is a wood or laminate desk colour: red level r, green and blue as
+// fractions of it.
+func desk(r, g, b float64) color.RGBA {
+	return color.RGBA{uint8(r), uint8(r * g), uint8(r * b), 255}
 }

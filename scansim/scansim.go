@@ -43,7 +43,7 @@ type Options struct {
 	PaperTint color.RGBA
 	// Background fills canvas area outside the page; the zero value means
 	// white.
-	Background color.RGBA
+	Background  color.RGBA
 	BlurPx      float64 // Gaussian blur sigma, output px; 0 = none
 	NoiseSD     float64 // sensor noise SD, 0–255 units
 	JPEGQuality int     // 1–100 for a JPEG round trip; 0 = none
@@ -117,8 +117,9 @@ func Apply(src image.Image, opt Options) (image.Image, [9]float64, error) {
 	}
 	rng := rand.New(rand.NewPCG(opt.Seed, opt.Seed^0x5ca55ca55ca55ca5))
 	sb := src.Bounds()
-	page := image.NewNRGBA(image.Rect(0, 0, sb.Dx(), sb.Dy()))
-	draw.Draw(page, page.Bounds(), src, sb.Min, draw.Src)
+	// The page is made opaque (composited over white), so its pixels read
+	// the same as NRGBA or RGBA.
+	page := opaqueCopy(src)
 
 	// Draws happen in a fixed order so each stage's randomness is stable
 	// whether or not earlier stages are enabled.
@@ -166,7 +167,13 @@ func Apply(src image.Image, opt Options) (image.Image, [9]float64, error) {
 	}
 	if opt.JPEGQuality > 0 {
 		var buf bytes.Buffer
-		if err := jpeg.Encode(&buf, img, &jpeg.Options{Quality: opt.JPEGQuality}); err != nil {
+		enc := img
+		if !opt.Grayscale {
+			// Opaque NRGBA pixels are valid RGBA; the encoder has a fast
+			// path for *image.RGBA only.
+			enc = &image.RGBA{Pix: out.Pix, Stride: out.Stride, Rect: out.Rect}
+		}
+		if err := jpeg.Encode(&buf, enc, &jpeg.Options{Quality: opt.JPEGQuality}); err != nil {
 			return nil, H, fmt.Errorf("scansim: jpeg: %w", err)
 		}
 		d, err := jpeg.Decode(&buf)
@@ -177,9 +184,7 @@ func Apply(src image.Image, opt Options) (image.Image, [9]float64, error) {
 		if opt.Grayscale {
 			img = toGray(d)
 		} else {
-			n := image.NewNRGBA(d.Bounds())
-			draw.Draw(n, n.Bounds(), d, d.Bounds().Min, draw.Src)
-			img = n
+			img = toNRGBA(d)
 		}
 	}
 	if opt.Binarize {
@@ -358,21 +363,79 @@ func light(img *image.NRGBA, strength float64, rng *rand.Rand) {
 }
 
 // addNoise adds Gaussian noise of SD sd to each channel (the same value to
-// all three when mono is set, since the image will become grey).
+// all three when mono is set, since the image will become grey). Deviates
+// come from a table of 65 536 normal draws indexed by 16-bit slices of
+// random words, four per rng call: much faster than one NormFloat64 per
+// channel and, at 8-bit output, indistinguishable.
 func addNoise(img *image.NRGBA, sd float64, mono bool, rng *rand.Rand) {
-	clamp := func(v float64) uint8 { return uint8(min(255, max(0, v+0.5))) }
-	for i := 0; i+3 < len(img.Pix); i += 4 {
+	var table [1 << 16]int16
+	for i := range table {
+		table[i] = int16(max(-32767, min(32767, math.Round(sd*rng.NormFloat64()*64))))
+	}
+	var word uint64
+	left := 0
+	next := func() int32 {
+		if left == 0 {
+			word, left = rng.Uint64(), 4
+		}
+		v := table[word&0xffff]
+		word >>= 16
+		left--
+		return int32(v)
+	}
+	clamp := func(v int32) uint8 { return uint8(min(255, max(0, (v+32)>>6))) }
+	pix := img.Pix
+	for i := 0; i+3 < len(pix); i += 4 {
 		if mono {
-			n := sd * rng.NormFloat64()
-			for c := range 3 {
-				img.Pix[i+c] = clamp(float64(img.Pix[i+c]) + n)
-			}
+			n := next()
+			pix[i] = clamp(int32(pix[i])<<6 + n)
+			pix[i+1] = clamp(int32(pix[i+1])<<6 + n)
+			pix[i+2] = clamp(int32(pix[i+2])<<6 + n)
 			continue
 		}
-		for c := range 3 {
-			img.Pix[i+c] = clamp(float64(img.Pix[i+c]) + sd*rng.NormFloat64())
+		pix[i] = clamp(int32(pix[i])<<6 + next())
+		pix[i+1] = clamp(int32(pix[i+1])<<6 + next())
+		pix[i+2] = clamp(int32(pix[i+2])<<6 + next())
+	}
+}
+
+// opaqueCopy returns src composited over white as a new NRGBA image at the
+// origin, copying rows directly for opaque *image.NRGBA and *image.RGBA
+// sources.
+func opaqueCopy(src image.Image) *image.NRGBA {
+	b := src.Bounds()
+	page := image.NewNRGBA(image.Rect(0, 0, b.Dx(), b.Dy()))
+	var pix []byte
+	var stride int
+	switch s := src.(type) {
+	case *image.NRGBA:
+		pix, stride = s.Pix[s.PixOffset(b.Min.X, b.Min.Y):], s.Stride
+	case *image.RGBA:
+		pix, stride = s.Pix[s.PixOffset(b.Min.X, b.Min.Y):], s.Stride
+	}
+	if pix != nil {
+		opaque := true
+		for y := 0; y < b.Dy() && opaque; y++ {
+			row := pix[y*stride : y*stride+4*b.Dx()]
+			for x := 3; x < len(row); x += 4 {
+				if row[x] != 255 {
+					opaque = false
+					break
+				}
+			}
+		}
+		if opaque {
+			for y := range b.Dy() {
+				copy(page.Pix[y*page.Stride:(y+1)*page.Stride], pix[y*stride:])
+			}
+			return page
 		}
 	}
+	for i := range page.Pix {
+		page.Pix[i] = 255
+	}
+	draw.Draw(page, page.Bounds(), src, b.Min, draw.Over)
+	return page
 }
 
 // toGray converts to grey with Rec. 601 luma; NRGBA and YCbCr/Gray inputs
@@ -383,7 +446,7 @@ func toGray(src image.Image) *image.Gray {
 	switch s := src.(type) {
 	case *image.Gray:
 		for y := range b.Dy() {
-			copy(g.Pix[y*g.Stride:y*g.Stride+b.Dx()], s.Pix[(y)*s.Stride:])
+			copy(g.Pix[y*g.Stride:y*g.Stride+b.Dx()], s.Pix[s.PixOffset(b.Min.X, b.Min.Y+y):])
 		}
 	case *image.NRGBA:
 		for y := range b.Dy() {
@@ -402,4 +465,26 @@ func toGray(src image.Image) *image.Gray {
 		draw.Draw(g, g.Bounds(), src, b.Min, draw.Src)
 	}
 	return g
+}
+
+// toNRGBA converts a decoded JPEG to opaque NRGBA, with a flat-pixel fast
+// path for *image.YCbCr (JFIF conversion, color.YCbCrToRGB).
+func toNRGBA(src image.Image) *image.NRGBA {
+	b := src.Bounds()
+	n := image.NewNRGBA(image.Rect(0, 0, b.Dx(), b.Dy()))
+	s, ok := src.(*image.YCbCr)
+	if !ok {
+		draw.Draw(n, n.Bounds(), src, b.Min, draw.Src)
+		return n
+	}
+	for y := range b.Dy() {
+		row := n.Pix[y*n.Stride:]
+		for x := range b.Dx() {
+			yi := s.YOffset(b.Min.X+x, b.Min.Y+y)
+			ci := s.COffset(b.Min.X+x, b.Min.Y+y)
+			r, g, bb := color.YCbCrToRGB(s.Y[yi], s.Cb[ci], s.Cr[ci])
+			row[4*x], row[4*x+1], row[4*x+2], row[4*x+3] = r, g, bb, 255
+		}
+	}
+	return n
 }

@@ -301,3 +301,39 @@ func BenchmarkScanA4(b *testing.B) {
 		}
 	}
 }
+
+// Sensor noise has the requested SD on a flat mid-grey page (the lookup
+// table of normal deviates must not distort the distribution).
+func TestNoiseSD(t *testing.T) {
+	src := image.NewNRGBA(image.Rect(0, 0, 400, 300))
+	for i := range src.Pix {
+		src.Pix[i] = 128
+		if i%4 == 3 {
+			src.Pix[i] = 255
+		}
+	}
+	for _, sd := range []float64{3, 10} {
+		out, _, err := Apply(src, Options{NoiseSD: sd, Seed: 2})
+		if err != nil {
+			t.Fatal(err)
+		}
+		pix := out.(*image.NRGBA).Pix
+		var s, s2, n float64
+		for i, v := range pix {
+			if i%4 == 3 {
+				continue
+			}
+			d := float64(v) - 128
+			s += d
+			s2 += d * d
+			n++
+		}
+		mean := s / n
+		got := math.Sqrt(s2/n - mean*mean)
+		// Rounding to 8 bits adds 1/12 grey level² of variance.
+		want := math.Sqrt(sd*sd + 1.0/12)
+		if math.Abs(got-want) > 0.03*want || math.Abs(mean) > 0.1 {
+			t.Errorf("noise SD %g: got SD %.3f mean %.3f, want SD %.3f", sd, got, mean, want)
+		}
+	}
+}
