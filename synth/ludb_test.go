@@ -15,7 +15,7 @@ import (
 // ludbWave is one expert-marked wave in an LUDB lead annotation: kind
 // 'p', 'N' (QRS) or 't', and onset, peak and offset in samples (500 Hz).
 type ludbWave struct {
-	kind           byte
+	kind          byte
 	on, peak, off int
 }
 
