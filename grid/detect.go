@@ -2,6 +2,7 @@ package grid
 
 import (
 	"fmt"
+	"image"
 	"math"
 	"slices"
 
@@ -53,8 +54,15 @@ func Detect(p *imageproc.Page, opt *Options) (*Result, error) {
 		return nil, fmt.Errorf("grid: detect: no page")
 	}
 	r := &Result{}
-	px, okx := measureAxis(p.Grid, true)
-	py, oky := measureAxis(p.Grid, false)
+	gm := p.Grid
+	if p.GridColor == imageproc.GridGrey || p.GridColor == imageproc.GridNone {
+		// Grey and 1-bit pages: the period is measured on the darkness
+		// itself; traces add no periodic component, faint or broken grid
+		// lines missed by the structure split still count.
+		gm = darkness(p.Gray, p.Ink)
+	}
+	px, okx := measureAxis(gm, true)
+	py, oky := measureAxis(gm, false)
 	if okx && oky {
 		// Both axes of one page: unresolved minor lines on one axis only
 		// show up as a 5:1 disagreement.
@@ -224,4 +232,24 @@ func reconcile(x, y axisFit) (axisFit, axisFit) {
 		y.pitch /= 5
 	}
 	return x, y
+}
+
+// darkness returns 255 − g where the ink map is weak and 0 on ink (and
+// next to it), so that traces — whose QRS complexes line up across rows at
+// the heart rate — do not dominate the profiles.
+func darkness(g, ink *image.Gray) *image.Gray {
+	d := image.NewGray(g.Rect)
+	w, h := g.Rect.Dx(), g.Rect.Dy()
+	for y := 0; y < h; y++ {
+		gr := g.Pix[y*g.Stride : y*g.Stride+w]
+		ir := ink.Pix[y*ink.Stride : y*ink.Stride+w]
+		dr := d.Pix[y*d.Stride : y*d.Stride+w]
+		for x, v := range gr {
+			if ir[x] > 40 || (x > 0 && ir[x-1] > 40) || (x < w-1 && ir[x+1] > 40) {
+				continue
+			}
+			dr[x] = 255 - v
+		}
+	}
+	return d
 }

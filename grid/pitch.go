@@ -257,7 +257,7 @@ func fitLattice(pos, wt []float64, period float64) (pitch, phase float64, ok boo
 			// must sit on the lattice (a random texture's maxima do not).
 			frac := sn / float64(len(pos))
 			span := (hi - lo) / pitch
-			if sn < 8 || frac < 0.6 || span < 12 {
+			if sn < 8 || frac < 0.6 || span < 16 {
 				return 0, 0, false
 			}
 			break

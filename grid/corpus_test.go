@@ -1,0 +1,128 @@
+package grid
+
+import (
+	"fmt"
+	"math"
+	"os"
+	"slices"
+	"strconv"
+	"testing"
+	"time"
+
+	"tracelift/imageproc"
+	"tracelift/render"
+)
+
+// corpusScore renders page i of a condition (render.CorpusPage, with its
+// truth sidecar), runs Prepare and Detect, and scores them.
+func corpusScore(t testing.TB, cond string, seed uint64, i int) (Score, error) {
+	pg, err := render.CorpusPage(seed, cond, i)
+	if err != nil {
+		t.Fatalf("render %s %d: %v", cond, i, err)
+	}
+	var opt imageproc.Options
+	if cond == "fax" {
+		// A fax TIFF carries its resolution tags (XResolution 282,
+		// YResolution 283; standards.md §6.2), which the decoder passes on.
+		opt.DPIX, opt.DPIY = pg.Truth.PxPerMMX*25.4, pg.Truth.PxPerMMY*25.4
+	}
+	p, err := imageproc.Prepare(pg.Image, &opt)
+	if err != nil {
+		return Score{}, err
+	}
+	r, err := Detect(p, nil)
+	if err != nil {
+		return Score{}, err
+	}
+	tr := pg.Truth
+	return Evaluate(p, r, Reference{PaperToImage: tr.PaperToImage, GridRectMM: tr.GridRectMM,
+		RotationDeg: tr.RotationDeg, GainMMPerMV: tr.GainMMPerMV, SpeedMMPerS: tr.SpeedMMPerS}), nil
+}
+
+// TestCorpusAccuracy asserts the front end's accuracy bounds on one
+// rendered page per condition (the renderer's truth sidecar is the
+// reference): skew within 0.1°, px/mm within 0.3 % on scans and 1 % on fax,
+// gain read exactly, orientation right.
+func TestCorpusAccuracy(t *testing.T) {
+	if testing.Short() {
+		t.Skip("renders full pages")
+	}
+	for _, tc := range []struct {
+		cond   string
+		pxTol  float64
+		skewOK bool
+	}{
+		{"clean", 0.003, true},
+		{"scan", 0.003, true},
+		{"gray", 0.003, true},
+		{"fax", 0.01, true},
+		{"lowres", 0.003, true},
+	} {
+		t.Run(tc.cond, func(t *testing.T) {
+			s, err := corpusScore(t, tc.cond, 100, 0)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if s.SkewErrDeg > 0.1 {
+				t.Errorf("skew error %.3f° > 0.1°", s.SkewErrDeg)
+			}
+			if !s.OrientationOK {
+				t.Fatalf("orientation wrong")
+			}
+			if s.PxPerMMErrX > tc.pxTol || s.PxPerMMErrY > tc.pxTol {
+				t.Errorf("px/mm error x %.4f y %.4f > %.3f", s.PxPerMMErrX, s.PxPerMMErrY, tc.pxTol)
+			}
+			if !s.GainOK {
+				t.Errorf("gain misread")
+			}
+		})
+	}
+}
+
+// TestCorpusEvaluation prints the per-condition evaluation table over
+// TRACELIFT_EVAL_N pages (default 20) per condition. It runs only when
+// TRACELIFT_EVAL is set: it takes minutes.
+func TestCorpusEvaluation(t *testing.T) {
+	if os.Getenv("TRACELIFT_EVAL") == "" {
+		t.Skip("set TRACELIFT_EVAL=1 to run the full front-end evaluation")
+	}
+	n := 20
+	if v, err := strconv.Atoi(os.Getenv("TRACELIFT_EVAL_N")); err == nil && v > 0 {
+		n = v
+	}
+	fmt.Printf("| condition | pages | fail | skew err median / p95 (°) | px/mm err x median / p95 (%%) | y median / p95 (%%) | gain ok | orient ok | residual p95 (mm) | s/page |\n|---|---|---|---|---|---|---|---|---|---|\n")
+	for _, cond := range []string{"clean", "scan", "gray", "fax", "photo", "lowres"} {
+		var sk, ex, ey, res []float64
+		fails, gain, orient := 0, 0, 0
+		t0 := time.Now()
+		for i := 0; i < n; i++ {
+			s, err := corpusScore(t, cond, 1000, i)
+			if err != nil {
+				fails++
+				continue
+			}
+			sk = append(sk, s.SkewErrDeg)
+			if s.OrientationOK {
+				orient++
+				ex = append(ex, 100*s.PxPerMMErrX)
+				ey = append(ey, 100*s.PxPerMMErrY)
+				res = append(res, s.ResidualMM)
+			}
+			if s.GainOK {
+				gain++
+			}
+		}
+		fmt.Printf("| %s | %d | %d | %.3f / %.3f | %.3f / %.3f | %.3f / %.3f | %d%% | %d%% | %.2f | %.1f |\n",
+			cond, n, fails, quant(sk, 0.5), quant(sk, 0.95), quant(ex, 0.5), quant(ex, 0.95), quant(ey, 0.5), quant(ey, 0.95),
+			100*gain/n, 100*orient/n, quant(res, 0.95), time.Since(t0).Seconds()/float64(n))
+	}
+}
+
+func quant(v []float64, q float64) float64 {
+	if len(v) == 0 {
+		return math.NaN()
+	}
+	s := slices.Clone(v)
+	slices.Sort(s)
+	return s[min(len(s)-1, int(q*float64(len(s))))]
+}
