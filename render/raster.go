@@ -51,9 +51,16 @@ func newRaster(wMM, hMM, dpi float64) *raster {
 	s := pxPerMM(dpi)
 	w, h := int(math.Round(wMM*s)), int(math.Round(hMM*s))
 	img := image.NewRGBA(image.Rect(0, 0, w, h))
+	// Fill the first row, then copy it down.
 	pix := img.Pix
-	for i := 0; i < len(pix); i += 4 {
-		pix[i], pix[i+1], pix[i+2], pix[i+3] = paperColor.R, paperColor.G, paperColor.B, 0xff
+	if len(pix) > 0 {
+		row := pix[:img.Stride]
+		for i := 0; i < len(row); i += 4 {
+			row[i], row[i+1], row[i+2], row[i+3] = paperColor.R, paperColor.G, paperColor.B, 0xff
+		}
+		for off := img.Stride; off < len(pix); off += img.Stride {
+			copy(pix[off:off+img.Stride], row)
+		}
 	}
 	return &raster{img: img, s: s}
 }

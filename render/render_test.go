@@ -323,6 +323,14 @@ func TestRhythmLayout(t *testing.T) {
 			t.Errorf("row %d: %+v", i, pn)
 		}
 	}
+	// The truth's signals cover the printed rows, not the whole record.
+	last := tr.Panels[len(tr.Panels)-1]
+	for _, sg := range tr.Signals {
+		end := sg.StartS + float64(len(sg.SamplesMV)-1)/sg.SampleRate
+		if sg.StartS > 1e-9 || end < math.Min(last.T1, 95)-0.01 || end > last.T1+0.01 {
+			t.Errorf("truth signal %s spans %g–%g s, printed 0–%g s", sg.Lead, sg.StartS, end, last.T1)
+		}
+	}
 	// A strip holds the whole record in one row.
 	p, err = Render(rec, &Options{Paper: PaperStrip, DPI: 100})
 	if err != nil {

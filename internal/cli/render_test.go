@@ -11,7 +11,10 @@ import (
 	"github.com/stretchr/testify/assert"
 	"github.com/stretchr/testify/require"
 
+	"tracelift/ecg"
+	"tracelift/export/edf"
 	"tracelift/render"
+	"tracelift/synth"
 )
 
 // TestRenderFlags checks how the command line fills renderOptions.
@@ -128,4 +131,29 @@ func TestRenderRun(t *testing.T) {
 	// Unwritable output folder: exit 6.
 	code = Main([]string{"render", "--synthetic", "--dpi", "60", "-o", filepath.Join(dir, "missing", "z.png")}, nil, &out, &errOut)
 	assert.Equal(t, ExitOutput, code)
+}
+
+// TestRenderEDF prints an EDF+ file written by export/edf and checks that
+// the truth carries the file's leads.
+func TestRenderEDF(t *testing.T) {
+	dir := t.TempDir()
+	rec, err := synth.Generate(synth.Default(), 5)
+	require.NoError(t, err)
+	in := filepath.Join(dir, "rec.edf")
+	require.NoError(t, edf.WriteFile(in, rec, nil))
+	js := filepath.Join(dir, "rec.json")
+	var out, errOut bytes.Buffer
+	code := Main([]string{"render", in, "--dpi", "60", "--layout", "12x1", "--truth", js}, nil, &out, &errOut)
+	require.Equal(t, ExitOK, code, "stderr: %s", errOut.String())
+	f, err := os.Open(js)
+	require.NoError(t, err)
+	defer f.Close()
+	tr, err := render.ReadTruth(f)
+	require.NoError(t, err)
+	assert.Len(t, tr.Panels, 12)
+	back := tr.Record()
+	ii := back.Signal(ecg.LeadII)
+	require.NotNil(t, ii)
+	// EDF stores 16-bit samples: within a few µV of the synthetic record.
+	assert.InDelta(t, rec.Signal(ecg.LeadII).Samples[250], ii.Samples[250], 0.005)
 }
