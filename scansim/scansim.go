@@ -283,6 +283,10 @@ func warp(page *image.NRGBA, w, h int, inv [9]float64, k1 float64, bg color.RGBA
 	r2 := cx*cx + cy*cy
 	pix, stride := page.Pix, page.Stride
 	bgv := [4]float64{float64(bg.R), float64(bg.G), float64(bg.B), float64(bg.A)}
+	if taps == 1 {
+		warpFast(out, page, inv, k1, bg)
+		return out
+	}
 	nt := float64(taps * taps)
 	for y := range h {
 		row := out.Pix[y*out.Stride:]
@@ -326,6 +330,50 @@ func warp(page *image.NRGBA, w, h int, inv [9]float64, k1 float64, bg color.RGBA
 		}
 	}
 	return out
+}
+
+// warpFast is warp with one sample per output pixel, using 8-bit
+// fixed-point bilinear weights.
+func warpFast(out, page *image.NRGBA, inv [9]float64, k1 float64, bg color.RGBA) {
+	w, h := out.Rect.Dx(), out.Rect.Dy()
+	pw, ph := page.Rect.Dx(), page.Rect.Dy()
+	cx, cy := float64(w)/2, float64(h)/2
+	r2 := cx*cx + cy*cy
+	pix, stride := page.Pix, page.Stride
+	maxX, maxY := float64(pw)-0.5, float64(ph)-0.5
+	for y := range h {
+		row := out.Pix[y*out.Stride : y*out.Stride+4*w]
+		for x := range w {
+			qx, qy := float64(x)+0.5, float64(y)+0.5
+			if k1 != 0 {
+				dx, dy := qx-cx, qy-cy
+				f := 1 + k1*(dx*dx+dy*dy)/r2
+				qx, qy = cx+dx*f, cy+dy*f
+			}
+			d := inv[6]*qx + inv[7]*qy + inv[8]
+			px := (inv[0]*qx+inv[1]*qy+inv[2])/d - 0.5
+			py := (inv[3]*qx+inv[4]*qy+inv[5])/d - 0.5
+			o := row[4*x : 4*x+4 : 4*x+4]
+			if px < -0.5 || py < -0.5 || px > maxX || py > maxY {
+				o[0], o[1], o[2], o[3] = bg.R, bg.G, bg.B, bg.A
+				continue
+			}
+			fx0, fy0 := math.Floor(px), math.Floor(py)
+			x0, y0 := int(fx0), int(fy0)
+			ax, ay := uint32((px-fx0)*256+0.5), uint32((py-fy0)*256+0.5)
+			x1, y1 := min(x0+1, pw-1), min(y0+1, ph-1)
+			x0, y0 = max(x0, 0), max(y0, 0)
+			a := pix[y0*stride+4*x0 : y0*stride+4*x0+4 : y0*stride+4*x0+4]
+			b := pix[y0*stride+4*x1 : y0*stride+4*x1+4 : y0*stride+4*x1+4]
+			c := pix[y1*stride+4*x0 : y1*stride+4*x0+4 : y1*stride+4*x0+4]
+			e := pix[y1*stride+4*x1 : y1*stride+4*x1+4 : y1*stride+4*x1+4]
+			w00, w01 := (256-ax)*(256-ay), ax*(256-ay)
+			w10, w11 := (256-ax)*ay, ax*ay
+			for k := range 4 {
+				o[k] = uint8((uint32(a[k])*w00 + uint32(b[k])*w01 + uint32(c[k])*w10 + uint32(e[k])*w11 + 32768) >> 16)
+			}
+		}
+	}
 }
 
 // tint multiplies every pixel by t/255.
