@@ -153,15 +153,14 @@ func WriteTable(w io.Writer, rows []Row) error {
 			f0(r.LeadsFoundPct), r.Swaps, f2(r.PxXErrPct), f2(r.PxYErrPct), f0(r.GainCorrectPct),
 			f2(r.SkewErrDeg), f1(r.HRErrBPM), f0(r.PRErrMS), f0(r.QRSErrMS), f0(r.QTErrMS), f2(r.SecondsPerPage))
 	}
-	if err := tw.Flush(); err != nil {
-		return err
-	}
-	_, err := fmt.Fprintln(w, strings.TrimSpace(`
-SNR: per printed lead, pooled over pages (aligned: one shift per page within ±60 ms, lead mean removed;
-strict: Challenge 2024, no shift, no mean removal); a lead not returned scores 0 dB.
-Calibration, skew and interval columns are medians of absolute errors against the truth.`))
-	return err
+	return tw.Flush()
 }
+
+// Legend explains the table columns.
+const Legend = `SNR: per printed lead, pooled over pages (aligned: one shift per page within ±60 ms, lead mean removed;
+strict: Challenge 2024, no shift, no mean removal); a lead not returned scores 0 dB. Swaps: returned leads that
+match another lead better than their own. Calibration, skew and interval columns are medians of absolute errors
+against the truth; gain ok: within 2 %.`
 
 // WriteMarkdown prints rows as a Markdown table (for the README).
 func WriteMarkdown(w io.Writer, rows []Row) error {

@@ -152,6 +152,7 @@ qualified clinicians under local rules and licensed practice.`,
 		newDigitizeCmd(ios, nil),
 		newBatchCmd(ios, nil),
 		newRenderCmd(ios, nil),
+		newEvalCmd(ios, nil),
 	)
 	return root
 }
