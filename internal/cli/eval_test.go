@@ -118,4 +118,3 @@ func abs(x float64) float64 {
 	}
 	return x
 }
-
