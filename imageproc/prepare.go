@@ -141,14 +141,11 @@ func Prepare(img image.Image, opt *Options) (*Page, error) {
 			ci = image.NewGray(image.Rect(0, 0, cw, ch))
 			warpGray(ci, wInk, toWork, 0)
 		}
-		if !sep.colour {
-			// Remove the (now axis-aligned) grid lines from the ink first.
-			cg := wGray
-			if toWork != identity {
-				cg = image.NewGray(image.Rect(0, 0, cw, ch))
-				warpGray(cg, wGray, toWork, 255)
+		// Keep only confident ink: light grey grid lines fall below.
+		for i, v := range ci.Pix {
+			if v < 180 {
+				ci.Pix[i] = 0
 			}
-			structureSplit(cg, ci, image.NewGray(cg.Rect))
 		}
 		q = orientation(ci)
 	}

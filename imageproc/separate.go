@@ -238,6 +238,10 @@ func structureSplit(gray, ink, grd *image.Gray) {
 			}
 		}
 	}
+	// Grid lines share one darkness; rows or columns much darker than the
+	// typical line are trace baselines or text, not grid.
+	unflagDark(rowLine, rowLevel)
+	unflagDark(colLine, colLevel)
 	dark := func(x, y int) bool {
 		if x < 0 || y < 0 || x >= w || y >= h {
 			return false
@@ -332,6 +336,31 @@ func markLines(prof []float64, line []bool) {
 	for i, v := range prof {
 		if v > thr {
 			line[i] = true
+		}
+	}
+}
+
+// unflagDark clears line flags whose on-level is far darker than the
+// median line's (only when lines are grey, not black).
+func unflagDark(line []bool, level []float64) {
+	var lv []float64
+	for i, l := range line {
+		if l {
+			lv = append(lv, level[i])
+		}
+	}
+	if len(lv) == 0 {
+		return
+	}
+	slices.Sort(lv)
+	g := lv[len(lv)/2]
+	if g > 190 {
+		return
+	}
+	lim := g + 0.4*(255-g)
+	for i, l := range line {
+		if l && level[i] > lim {
+			line[i] = false
 		}
 	}
 }

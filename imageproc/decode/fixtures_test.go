@@ -466,19 +466,27 @@ func bmpBytes(t testing.TB, img image.Image, ppmX, ppmY uint32) []byte {
 // copied), or skips.
 func modCacheFile(t testing.TB, rel string) []byte {
 	t.Helper()
-	dir := os.Getenv("GOMODCACHE")
+	dir := modCacheDir()
 	if dir == "" {
-		out, err := exec.Command("go", "env", "GOMODCACHE").Output()
-		if err != nil {
-			t.Skipf("module cache not found: %v", err)
-		}
-		dir = strings.TrimSpace(string(out))
+		t.Skip("module cache not found")
 	}
 	b, err := os.ReadFile(filepath.Join(dir, "golang.org/x/image@v0.48.0", rel))
 	if err != nil {
 		t.Skipf("x/image test data absent: %v", err)
 	}
 	return b
+}
+
+// modCacheDir returns the Go module cache directory, or "".
+func modCacheDir() string {
+	if dir := os.Getenv("GOMODCACHE"); dir != "" {
+		return dir
+	}
+	out, err := exec.Command("go", "env", "GOMODCACHE").Output()
+	if err != nil {
+		return ""
+	}
+	return strings.TrimSpace(string(out))
 }
 
 // writeTemp writes b to a file in a test temp dir and returns its path.
