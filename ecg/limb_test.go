@@ -209,3 +209,15 @@ func TestCheckLimbPartialWindows(t *testing.T) {
 		t.Error("two limb leads reported as checkable")
 	}
 }
+
+// The check runs on the highest-rate limb lead's own sample grid, even
+// when another lead of the record starts off that grid (interpolating
+// between samples would average the noise away and under-estimate σ).
+func TestCheckLimbOffGridRecord(t *testing.T) {
+	r := limbRecord(0.02, LeadUnknown, 0, 5)
+	r.Set(Signal{Lead: LeadV1, SampleRate: 500, Start: -0.0013, Samples: make([]float64, 5000)})
+	c, ok := CheckLimb(&r)
+	if !ok || math.Abs(c.ResidualUV-20) > 2 {
+		t.Errorf("residual %.2f µV (ok=%v), want 20 ± 10 %%", c.ResidualUV, ok)
+	}
+}
