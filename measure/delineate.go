@@ -30,20 +30,28 @@ func noWaves() waves {
 type delinParams struct {
 	sigmaQ, sigmaP, sigmaT float64 // s
 	gammaQ                 float64 // significant QRS maxima: > gammaQ × the largest
+	qrsGap                 float64 // s, largest gap between consecutive QRS maxima
+	envTheta               float64 // multi-lead envelope threshold (mean squared normalised slope)
+	envGap                 float64 // s, gap tolerated inside the envelope
+	envMargin              float64 // s, per-lead search margin beyond the envelope
 	xiQOn, xiQOff          float64
 	xiPOn, xiPOff          float64
 	pMinRatio              float64 // P amplitude / QRS peak-to-peak to count as present
 	tMinRatio              float64
 	zhangW                 float64 // s, window of the Zhang et al. (2006) area indicator
+	tWinRR                 float64 // T search ends at this fraction of RR after the fiducial (0.3–0.65 s)
+	combFrac               float64 // global QRS onset = value at this rank fraction from the earliest (0: earliest); offset alike
+	combFracP, combFracT   float64 // the same for P and T end
 }
 
 var defaultDelin = delinParams{
 	sigmaQ: 0.006, sigmaP: 0.014, sigmaT: 0.024,
-	gammaQ: 0.15,
-	xiQOn:  0.08, xiQOff: 0.12,
-	xiPOn: 0.25, xiPOff: 0.35,
+	gammaQ: 0.15, qrsGap: 0.045,
+	envTheta: 0.02, envGap: 0.02, envMargin: 0.015,
+	xiQOn: 0.1, xiQOff: 0.1,
+	xiPOn: 0.4, xiPOff: 0.5, combFracP: 0.15,
 	pMinRatio: 0.03, tMinRatio: 0.03,
-	zhangW: 0.10,
+	zhangW: 0.10, tWinRR: 0.62,
 }
 
 // delineator holds the smoothing-derivative kernels for one sample rate and
@@ -53,6 +61,8 @@ type delineator struct {
 	p          delinParams
 	kq, kp, kt []float64
 	w          []float64
+	env        []float64
+	fl         []float64
 }
 
 func newDelineator(fs float64, p delinParams) *delineator {
@@ -103,7 +113,7 @@ func (d *delineator) slope(x []float64, lo, hi int, k []float64) []float64 {
 // delineate finds the waves of the beat whose QRS fiducial is sample r of
 // x (a conditioned signal, mV), given the beat's RR (s), and tells whether
 // to look for P and T.
-func (d *delineator) delineate(x []float64, r int, rr float64, wantP, wantT bool) waves {
+func (d *delineator) delineate(x []float64, r int, rr float64, env [2]int, wantP, wantT bool) waves {
 	out := noWaves()
 	fs, p := d.fs, d.p
 	if r < 0 || r >= len(x) {
@@ -133,17 +143,34 @@ func (d *delineator) delineate(x []float64, r int, rr float64, wantP, wantT bool
 		v := at(i)
 		return v > thr && v >= at(i-1) && v >= at(i+1)
 	}
-	npre, npost := -1, -1
-	for i := max(lo+1, r-S(0.12)); i <= r; i++ {
-		if isMax(i) {
-			npre = i
+	// The QRS is the run of significant modulus maxima around the main
+	// one: walk outwards from the main maximum and stop at a gap of more
+	// than maxGap without a significant maximum (a P or T wave slope is
+	// separated from the QRS by the PR or ST segment).
+	imain := r
+	for i := r - S(0.06); i <= r+S(0.06); i++ {
+		if at(i) == mainMax {
+			imain = i
 			break
 		}
 	}
-	for i := min(hi-2, r+S(0.14)); i >= r; i-- {
+	maxGap := S(p.qrsGap)
+	preLim, postLim := max(lo+1, r-S(0.15)), min(hi-2, r+S(0.18))
+	if env[0] >= 0 {
+		// A multi-lead QRS envelope bounds the search instead.
+		maxGap = hi - lo
+		preLim = max(preLim, env[0]-S(p.envMargin))
+		postLim = min(postLim, env[1]+S(p.envMargin))
+	}
+	npre, npost := imain, imain
+	for i := imain - 1; i > preLim && npre-i <= maxGap; i-- {
+		if isMax(i) {
+			npre = i
+		}
+	}
+	for i := imain + 1; i < postLim && i-npost <= maxGap; i++ {
 		if isMax(i) {
 			npost = i
-			break
 		}
 	}
 	if npre < 0 || npost < 0 {
@@ -190,55 +217,127 @@ func (d *delineator) delineate(x []float64, r int, rr float64, wantP, wantT bool
 	return out
 }
 
+// flat copies x[lo:hi] into scratch with the samples before cut (when
+// before is true) or from cut on (otherwise) replaced by x[cut], so that a
+// wide smoothing kernel looking for P or T waves does not see the QRS. It
+// returns the copy and the offset to subtract from absolute indices.
+func (d *delineator) flat(x []float64, lo, hi, cut int, before bool) []float64 {
+	if cap(d.fl) < hi-lo {
+		d.fl = make([]float64, hi-lo)
+	}
+	y := d.fl[:hi-lo]
+	copy(y, x[lo:hi])
+	c := x[cut]
+	for i := lo; i < hi; i++ {
+		if (before && i < cut) || (!before && i > cut) {
+			y[i-lo] = c
+		}
+	}
+	return y
+}
+
+// lobes finds a wave in w (slopes; index i ↔ absolute i+off) within
+// [a, b]: the largest slope and its strongest opposite-sign partner
+// within ±span samples, then any further alternating slopes of at least
+// half the partner's size within span (biphasic waves). It returns the
+// first and last slope positions (absolute), or ok=false. amp(i0, i1)
+// scores the wave between two slope positions.
+func lobes(w []float64, off, a, b, span int, amp func(i0, i1 int) float64) (first, last int, ok bool) {
+	at := func(i int) float64 {
+		if i-off < 0 || i-off >= len(w) {
+			return 0
+		}
+		return w[i-off]
+	}
+	im, vm := -1, 0.0
+	for i := a; i <= b; i++ {
+		if v := at(i); math.Abs(v) > math.Abs(vm) {
+			im, vm = i, v
+		}
+	}
+	if im < 0 {
+		return 0, 0, false
+	}
+	partner := func(from, to int, sign float64) (int, float64) {
+		best, bv := -1, 0.0
+		for i := max(a-span/2, from); i <= min(b+span/2, to); i++ {
+			v := at(i)
+			if v*sign > 0 && math.Abs(v) > math.Abs(bv) && math.Abs(v) >= math.Abs(at(i-1)) && math.Abs(v) >= math.Abs(at(i+1)) {
+				best, bv = i, v
+			}
+		}
+		return best, bv
+	}
+	// The strongest opposite-sign slope before and after; of the two
+	// waves they would bound, keep the one that stands out more from the
+	// isoelectric level (amp).
+	bp, bv := partner(im-span, im-1, -vm)
+	ap, av := partner(im+1, im+span, -vm)
+	okB := bp >= 0 && math.Abs(bv) >= 0.2*math.Abs(vm)
+	okA := ap >= 0 && math.Abs(av) >= 0.2*math.Abs(vm)
+	switch {
+	case okB && okA:
+		if amp(bp, im) >= amp(im, ap) {
+			return bp, im, true
+		}
+		return im, ap, true
+	case okB:
+		return bp, im, true
+	case okA:
+		return im, ap, true
+	}
+	return 0, 0, false
+}
+
 func (d *delineator) findT(x []float64, r, on, off int, rr, base float64, out *waves) {
 	fs, p := d.fs, d.p
 	S := func(s float64) int { return int(math.Round(s * fs)) }
 	a := max(off+S(0.04), r+S(0.10))
-	b := min(len(x)-1, r+S(math.Min(0.65, math.Max(0.30, 0.75*rr))))
+	b := min(len(x)-1, r+S(math.Min(0.65, math.Max(0.30, p.tWinRR*rr))))
 	if b-a < S(0.08) {
 		return
 	}
-	// T peak: the largest deviation from the isoelectric level.
-	tp, amp := -1, 0.0
-	for i := a; i <= b-S(0.04); i++ {
-		v := x[i] - base
+	m := len(d.kt) / 2
+	lo, hi := max(0, off-m), min(len(x), b+m+1)
+	y := d.flat(x, lo, hi, off, true)
+	for _, v := range y {
 		if math.IsNaN(v) {
 			return
 		}
-		if math.Abs(v) > math.Abs(amp) {
-			tp, amp = i, v
-		}
 	}
-	if tp < 0 || math.Abs(amp) < p.tMinRatio*out.qrsPP {
+	w := d.slope(y, 0, len(y), d.kt)
+	i0, i1, ok := lobes(w, lo, a, b-S(0.02), S(0.15), waveAmp(x, base))
+	if !ok {
 		return
 	}
-	// A later lobe of opposite sign (biphasic T) ends the wave instead.
-	last, sgn := tp, math.Copysign(1, amp)
-	amp2 := 0.0
-	for i := tp; i <= b-S(0.04); i++ {
-		v := x[i] - base
-		if v*sgn < 0 && math.Abs(v) > math.Abs(amp2) {
-			last, amp2 = i, v
+	// Peak: the extreme between the two slopes in the polarity of the
+	// first (rising first → upright T).
+	sg := math.Copysign(1, w[i0-lo])
+	tp, pv := i0, math.Inf(-1)
+	for i := i0; i <= i1; i++ {
+		if v := sg * x[i]; v > pv {
+			tp, pv = i, v
 		}
 	}
-	if math.Abs(amp2) > 0.3*math.Abs(amp) {
-		sgn = -sgn
-	} else {
-		last = tp
+	amp := x[tp] - base
+	if math.Abs(amp) < p.tMinRatio*out.qrsPP {
+		return
 	}
 	// T end: maximum of the area indicator of Zhang et al. (2006),
-	// A(k) = Σ_{j=k−w+1}^{k} (x[j] − x[k]), signed by the wave's polarity.
-	w := max(2, S(p.zhangW))
+	// A(k) = Σ_{j=k−W+1}^{k} (x[j] − x[k]), signed by the direction of
+	// the wave's last slope, searched from that slope to the window end.
+	sgn := -math.Copysign(1, w[i1-lo])
+	ww := max(2, S(p.zhangW))
 	bestA, te := math.Inf(-1), -1
-	for k := last + 1; k <= b; k++ {
-		if k-w+1 < 0 {
+	for k := i1 + 1; k <= b; k++ {
+		if k-ww+1 < 0 {
 			continue
 		}
 		s := 0.0
-		for j := k - w + 1; j <= k; j++ {
-			s += x[j]
+		for j := k - ww + 1; j <= k; j++ {
+			s += y[j-lo]
 		}
-		A := sgn * (s - float64(w)*x[k])
+		A := sgn * (s - float64(ww)*y[k-lo])
 		if A > bestA {
 			bestA, te = A, k
 		}
@@ -253,69 +352,49 @@ func (d *delineator) findP(x []float64, on int, rr, base float64, out *waves) {
 	fs, p := d.fs, d.p
 	S := func(s float64) int { return int(math.Round(s * fs)) }
 	a := max(0, on-S(math.Min(0.30, 0.55*rr)))
-	b := on - S(0.012)
+	b := on - S(0.008)
 	if b-a < S(0.06) {
 		return
 	}
 	m := len(d.kp) / 2
-	lo, hi := max(m, a-S(0.03)), min(len(x)-m, b+S(0.01))
-	if hi-lo < S(0.06) {
-		return
-	}
-	wp := d.slope(x, lo, hi, d.kp)
-	at := func(i int) float64 {
-		if i < lo || i >= hi {
-			return math.NaN()
-		}
-		return wp[i-lo]
-	}
-	im, vm := -1, 0.0
-	for i := a; i <= b; i++ {
-		v := at(i)
+	lo, hi := max(0, a-S(0.03)-m), min(len(x), on+m+1)
+	y := d.flat(x, lo, hi, on, false)
+	for _, v := range y {
 		if math.IsNaN(v) {
 			return
 		}
-		if math.Abs(v) > math.Abs(vm) {
-			im, vm = i, v
-		}
 	}
-	if im < 0 {
+	w := d.slope(y, 0, len(y), d.kp)
+	at := func(i int) float64 {
+		if i-lo < 0 || i-lo >= len(w) || math.IsNaN(w[i-lo]) {
+			return 0
+		}
+		return w[i-lo]
+	}
+	i0, i1, ok := lobes(w, lo, a, b, S(0.10), waveAmp(x, base))
+	if !ok {
 		return
 	}
-	// Partner: the strongest opposite-sign slope within 100 ms either side.
-	best, bv := -1, 0.0
-	for i := max(lo, im-S(0.10)); i <= min(hi-1, im+S(0.10)); i++ {
-		v := at(i)
-		if v*vm < 0 && math.Abs(v) > math.Abs(bv) {
-			best, bv = i, v
-		}
-	}
-	if best < 0 || math.Abs(bv) < 0.2*math.Abs(vm) {
-		return
-	}
-	i0, i1 := min(im, best), max(im, best)
 	w0, w1 := math.Abs(at(i0)), math.Abs(at(i1))
 	pOn := i0
-	for lim := p.xiPOn * w0; pOn > lo+1; pOn-- {
+	for lim := p.xiPOn * w0; pOn > lo+m+1; pOn-- {
 		if math.Abs(at(pOn)) < lim || math.Abs(at(pOn-1)) > math.Abs(at(pOn)) {
 			break
 		}
 	}
 	pOff := i1
-	for lim := p.xiPOff * w1; pOff < hi-2; pOff++ {
+	for lim := p.xiPOff * w1; pOff < on; pOff++ {
 		if math.Abs(at(pOff)) < lim || math.Abs(at(pOff+1)) > math.Abs(at(pOff)) {
 			break
 		}
 	}
-	if pOn <= lo+1 || pOff >= on {
+	if pOn <= lo+m+1 {
 		return
 	}
 	dur := float64(pOff-pOn) / fs
 	if dur < 0.04 || dur > 0.20 {
 		return
 	}
-	// Peak: the extreme between the two slopes, in the polarity of the
-	// first slope (rising first → positive P).
 	sg := math.Copysign(1, at(i0))
 	pk, pv := i0, math.Inf(-1)
 	for i := i0; i <= i1; i++ {
@@ -324,9 +403,93 @@ func (d *delineator) findP(x []float64, on int, rr, base float64, out *waves) {
 		}
 	}
 	edge := (x[pOn] + x[pOff]) / 2
-	amp := x[pk] - edge
-	if math.Abs(amp) < p.pMinRatio*out.qrsPP {
+	if math.Abs(x[pk]-edge) < p.pMinRatio*out.qrsPP {
 		return
 	}
 	out.pOn, out.pPeak, out.pOff, out.pAmp = float64(pOn), float64(pk), float64(pOff), x[pk]-base
+}
+
+// qrsEnvelope returns the extent [lo, hi] (absolute sample indices) of the
+// QRS of the beat at r seen over all the given leads at once: the mean
+// over leads of the squared slope, each lead normalised by its largest
+// QRS slope, stays above envTheta there, with gaps of at most envGap. The
+// QRS of any single lead lies within it, and a large P or T wave in one
+// lead cannot stretch it. It returns {−1, −1} when no lead covers r.
+func (d *delineator) qrsEnvelope(xs [][]float64, r int) [2]int {
+	fs, p := d.fs, d.p
+	S := func(s float64) int { return int(math.Round(s * fs)) }
+	none := [2]int{-1, -1}
+	lo, hi := r-S(0.2), r+S(0.25)
+	if cap(d.env) < hi-lo {
+		d.env = make([]float64, hi-lo)
+	}
+	e := d.env[:hi-lo]
+	clear(e)
+	n := 0
+	for _, x := range xs {
+		if r >= len(x) || r < 0 || math.IsNaN(x[r]) {
+			continue
+		}
+		a, b := max(0, lo), min(len(x), hi)
+		w := d.slope(x, a, b, d.kq)
+		m := 0.0
+		for i := r - S(0.06); i <= r+S(0.06); i++ {
+			if i >= a && i < b {
+				if v := math.Abs(w[i-a]); v > m {
+					m = v
+				}
+			}
+		}
+		if !(m > 0) {
+			continue
+		}
+		for i := a; i < b; i++ {
+			if v := w[i-a] / m; !math.IsNaN(v) {
+				e[i-lo] += v * v
+			}
+		}
+		n++
+	}
+	if n == 0 {
+		return none
+	}
+	pk, pv := -1, 0.0
+	for i := r - S(0.06); i <= r+S(0.06); i++ {
+		if v := e[i-lo]; v > pv {
+			pk, pv = i, v
+		}
+	}
+	if pk < 0 {
+		return none
+	}
+	th := p.envTheta * float64(n)
+	gap := S(p.envGap)
+	s0, s1 := pk, pk
+	for i, g := pk, 0; i > lo && g <= gap; i-- {
+		if e[i-lo] > th {
+			s0, g = i, 0
+		} else {
+			g++
+		}
+	}
+	for i, g := pk, 0; i < hi-1 && g <= gap; i++ {
+		if e[i-lo] > th {
+			s1, g = i, 0
+		} else {
+			g++
+		}
+	}
+	return [2]int{s0, s1}
+}
+
+// waveAmp returns a scorer of the wave between two samples: the largest
+// |x − base| there.
+func waveAmp(x []float64, base float64) func(i0, i1 int) float64 {
+	return func(i0, i1 int) float64 {
+		m := 0.0
+		for i := max(0, i0); i <= min(len(x)-1, i1); i++ {
+			m = math.Max(m, math.Abs(x[i]-base))
+		}
+		return m
+	}
 }

@@ -85,12 +85,13 @@ func Measure(rec ecg.Record, opt *Options) (*Report, error) {
 	pre := S(math.Min(0.42, math.Max(0.22, 0.6*rrDom)))
 	post := S(math.Min(0.74, math.Max(0.36, 0.8*rrDom)))
 	tmpl := templates(cond, dom, pre, post, o.MaxTemplateBeats)
-	d := newDelineator(fs, defaultDelin)
+	d := newDelineator(fs, o.delinParams())
 	lw := make([]waves, len(f.leads))
+	env := d.qrsEnvelope(tmpl, pre)
 	for k := range f.leads {
-		lw[k] = d.delineate(tmpl[k], pre, rrDom, true, true)
+		lw[k] = d.delineate(tmpl[k], pre, rrDom, env, true, true)
 	}
-	g := combineLeads(lw, fs)
+	g := combineLeads(lw, fs, &d.p)
 	rel := func(i float64) Num { return round(ms(i-float64(pre)), 1) }
 	if g.ok {
 		rep.QRSMS = round(ms(g.qrsOff-g.qrsOn), 1)
@@ -260,7 +261,7 @@ func coverage(x []float64, idx []int) int {
 // median over leads (40 ms for QRS, 60 ms for P, 80 ms for T end) — one
 // badly delineated lead would otherwise set the global value. P counts as
 // present when found in at least a third of the leads with a QRS.
-func combineLeads(ws []waves, fs float64) waves {
+func combineLeads(ws []waves, fs float64, p *delinParams) waves {
 	g := noWaves()
 	var nq int
 	for _, w := range ws {
@@ -272,7 +273,7 @@ func combineLeads(ws []waves, fs float64) waves {
 		return g
 	}
 	g.ok = true
-	pick := func(get func(w waves) float64, tolS float64, earliest bool, minN int) float64 {
+	pick := func(get func(w waves) float64, tolS float64, earliest bool, minN int, frac float64) float64 {
 		var v []float64
 		for _, w := range ws {
 			if x := get(w); w.ok && !math.IsNaN(x) {
@@ -283,25 +284,31 @@ func combineLeads(ws []waves, fs float64) waves {
 			return math.NaN()
 		}
 		m := median(slices.Clone(v))
-		best := math.NaN()
+		kept := v[:0]
 		for _, x := range v {
-			if math.Abs(x-m) > tolS*fs {
-				continue
-			}
-			if math.IsNaN(best) || (earliest && x < best) || (!earliest && x > best) {
-				best = x
+			if math.Abs(x-m) <= tolS*fs {
+				kept = append(kept, x)
 			}
 		}
-		return best
+		if len(kept) == 0 {
+			kept = append(kept, m)
+		}
+		slices.Sort(kept)
+		k := int(math.Floor(frac * float64(len(kept)-1)))
+		if earliest {
+			return kept[k]
+		}
+		return kept[len(kept)-1-k]
 	}
-	g.qrsOn = pick(func(w waves) float64 { return w.qrsOn }, 0.04, true, 1)
-	g.qrsOff = pick(func(w waves) float64 { return w.qrsOff }, 0.04, false, 1)
-	g.tEnd = pick(func(w waves) float64 { return w.tEnd }, 0.08, false, 1)
-	g.tPeak = pick(func(w waves) float64 { return w.tPeak }, 0.08, false, 1)
+	g.qrsOn = pick(func(w waves) float64 { return w.qrsOn }, 0.04, true, 1, p.combFrac)
+	g.qrsOff = pick(func(w waves) float64 { return w.qrsOff }, 0.04, false, 1, p.combFrac)
+	g.tEnd = pick(func(w waves) float64 { return w.tEnd }, 0.08, false, 1, p.combFracT)
+	g.tPeak = pick(func(w waves) float64 { return w.tPeak }, 0.08, false, 1, 0.5)
 	pMin := max(1, (nq+2)/3)
-	g.pOn = pick(func(w waves) float64 { return w.pOn }, 0.06, true, pMin)
-	g.pOff = pick(func(w waves) float64 { return w.pOff }, 0.06, false, pMin)
-	if math.IsNaN(g.pOn) || math.IsNaN(g.pOff) || g.pOff <= g.pOn || g.pOff >= g.qrsOn {
+	g.pOn = pick(func(w waves) float64 { return w.pOn }, 0.06, true, pMin, p.combFracP)
+	g.pOff = pick(func(w waves) float64 { return w.pOff }, 0.06, false, pMin, p.combFracP)
+	g.pOff = math.Min(g.pOff, g.qrsOn)
+	if math.IsNaN(g.pOn) || math.IsNaN(g.pOff) || g.pOff <= g.pOn {
 		g.pOn, g.pOff = math.NaN(), math.NaN()
 	}
 	return g
@@ -435,13 +442,14 @@ func beatTable(f, cond *frame, idx []int, cls []ecg.BeatClass, d *delineator) []
 			next = rrS
 		}
 		ws = ws[:0]
+		env := d.qrsEnvelope(cond.x, r)
 		for _, x := range cond.x {
 			if math.IsNaN(x[r]) {
 				continue
 			}
-			ws = append(ws, d.delineate(x, r, next, false, !math.IsNaN(next)))
+			ws = append(ws, d.delineate(x, r, next, env, false, !math.IsNaN(next)))
 		}
-		g := combineLeads(ws, fs)
+		g := combineLeads(ws, fs, &d.p)
 		if g.ok && !math.IsNaN(g.qrsOn) && !math.IsNaN(g.qrsOff) {
 			b.QRSOnS = Num(round6(f.time(0) + g.qrsOn/fs))
 			b.QRSOffS = Num(round6(f.time(0) + g.qrsOff/fs))

@@ -31,6 +31,8 @@ type Options struct {
 	// NoBeatTable leaves Report.Beats empty (per-beat delineation is the
 	// slowest part on very long records).
 	NoBeatTable bool
+
+	delin *delinParams // tests: delineation parameters (nil: defaults)
 }
 
 func (o *Options) withDefaults() Options {
@@ -54,4 +56,11 @@ func (o *Options) withDefaults() Options {
 		r.MaxTemplateBeats = 400
 	}
 	return r
+}
+
+func (o *Options) delinParams() delinParams {
+	if o.delin != nil {
+		return *o.delin
+	}
+	return defaultDelin
 }
