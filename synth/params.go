@@ -14,7 +14,7 @@ var ErrParams = errors.New("synth: invalid parameters")
 type Params struct {
 	DurationS    float64 // record length, s; default 10
 	SampleRate   float64 // Hz; default 500
-	HeartRateBPM float64 // mean sinus rate, beats/min; default 70
+	HeartRateBPM float64 // mean sinus rate, beats/min, 20–220; default 70
 	// HRVStdMS is the standard deviation of the RR intervals in ms, drawn
 	// from McSharry's bimodal LF/HF spectrum; 0 = perfectly regular.
 	HRVStdMS float64
@@ -91,8 +91,8 @@ func resolve(p Params) (resolved, error) {
 		return resolved{}, bad("duration %g s outside (0, 3600]", p.DurationS)
 	case p.SampleRate < 50 || p.SampleRate > 20000:
 		return resolved{}, bad("sample rate %g Hz outside [50, 20000]", p.SampleRate)
-	case p.HeartRateBPM < 20 || p.HeartRateBPM > 250:
-		return resolved{}, bad("heart rate %g bpm outside [20, 250]", p.HeartRateBPM)
+	case p.HeartRateBPM < 20 || p.HeartRateBPM > 220:
+		return resolved{}, bad("heart rate %g bpm outside [20, 220]", p.HeartRateBPM)
 	case p.AmplitudeScale < 0 || p.AmplitudeScale > 20:
 		return resolved{}, bad("amplitude scale %g outside (0, 20]", p.AmplitudeScale)
 	case p.EctopicRate < 0 || p.EctopicRate > 0.3:

@@ -395,6 +395,14 @@ func TestBadParams(t *testing.T) {
 	if _, err := Generate(Params{}, 1); err != nil {
 		t.Errorf("zero Params: %v", err)
 	}
+	// Defaults are valid across the whole accepted rate range.
+	for hr := 20.0; hr <= 220; hr += 10 {
+		p := Default()
+		p.HeartRateBPM, p.DurationS = hr, 3
+		if _, err := Generate(p, 1); err != nil {
+			t.Errorf("%g bpm with default intervals: %v", hr, err)
+		}
+	}
 }
 
 func BenchmarkGenerate10s(b *testing.B) {
