@@ -13,6 +13,7 @@ import (
 	"testing"
 
 	"tracelift/ecg"
+	"tracelift/export/aecg"
 	"tracelift/export/edf"
 	"tracelift/export/wfdb"
 	"tracelift/internal/refdata"
@@ -286,11 +287,14 @@ func TestReadRecordDispatch(t *testing.T) {
 	if err := wfdb.WriteAnnotationsFile(p("c.atr"), []wfdb.Annotation{{Sample: 250, Code: wfdb.CodeNormal}}); err != nil {
 		t.Fatal(err)
 	}
+	if err := aecg.WriteFile(p("d.xml"), rec, nil); err != nil {
+		t.Fatal(err)
+	}
 	b, _ := os.ReadFile(p("b.edf"))
 	os.WriteFile(p("noext"), b, 0o644)
 	os.WriteFile(p("junk.bin"), []byte{0, 1, 2, 3, 0xff}, 0o644)
 	os.WriteFile(p("empty"), nil, 0o644)
-	for _, name := range []string{"a.csv", "b.edf", "c.hea", "c.dat", "noext"} {
+	for _, name := range []string{"a.csv", "b.edf", "c.hea", "c.dat", "noext", "d.xml"} {
 		got, err := ReadRecord(p(name))
 		if err != nil {
 			t.Errorf("%s: %v", name, err)
@@ -299,7 +303,7 @@ func TestReadRecordDispatch(t *testing.T) {
 		if len(got.Signals) != 13 || got.Signal(ecg.LeadV4R) == nil {
 			t.Errorf("%s: leads %v", name, got.Leads())
 		}
-		if v := got.Signal(ecg.LeadII).Samples[100]; math.Abs(v-rec.Signal(ecg.LeadII).Samples[100]) > 1e-4 {
+		if v := got.Signal(ecg.LeadII).Samples[100]; math.Abs(v-rec.Signal(ecg.LeadII).Samples[100]) > 0.0005+1e-9 { // coarsest step: aECG 1 µV digits
 			t.Errorf("%s: II[100] = %g", name, v)
 		}
 	}

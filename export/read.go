@@ -9,6 +9,7 @@ import (
 	"strings"
 
 	"tracelift/ecg"
+	"tracelift/export/aecg"
 	"tracelift/export/edf"
 	"tracelift/export/wfdb"
 )
@@ -20,6 +21,8 @@ import (
 //     annotations from a ".atr" file of the same name when one exists;
 //   - .edf, .rec or content starting with the EDF version field "0" and
 //     seven spaces: EDF/EDF+ (export/edf);
+//   - .xml or content holding "<AnnotatedECG": HL7 aECG rhythm waveforms
+//     (export/aecg);
 //   - .csv, .txt, .tsv or anything else that parses as a table with a
 //     header row: CSV (ReadCSV; the time column is required).
 //
@@ -40,6 +43,8 @@ func ReadRecord(path string) (ecg.Record, error) {
 		return rec, err
 	case ".csv", ".txt", ".tsv":
 		return ReadCSVFile(path, nil)
+	case ".xml":
+		return readAECG(path)
 	}
 	f, err := os.Open(path)
 	if err != nil {
@@ -55,10 +60,26 @@ func ReadRecord(path string) (ecg.Record, error) {
 	case bytes.HasPrefix(head, []byte("0       ")):
 		rec, _, err := edf.ReadRecord(path)
 		return rec, err
+	case bytes.Contains(head, []byte("<AnnotatedECG")) || bytes.HasPrefix(bytes.TrimSpace(head), []byte("<?xml")):
+		return readAECG(path)
 	case looksLikeText(head):
 		return ReadCSVFile(path, nil)
 	}
 	return ecg.Record{}, fmt.Errorf("export: %s: not a CSV, WFDB or EDF record: %w", path, ecg.ErrUnreadable)
+}
+
+func readAECG(path string) (ecg.Record, error) {
+	f, err := os.Open(path)
+	if err != nil {
+		return ecg.Record{}, fmt.Errorf("export: %w: %w", ecg.ErrUnreadable, err)
+	}
+	defer f.Close()
+	rec, err := aecg.Read(f)
+	if err != nil {
+		return rec, fmt.Errorf("export: %s: %w", path, err)
+	}
+	rec.Meta.Source = filepath.Base(path)
+	return rec, nil
 }
 
 func readWFDB(hea string) (ecg.Record, error) {
