@@ -94,7 +94,7 @@ func layoutCells(layout string) (cells [][]ecg.Lead, invert map[[2]int]bool, rhy
 }
 
 // maxPixels bounds the raster size (width × height) of one page.
-const maxPixels = 400_000_000
+const maxPixels = 150_000_000
 
 // plan lays out a page for rec.
 func plan(rec *ecg.Record, o resolved) (*sheet, error) {

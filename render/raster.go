@@ -11,7 +11,6 @@ import (
 	"golang.org/x/image/font/gofont/goregular"
 	"golang.org/x/image/font/opentype"
 	"golang.org/x/image/math/fixed"
-	"golang.org/x/image/vector"
 )
 
 // paperColor is the colour of blank paper (a slightly warm white).
@@ -42,9 +41,9 @@ func styleFor(kind string) gridStyle {
 
 // raster draws onto an opaque RGBA page.
 type raster struct {
-	img *image.RGBA
-	s   float64 // px per mm
-	z   vector.Rasterizer
+	img  *image.RGBA
+	s    float64   // px per mm
+	dist []float32 // scratch: per-pixel distance to the stroke, px
 }
 
 func newRaster(wMM, hMM, dpi float64) *raster {
@@ -176,38 +175,16 @@ func (r *raster) drawDots(st gridStyle, col color.NRGBA, x0, y0, x1, y1 float64)
 	}
 }
 
-// addPoly adds a closed polygon (raster px, relative to the rasteriser's
-// origin) to z, always with positive signed area so that overlapping
-// polygons add up instead of cancelling.
-func addPoly(z *vector.Rasterizer, pts [][2]float32) {
-	var a float32
-	for i := range pts {
-		j := (i + 1) % len(pts)
-		a += pts[i][0]*pts[j][1] - pts[j][0]*pts[i][1]
-	}
-	if a == 0 {
-		return
-	}
-	if a > 0 {
-		z.MoveTo(pts[0][0], pts[0][1])
-		for _, p := range pts[1:] {
-			z.LineTo(p[0], p[1])
-		}
-	} else {
-		n := len(pts)
-		z.MoveTo(pts[n-1][0], pts[n-1][1])
-		for i := n - 2; i >= 0; i-- {
-			z.LineTo(pts[i][0], pts[i][1])
-		}
-	}
-	z.ClosePath()
-}
-
-// joinSides is the number of sides of the polygon used for round joins.
-const joinSides = 16
-
 // strokePolylines draws polylines given in paper mm with stroke width wMM
-// and colour col, anti-aliased. Points off the page are clipped.
+// and colour col, anti-aliased, clipped at the page edge.
+//
+// The stroke is the set of points within wMM/2 of the polyline (round caps
+// and joins). Each pixel's coverage is estimated from the distance d of its
+// centre to the polyline as clamp(w/2 + 0.5 − d, 0, 1) px — exact
+// box-filter coverage for a straight edge, and a true union of all
+// segments, so overlapping segments never darken edge pixels beyond the
+// stroke (which summing per-segment coverages would do on steep QRS
+// slopes). Distances are kept per pixel as the minimum over segments.
 func (r *raster) strokePolylines(lines [][][2]float64, wMM float64, col color.NRGBA) {
 	if len(lines) == 0 {
 		return
@@ -216,7 +193,7 @@ func (r *raster) strokePolylines(lines [][][2]float64, wMM float64, col color.NR
 	if half < 0.5 {
 		half = 0.5 // keep thin traces visible at low resolution
 	}
-	// Bounding box in px.
+	reach := half + 0.5 // beyond this distance a pixel gets no ink
 	minX, minY := math.Inf(1), math.Inf(1)
 	maxX, maxY := math.Inf(-1), math.Inf(-1)
 	for _, l := range lines {
@@ -226,57 +203,93 @@ func (r *raster) strokePolylines(lines [][][2]float64, wMM float64, col color.NR
 			minY, maxY = math.Min(minY, y), math.Max(maxY, y)
 		}
 	}
+	if !finite(minX) || !finite(maxX) || !finite(minY) || !finite(maxY) {
+		return
+	}
 	b := r.img.Bounds()
-	box := image.Rect(int(math.Floor(minX-half-2)), int(math.Floor(minY-half-2)),
-		int(math.Ceil(maxX+half+2)), int(math.Ceil(maxY+half+2))).Intersect(b)
+	box := image.Rect(int(math.Floor(minX-reach-1)), int(math.Floor(minY-reach-1)),
+		int(math.Ceil(maxX+reach+1)), int(math.Ceil(maxY+reach+1))).Intersect(b)
 	if box.Empty() {
 		return
 	}
-	ox, oy := float64(box.Min.X), float64(box.Min.Y)
-	z := &r.z
-	z.Reset(box.Dx(), box.Dy())
-	var circ [joinSides][2]float32
-	for k := range circ {
-		a := 2 * math.Pi * float64(k) / joinSides
-		circ[k] = [2]float32{float32(half * math.Cos(a)), float32(half * math.Sin(a))}
+	bw, bh := box.Dx(), box.Dy()
+	n := bw * bh
+	if cap(r.dist) < n {
+		r.dist = make([]float32, n)
 	}
-	buf := make([][2]float32, joinSides)
-	// Vertices far outside the box are skipped (clip at the page edge).
-	inside := func(x, y float64) bool {
-		return x > -half-2 && y > -half-2 && x < float64(box.Dx())+half+2 && y < float64(box.Dy())+half+2
+	dist := r.dist[:n]
+	far := float32(reach + 1)
+	for i := range dist {
+		dist[i] = far
+	}
+	ox, oy := float64(box.Min.X), float64(box.Min.Y)
+	// seg lowers the distances of the pixels near segment a→b (box px,
+	// raster coordinates: pixel (i, j) centred on (i+0.5, j+0.5)).
+	seg := func(ax, ay, bx, by float64) {
+		x0 := max(int(math.Floor(math.Min(ax, bx)-reach)), 0)
+		x1 := min(int(math.Ceil(math.Max(ax, bx)+reach)), bw)
+		y0 := max(int(math.Floor(math.Min(ay, by)-reach)), 0)
+		y1 := min(int(math.Ceil(math.Max(ay, by)+reach)), bh)
+		if x0 >= x1 || y0 >= y1 {
+			return
+		}
+		dx, dy := bx-ax, by-ay
+		l2 := dx*dx + dy*dy
+		inv := 0.0
+		if l2 > 0 {
+			inv = 1 / l2
+		}
+		for y := y0; y < y1; y++ {
+			py := float64(y) + 0.5 - ay
+			row := dist[y*bw:]
+			for x := x0; x < x1; x++ {
+				px := float64(x) + 0.5 - ax
+				f := (px*dx + py*dy) * inv
+				if f < 0 {
+					f = 0
+				} else if f > 1 {
+					f = 1
+				}
+				ex, ey := px-f*dx, py-f*dy
+				d := float32(math.Sqrt(ex*ex + ey*ey))
+				if d < row[x] {
+					row[x] = d
+				}
+			}
+		}
 	}
 	for _, l := range lines {
 		for i, p := range l {
 			x, y := p[0]*r.s-ox, p[1]*r.s-oy
-			if inside(x, y) {
-				for k := range circ {
-					buf[k] = [2]float32{float32(x) + circ[k][0], float32(y) + circ[k][1]}
-				}
-				addPoly(z, buf)
-			}
 			if i == 0 {
+				if len(l) == 1 {
+					seg(x, y, x, y)
+				}
 				continue
 			}
-			px, py := l[i-1][0]*r.s-ox, l[i-1][1]*r.s-oy
-			dx, dy := x-px, y-py
-			d := math.Hypot(dx, dy)
-			if d < 1e-9 || (!inside(x, y) && !inside(px, py) && !segmentNearBox(px, py, x, y, box.Dx(), box.Dy())) {
-				continue
-			}
-			nx, ny := -dy/d*half, dx/d*half
-			addPoly(z, [][2]float32{
-				{float32(px + nx), float32(py + ny)}, {float32(x + nx), float32(y + ny)},
-				{float32(x - nx), float32(y - ny)}, {float32(px - nx), float32(py - ny)},
-			})
+			seg(l[i-1][0]*r.s-ox, l[i-1][1]*r.s-oy, x, y)
 		}
 	}
-	z.Draw(r.img, box, image.NewUniform(col), image.Point{})
-}
-
-// segmentNearBox reports whether the segment's bounding box meets the
-// w × h box.
-func segmentNearBox(x0, y0, x1, y1 float64, w, h int) bool {
-	return math.Max(x0, x1) >= 0 && math.Min(x0, x1) <= float64(w) && math.Max(y0, y1) >= 0 && math.Min(y0, y1) <= float64(h)
+	cr, cg, cb := float32(col.R), float32(col.G), float32(col.B)
+	pix, stride := r.img.Pix, r.img.Stride
+	h := float32(half + 0.5)
+	for y := 0; y < bh; y++ {
+		row := dist[y*bw : (y+1)*bw]
+		off := (box.Min.Y+y)*stride + 4*box.Min.X
+		for x, d := range row {
+			a := h - d
+			if a <= 0 {
+				continue
+			}
+			if a > 1 {
+				a = 1
+			}
+			i := off + 4*x
+			pix[i] = uint8(float32(pix[i])*(1-a) + cr*a + 0.5)
+			pix[i+1] = uint8(float32(pix[i+1])*(1-a) + cg*a + 0.5)
+			pix[i+2] = uint8(float32(pix[i+2])*(1-a) + cb*a + 0.5)
+		}
+	}
 }
 
 // fonts holds the faces used on one page.
