@@ -414,3 +414,49 @@ func BenchmarkGenerate10s(b *testing.B) {
 		}
 	}
 }
+
+// McSharry et al. 2003 give the RR tachogram a bimodal spectrum: a
+// Mayer-wave peak at 0.1 Hz and a respiratory peak at 0.25 Hz with LF/HF
+// power ratio 0.5. A direct Fourier sum over the beat times of a 10-minute
+// record must show both peaks and about that ratio.
+func TestHRVSpectrum(t *testing.T) {
+	p := Default()
+	p.DurationS, p.HRVStdMS, p.HeartRateBPM = 600, 40, 60
+	rec := gen(t, p, 12)
+	var tk, rr []float64
+	for k := 1; k < len(rec.Beats); k++ {
+		tk = append(tk, rec.Beats[k].R)
+		rr = append(rr, rec.Beats[k].R-rec.Beats[k-1].R)
+	}
+	mean, _ := meanSD(rr)
+	power := func(f float64) float64 {
+		var re, im float64
+		for k, v := range rr {
+			re += (v - mean) * math.Cos(2*math.Pi*f*tk[k])
+			im -= (v - mean) * math.Sin(2*math.Pi*f*tk[k])
+		}
+		return re*re + im*im
+	}
+	var lf, hf, lfPk, hfPk, lfAt, hfAt float64
+	for f := 0.04; f < 0.4; f += 0.0025 {
+		pw := power(f)
+		if f < 0.15 {
+			lf += pw
+			if pw > lfPk {
+				lfPk, lfAt = pw, f
+			}
+		} else {
+			hf += pw
+			if pw > hfPk {
+				hfPk, hfAt = pw, f
+			}
+		}
+	}
+	t.Logf("LF peak %.3f Hz, HF peak %.3f Hz, LF/HF %.2f", lfAt, hfAt, lf/hf)
+	if math.Abs(lfAt-0.1) > 0.015 || math.Abs(hfAt-0.25) > 0.015 {
+		t.Errorf("spectral peaks at %.3f and %.3f Hz, want 0.1 and 0.25", lfAt, hfAt)
+	}
+	if r := lf / hf; r < 0.35 || r > 0.7 {
+		t.Errorf("LF/HF = %.2f, want about 0.5", r)
+	}
+}
