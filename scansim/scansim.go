@@ -48,7 +48,7 @@ type Options struct {
 	NoiseSD     float64 // sensor noise SD, 0–255 units
 	JPEGQuality int     // 1–100 for a JPEG round trip; 0 = none
 	Grayscale   bool
-	Binarize    bool // threshold to pure black and white after everything else (implies Grayscale)
+	Binarize    bool // threshold at grey level 150 to pure black and white after everything else (implies Grayscale)
 	PenMarks    int  // number of ballpoint strokes drawn across the page, ≤ 100
 	Seed        uint64
 }
@@ -448,14 +448,24 @@ func addNoise(img *image.NRGBA, sd float64, mono bool, rng *rand.Rand) {
 }
 
 // opaqueCopy returns src composited over white as a new NRGBA image at the
-// origin, copying rows directly for opaque *image.NRGBA and *image.RGBA
-// sources.
+// origin, copying rows directly for *image.Gray and opaque *image.NRGBA and
+// *image.RGBA sources.
 func opaqueCopy(src image.Image) *image.NRGBA {
 	b := src.Bounds()
 	page := image.NewNRGBA(image.Rect(0, 0, b.Dx(), b.Dy()))
 	var pix []byte
 	var stride int
 	switch s := src.(type) {
+	case *image.Gray:
+		for y := range b.Dy() {
+			in := s.Pix[s.PixOffset(b.Min.X, b.Min.Y+y):]
+			o := page.Pix[y*page.Stride:]
+			for x := range b.Dx() {
+				v := in[x]
+				o[4*x], o[4*x+1], o[4*x+2], o[4*x+3] = v, v, v, 255
+			}
+		}
+		return page
 	case *image.NRGBA:
 		pix, stride = s.Pix[s.PixOffset(b.Min.X, b.Min.Y):], s.Stride
 	case *image.RGBA:

@@ -122,6 +122,44 @@ func TestHomographyMapsPoints(t *testing.T) {
 	}
 }
 
+// The presets without a lens warp keep H exact through tint, blur, noise,
+// JPEG and binarisation: dots land within 1 px of H's prediction.
+func TestPresetsKeepGeometry(t *testing.T) {
+	w, h := 900, 600
+	var pts [][2]float64
+	for _, fx := range []float64{0.15, 0.5, 0.85} {
+		for _, fy := range []float64{0.15, 0.5, 0.85} {
+			pts = append(pts, [2]float64{math.Floor(fx*float64(w)) + 0.5, math.Floor(fy*float64(h)) + 0.5})
+		}
+	}
+	src := dotPage(w, h, pts)
+	for _, name := range []string{"scan", "gray", "fax", "lowres", "penmarks"} {
+		o, err := Preset(name, 300, 21)
+		if err != nil {
+			t.Fatal(err)
+		}
+		o.PenMarks = 0 // strokes would add blobs of their own
+		out, H, err := Apply(src, o)
+		if err != nil {
+			t.Fatalf("%s: %v", name, err)
+		}
+		got := blobs(out)
+		worst := 0.0
+		for _, p := range pts {
+			x, y := Map(H, p[0], p[1])
+			best := math.Inf(1)
+			for _, g := range got {
+				best = min(best, math.Hypot(g[0]-x, g[1]-y))
+			}
+			worst = max(worst, best)
+		}
+		t.Logf("%s: %d blobs, worst dot error %.3f px", name, len(got), worst)
+		if len(got) != len(pts) || worst > 1 {
+			t.Errorf("%s: %d blobs (want %d), worst error %.2f px", name, len(got), len(pts), worst)
+		}
+	}
+}
+
 func TestBinarizeIsTwoLevel(t *testing.T) {
 	src := dotPage(300, 200, [][2]float64{{50.5, 50.5}, {150.5, 100.5}})
 	o, err := Preset("fax", 300, 4)
@@ -335,5 +373,25 @@ func TestNoiseSD(t *testing.T) {
 		if math.Abs(got-want) > 0.03*want || math.Abs(mean) > 0.1 {
 			t.Errorf("noise SD %g: got SD %.3f mean %.3f, want SD %.3f", sd, got, mean, want)
 		}
+	}
+}
+
+// Grey and translucent sources are read correctly: grey copies to equal
+// RGB, transparent pixels become white paper.
+func TestSourceTypes(t *testing.T) {
+	g := image.NewGray(image.Rect(10, 20, 14, 22)) // non-zero origin
+	g.SetGray(11, 21, color.Gray{Y: 40})
+	out, _, err := Apply(g, Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	n := out.(*image.NRGBA)
+	if c := n.NRGBAAt(1, 1); c != (color.NRGBA{40, 40, 40, 255}) || n.NRGBAAt(0, 0) != (color.NRGBA{0, 0, 0, 255}) {
+		t.Errorf("grey source: %v %v", n.NRGBAAt(1, 1), n.NRGBAAt(0, 0))
+	}
+	tr := image.NewNRGBA(image.Rect(0, 0, 2, 1)) // fully transparent
+	out, _, _ = Apply(tr, Options{})
+	if c := out.(*image.NRGBA).NRGBAAt(0, 0); c != (color.NRGBA{255, 255, 255, 255}) {
+		t.Errorf("transparent source became %v, want white", c)
 	}
 }
