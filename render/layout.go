@@ -274,7 +274,7 @@ func (sh *sheet) points(rec *ecg.Record, p panelSpec) [][][2]float64 {
 	}
 	for i := i0; i <= i1; i++ {
 		v := s.Samples[i]
-		if math.IsNaN(v) {
+		if !finite(v) {
 			flush()
 			continue
 		}

@@ -4,7 +4,9 @@ import (
 	"bytes"
 	"errors"
 	"image"
+	"io"
 	"math"
+	"math/rand/v2"
 	"testing"
 
 	"tracelift/ecg"
@@ -448,6 +450,44 @@ func TestBadInput(t *testing.T) {
 	short.Signals[0].Samples[100] = math.NaN()
 	if _, err := Render(short, &Options{DPI: 100}); err != nil {
 		t.Errorf("short record: %v", err)
+	}
+}
+
+// TestOddRecords: hostile sample values and rates print without panics.
+func TestOddRecords(t *testing.T) {
+	rng := rand.New(rand.NewPCG(7, 7))
+	for k := 0; k < 20; k++ {
+		var rec ecg.Record
+		for _, l := range []ecg.Lead{ecg.LeadI, ecg.LeadII, ecg.LeadV1, ecg.LeadV5} {
+			fs := []float64{1, 50, 257.3, 500, 10000}[rng.IntN(5)]
+			n := rng.IntN(3000)
+			s := make([]float64, n)
+			for i := range s {
+				switch rng.IntN(40) {
+				case 0:
+					s[i] = math.NaN()
+				case 1:
+					s[i] = math.Inf(1 - 2*rng.IntN(2))
+				case 2:
+					s[i] = 1e9 * (rng.Float64() - 0.5)
+				default:
+					s[i] = rng.NormFloat64()
+				}
+			}
+			rec.Set(ecg.Signal{Lead: l, SampleRate: fs, Start: 5 * (rng.Float64() - 0.5), Samples: s})
+		}
+		lay := LayoutNames()[rng.IntN(len(LayoutNames()))]
+		p, err := Render(rec, &Options{Layout: lay, DPI: 60})
+		if err != nil {
+			continue // a clear error is fine; a panic is not
+		}
+		var buf bytes.Buffer
+		if err := p.WriteTruth(&buf); err != nil {
+			t.Errorf("%s: truth: %v", lay, err)
+		}
+		if err := WritePDF(io.Discard, rec, &Options{Layout: lay}); err != nil {
+			t.Errorf("%s: pdf: %v", lay, err)
+		}
 	}
 }
 
