@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"math/rand/v2"
+	"slices"
 	"sort"
 
 	"tracelift/ecg"
@@ -104,7 +105,9 @@ func Generate(p Params, seed uint64) (ecg.Record, error) {
 // 0.01 Hz, LF/HF = 0.5), normalised to zero mean and the requested SD
 // over the generated beats.
 func rhythm(r resolved, rng *rand.Rand) []float64 {
-	nb := int(math.Ceil((r.DurationS+4)/r.rr)) + 2
+	// 25 % spare: premature atrial beats reset the rhythm and pull every
+	// later beat earlier (at most 0.35 RR per ectopic, ≤ 30 % ectopics).
+	nb := int(math.Ceil(1.25*(r.DurationS+4)/r.rr)) + 2
 	rr := make([]float64, nb)
 	for k := range rr {
 		rr[k] = r.rr
@@ -148,12 +151,13 @@ func rhythm(r resolved, rng *rand.Rand) []float64 {
 	return t
 }
 
-// ectopics picks round(EctopicRate × visible beats) beats in [0, D), never
-// two in a row nor the first visible one, makes each ventricular or atrial
-// with equal chance, and moves it early: a ventricular beat at 55–65 % of
-// the RR interval with the sinus rhythm continuing (compensatory pause), an
-// atrial beat at 65–75 % with the rhythm reset after it. It changes t in
-// place and returns each beat's class.
+// ectopics makes round(EctopicRate × beats in [0, D)) of the beats in
+// [0, D) premature, never two in a row nor the first beat: each is
+// ventricular or atrial with equal chance. A ventricular beat comes at
+// 55–65 % of the RR interval and the sinus rhythm continues (compensatory
+// pause); an atrial beat comes at 65–75 % and resets the rhythm, pulling
+// the later beats earlier, so beats are added until the count is met. It
+// changes t in place and returns each beat's class.
 func ectopics(r resolved, rng *rand.Rand, t []float64) []ecg.BeatClass {
 	cl := make([]ecg.BeatClass, len(t))
 	for k := range cl {
@@ -162,43 +166,51 @@ func ectopics(r resolved, rng *rand.Rand, t []float64) []ecg.BeatClass {
 	if r.EctopicRate == 0 {
 		return cl
 	}
-	var cand []int
-	first := true
-	for k := 1; k < len(t)-1; k++ {
-		if t[k] >= 0 && t[k] < r.DurationS {
-			if !first {
+	for range 20 {
+		var cand []int
+		visible, have, first := 0, 0, -1
+		for k := 1; k < len(t)-1; k++ {
+			if t[k] < 0 || t[k] >= r.DurationS {
+				continue
+			}
+			visible++
+			if first < 0 {
+				first = k
+			}
+			if cl[k] != ecg.BeatNormal {
+				have++
+			} else if k != first && cl[k-1] == ecg.BeatNormal && cl[k+1] == ecg.BeatNormal {
 				cand = append(cand, k)
 			}
-			first = false
 		}
-	}
-	want := int(math.Round(r.EctopicRate * float64(len(cand)+1)))
-	rng.Shuffle(len(cand), func(i, j int) { cand[i], cand[j] = cand[j], cand[i] })
-	var picked []int
-	taken := make(map[int]bool)
-	for _, k := range cand {
-		if len(picked) == want {
+		want := int(math.Round(r.EctopicRate*float64(visible))) - have
+		if want <= 0 || len(cand) == 0 {
 			break
 		}
-		if taken[k-1] || taken[k+1] {
-			continue
+		rng.Shuffle(len(cand), func(i, j int) { cand[i], cand[j] = cand[j], cand[i] })
+		var picked []int
+		for _, k := range cand {
+			if len(picked) == want {
+				break
+			}
+			if slices.Contains(picked, k-1) || slices.Contains(picked, k+1) {
+				continue
+			}
+			picked = append(picked, k)
 		}
-		taken[k] = true
-		picked = append(picked, k)
-	}
-	sort.Ints(picked)
-	for _, k := range picked {
-		rrk := t[k] - t[k-1]
-		if rng.IntN(2) == 0 {
-			cl[k] = ecg.BeatVentricular
-			t[k] = t[k-1] + (0.55+0.1*rng.Float64())*rrk
-			continue
-		}
-		cl[k] = ecg.BeatAtrial
-		nt := t[k-1] + (0.65+0.1*rng.Float64())*rrk
-		d := nt - t[k]
-		for j := k; j < len(t); j++ {
-			t[j] += d
+		sort.Ints(picked)
+		for _, k := range picked {
+			rrk := t[k] - t[k-1]
+			if rng.IntN(2) == 0 {
+				cl[k] = ecg.BeatVentricular
+				t[k] = t[k-1] + (0.55+0.1*rng.Float64())*rrk
+				continue
+			}
+			cl[k] = ecg.BeatAtrial
+			d := t[k-1] + (0.65+0.1*rng.Float64())*rrk - t[k]
+			for j := k; j < len(t); j++ {
+				t[j] += d
+			}
 		}
 	}
 	return cl

@@ -2,6 +2,7 @@ package synth
 
 import (
 	"errors"
+	"fmt"
 	"math"
 	"testing"
 
@@ -313,9 +314,20 @@ func TestSeed(t *testing.T) {
 // lack P and have a T opposite to the QRS; atrial ones keep a P; both come
 // early.
 func TestEctopics(t *testing.T) {
-	p := Default()
-	p.DurationS, p.EctopicRate = 300, 0.12
+	for _, rate := range []float64{0.05, 0.12, 0.3} {
+		p := Default()
+		p.DurationS, p.EctopicRate = 300, rate
+		t.Run(fmt.Sprint(rate), func(t *testing.T) { checkEctopics(t, p) })
+	}
+}
+
+func checkEctopics(t *testing.T, p Params) {
 	rec := gen(t, p, 8)
+	// Beats fill the record to its end even when atrial ectopics pull the
+	// rhythm earlier.
+	if last := rec.Beats[len(rec.Beats)-1].R; last < p.DurationS-60/p.HeartRateBPM {
+		t.Errorf("last beat at %.1f s of %g s", last, p.DurationS)
+	}
 	var nV, nA int
 	for k, b := range rec.Beats {
 		if k == 0 || b.Class == ecg.BeatNormal {
@@ -351,7 +363,8 @@ func TestEctopics(t *testing.T) {
 		}
 	}
 	frac := float64(nV+nA) / float64(len(rec.Beats))
-	if math.Abs(frac-p.EctopicRate) > 0.015 || nV == 0 || nA == 0 {
+	t.Logf("%d beats: %d V, %d A, fraction %.4f", len(rec.Beats), nV, nA, frac)
+	if math.Abs(frac-p.EctopicRate) > 1/float64(len(rec.Beats)) || nV == 0 || nA == 0 {
 		t.Errorf("ectopic fraction %.3f (V %d, A %d of %d), want %.2f", frac, nV, nA, len(rec.Beats), p.EctopicRate)
 	}
 }
