@@ -473,3 +473,68 @@ func TestHRVSpectrum(t *testing.T) {
 		t.Errorf("LF/HF = %.2f, want about 0.5", r)
 	}
 }
+
+// With an irregular rhythm every beat's true fiducials still agree with
+// the boundaries measured back from the signals (5 % envelope rule, the
+// truth used only to choose the search windows), within 4 ms; and QT
+// follows each beat's preceding RR by Fridericia's cube root.
+func TestFiducialsIrregular(t *testing.T) {
+	p := Default()
+	p.DurationS, p.HRVStdMS, p.EctopicRate, p.SampleRate = 30, 60, 0.1, 1000
+	rec := gen(t, p, 17)
+	fs := p.SampleRate
+	n := len(rec.Signals[0].Samples)
+	env := func(i int) float64 {
+		m := 0.0
+		for _, s := range rec.Signals {
+			m = max(m, math.Abs(s.Samples[i]))
+		}
+		return m
+	}
+	// bounds finds the envelope peak within [a, b] s and walks out to 5 %.
+	bounds := func(a, b float64) (float64, float64) {
+		ia, ib := int(math.Ceil(a*fs)), int(math.Floor(b*fs))
+		ip, pk := ia, 0.0
+		for i := ia; i <= ib; i++ {
+			if e := env(i); e > pk {
+				ip, pk = i, e
+			}
+		}
+		lo, hi := ip, ip
+		for lo > 0 && env(lo-1) >= onsetFrac*pk {
+			lo--
+		}
+		for hi < n-1 && env(hi+1) >= onsetFrac*pk {
+			hi++
+		}
+		return float64(lo) / fs, float64(hi) / fs
+	}
+	checked := 0
+	for k, b := range rec.Beats {
+		if k == 0 || k == len(rec.Beats)-1 || math.IsNaN(b.TEnd) || math.IsNaN(b.QRSOn) {
+			continue
+		}
+		on, off := bounds(b.QRSOn, b.QRSOff)
+		if math.Abs(on-b.QRSOn) > 0.004 || math.Abs(off-b.QRSOff) > 0.004 {
+			t.Errorf("beat %d (%c): QRS %.3f–%.3f s measured, truth %.3f–%.3f", k, b.Class, on, off, b.QRSOn, b.QRSOff)
+		}
+		prev, next := rec.Beats[k-1], rec.Beats[k+1]
+		if b.Class != ecg.BeatNormal || prev.Class != ecg.BeatNormal || next.Class != ecg.BeatNormal {
+			continue // P-on-T overlap around premature beats
+		}
+		_, tEnd := bounds(b.TPeak-0.02, b.TPeak+0.02)
+		pOn, _ := bounds(b.PPeak-0.01, b.PPeak+0.01)
+		if math.Abs(tEnd-b.TEnd) > 0.004 || math.Abs(pOn-b.POn) > 0.004 {
+			t.Errorf("beat %d: T end %.3f (truth %.3f), P on %.3f (truth %.3f)", k, tEnd, b.TEnd, pOn, b.POn)
+		}
+		rr := b.R - prev.R
+		want := 0.4 * math.Cbrt(rr) // default QT = QTc 400 ms · RR^(1/3) at the mean rate, scaled per beat
+		if d := math.Abs(b.TEnd - b.QRSOn - want); d > 0.001 {
+			t.Errorf("beat %d: QT %.4f s after RR %.3f s, want %.4f", k, b.TEnd-b.QRSOn, rr, want)
+		}
+		checked++
+	}
+	if checked < 20 {
+		t.Errorf("only %d beats checked", checked)
+	}
+}
