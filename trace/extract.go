@@ -563,7 +563,17 @@ func alignToTicks(rows []rowInfo, lay *Layout, cal grid.Calibration) {
 	}
 	sort.Float64s(ds)
 	med := ds[len(ds)/2]
+	sum, n := 0.0, 0
+	for _, d := range ds {
+		if math.Abs(d-med) <= 0.7*pxX {
+			sum += d
+			n++
+		}
+	}
+	if n < 2 || 2*n < len(ds) {
+		return
+	}
 	for i := range rows {
-		rows[i].traceX0 += med
+		rows[i].traceX0 += sum / float64(n)
 	}
 }

@@ -3,6 +3,7 @@ package trace
 import (
 	"image"
 	"math"
+	"slices"
 	"sort"
 )
 
@@ -122,10 +123,11 @@ type followParams struct {
 	basePerMM float64 // cost per mm of distance from the baseline, per column
 	maxStates int     // runs kept per column (nearest the baseline)
 	carries   int     // gap states carried from one column to the next
+	inkReward float64 // reward per px of ink on the path, in mm of jump per px
 }
 
 func defaultFollow(pxPerMM, baseline float64) followParams {
-	return followParams{pxPerMM: pxPerMM, baseline: baseline, gapCost: 0.6, basePerMM: 0.01, maxStates: 24, carries: 3}
+	return followParams{pxPerMM: pxPerMM, baseline: baseline, gapCost: 0.6, basePerMM: 0.01, maxStates: 24, carries: 3, inkReward: 0.03}
 }
 
 // state is one node of the trellis: a run of column c or a gap state
@@ -162,10 +164,12 @@ func follow(cr *columnRuns, p followParams) pathResult {
 	res.penPx = pen
 	jumpW := 1 / p.pxPerMM // cost per px of jump
 	baseW := p.basePerMM / p.pxPerMM
+	inkW := p.inkReward / p.pxPerMM
 	states := make([]state, 0, W*6)
 	off := make([]int32, W+1)
 	prevLo, prevHi := 0, 0
 	idx := make([]int, 0, 64)
+	taken := make([]int, 0, 8)
 	for c := 0; c < W; c++ {
 		off[c] = int32(len(states))
 		runs := cr.col(c)
@@ -182,7 +186,10 @@ func follow(cr *columnRuns, p followParams) pathResult {
 		for _, k := range idx {
 			r := runs[k]
 			s := state{top: float32(r.top), bot: float32(r.bot), back: -1, run: cr.off[c] + int32(k)}
-			unary := float32(baseW * distToBase(r, p.baseline))
+			// A small reward per ink pixel covered makes the path climb
+			// to the apex of a spike whose two strokes are separate runs
+			// lower down, instead of crossing from one stroke to the other.
+			unary := float32(baseW*distToBase(r, p.baseline) - inkW*float64(r.bot-r.top+1))
 			if c == 0 {
 				s.cost = unary
 			} else {
@@ -206,26 +213,20 @@ func follow(cr *columnRuns, p followParams) pathResult {
 		}
 		// Gap states: carry the cheapest previous states across this column.
 		if c > 0 {
-			nc := 0
-			for nc < p.carries {
+			taken = taken[:0]
+			for nc := 0; nc < p.carries; nc++ {
 				bj := -1
 				for j := prevLo; j < prevHi; j++ {
-					if states[j].cost >= 0 && (bj < 0 || states[j].cost < states[bj].cost) {
+					if !slices.Contains(taken, j) && (bj < 0 || states[j].cost < states[bj].cost) {
 						bj = j
 					}
 				}
 				if bj < 0 {
 					break
 				}
+				taken = append(taken, bj)
 				q := states[bj]
-				states[bj].cost = -1 - states[bj].cost // mark taken; restored below
 				states = append(states, state{top: q.top, bot: q.bot, cost: q.cost + float32(p.gapCost), back: int32(bj), run: -1})
-				nc++
-			}
-			for j := prevLo; j < prevHi; j++ {
-				if states[j].cost < 0 {
-					states[j].cost = -1 - states[j].cost
-				}
 			}
 		} else if len(states) == 0 {
 			states = append(states, state{top: float32(p.baseline), bot: float32(p.baseline), cost: float32(p.gapCost), back: -1, run: -1})
@@ -302,7 +303,7 @@ func pathPoints(cr *columnRuns, states []state, path []int32, pen float64, res *
 	W := len(path)
 	pts := make([]Point, 0, W+W/8)
 	r := math.Max((pen-1)/2, 0)
-	kr := int(math.Ceil(r))
+	kr := int(math.Floor(r)) // columns the pen at c reaches
 	sk := make([]float64, 2*kr+1)
 	for k := -kr; k <= kr; k++ {
 		sk[k+kr] = math.Sqrt(math.Max(r*r-float64(k*k), 0))

@@ -140,7 +140,7 @@ func TestCorpusTable(t *testing.T) {
 			if cs.err != nil {
 				errs++
 			}
-			t.Logf("%-28s layout %-14s lenient %5.1f strict %5.1f found %d/%d swaps %d err %v", cs.name, cs.layout, cs.lenient.Median, cs.strict.Median, cs.found, cs.printed, cs.swaps, cs.err)
+			t.Logf("%-28s layout %-14s lenient %5.1f strict %5.1f found %d/%d swaps %d err %v per-lead %s", cs.name, cs.layout, cs.lenient.Median, cs.strict.Median, cs.found, cs.printed, cs.swaps, cs.err, fmtLeads(cs.lenient.PerLead))
 		}
 		sort.Float64s(per)
 		sort.Float64s(strictMed)
@@ -148,4 +148,14 @@ func TestCorpusTable(t *testing.T) {
 			accuracy.Percentile(per, 50), accuracy.Percentile(per, 10), accuracy.Median(strictMed), found, printed, swaps, errs))
 	}
 	t.Logf("\n| condition | median dB | p10 dB | strict median dB | leads found | swaps | errors |\n%s", strings.Join(lines, "\n"))
+}
+
+func fmtLeads(m map[ecg.Lead]float64) string {
+	var b strings.Builder
+	for _, l := range ecg.Standard12 {
+		if v, ok := m[l]; ok {
+			fmt.Fprintf(&b, "%v:%.1f ", l, v)
+		}
+	}
+	return b.String()
 }

@@ -201,24 +201,56 @@ func findPulse(ink *image.Gray, r *rowInfo, cal grid.Calibration) {
 	}
 	var cr columnRuns
 	cr.scan(ink, band)
-	rise, fall := -1, -1
-	var foot float64
-	for c := 0; c < cr.width(); c++ {
+	tall := func(c int) (foot float64, ok bool) {
 		for _, ru := range cr.col(c) {
 			h := float64(ru.bot - ru.top + 1)
 			if h >= 0.75*want && h <= 1.35*want && math.Abs(float64(ru.bot)-r.baseY) < 0.3*want {
-				if rise < 0 {
-					rise = c
-					foot = float64(ru.bot)
-				}
-				if c-rise < int(9*pxX) {
-					fall = c
-				}
+				return float64(ru.bot), true
+			}
+		}
+		return 0, false
+	}
+	// The rising edge must come within 6 mm of the row's first ink.
+	rise := -1
+	var foot float64
+	for c := 0; c < min(cr.width(), int(6*pxX)); c++ {
+		if f, ok := tall(c); ok {
+			rise, foot = c, f
+			break
+		}
+	}
+	if rise < 0 {
+		return
+	}
+	// The falling edge: the last tall column 3–8 mm after the rise, with
+	// a flat top between the edges.
+	fall := -1
+	for c := rise + int(3*pxX); c < min(cr.width(), rise+int(8*pxX)); c++ {
+		if _, ok := tall(c); ok {
+			fall = c
+		}
+	}
+	if fall < 0 {
+		return
+	}
+	topY := foot - want
+	flat := 0
+	for c := rise + int(pxX); c < fall-int(pxX); c++ {
+		for _, ru := range cr.col(c) {
+			if math.Abs(ru.centre()-topY) < 0.25*want && float64(ru.bot-ru.top) < 0.2*want {
+				flat++
+				break
 			}
 		}
 	}
-	if rise < 0 || fall-rise < int(1.5*pxX) {
+	if span := fall - rise - 2*int(pxX); span <= 0 || float64(flat) < 0.7*float64(span) {
 		return
+	}
+	for fall+1 < cr.width() {
+		if _, ok := tall(fall + 1); !ok {
+			break
+		}
+		fall++
 	}
 	pen := penWidth(&cr)
 	r.hasPulse = true
@@ -239,25 +271,39 @@ func findTicks(ink *image.Gray, r *rowInfo, cal grid.Calibration, rowsAbove, row
 	cr.scan(ink, band)
 	pen := penWidth(&cr)
 	d := int(1.5 * pxX)
+	base := r.baseY
+	if !math.IsNaN(r.zeroY) {
+		base = r.zeroY
+	}
 	maxH := func(c int) float64 {
 		m := 0.0
 		if c < 0 || c >= cr.width() {
 			return 0
 		}
 		for _, ru := range cr.col(c) {
-			if math.Abs(ru.centre()-r.baseY) < 3*pxY || (float64(ru.top) < r.baseY && float64(ru.bot) > r.baseY) {
+			if math.Abs(ru.centre()-base) < 3*pxY || (float64(ru.top) < base && float64(ru.bot) > base) {
 				m = math.Max(m, float64(ru.bot-ru.top+1))
 			}
 		}
 		return m
 	}
+	// isTick: a stroke crossing the baseline, reaching at least 1.2 mm to
+	// either side and at most 5 mm.
+	isTick := func(c int) bool {
+		for _, ru := range cr.col(c) {
+			up, down := base-float64(ru.top), float64(ru.bot)-base
+			if up >= 1.2*pxY && down >= 1.2*pxY && up <= 5*pxY && down <= 5*pxY {
+				return true
+			}
+		}
+		return false
+	}
 	for c := 0; c < cr.width(); c++ {
-		h := maxH(c)
-		if h < 3*pxY {
+		if !isTick(c) {
 			continue
 		}
 		e := c
-		for e+1 < cr.width() && maxH(e+1) >= 3*pxY {
+		for e+1 < cr.width() && isTick(e+1) {
 			e++
 		}
 		if e-c <= d && maxH(c-d) <= 2*pen+1 && maxH(e+d) <= 2*pen+1 {
