@@ -218,11 +218,7 @@ type container interface {
 func open(path string) (*os.File, int64, error) {
 	st, err := os.Stat(path)
 	if err != nil {
-		reason := "cannot open"
-		if errors.Is(err, os.ErrNotExist) {
-			reason = "no such file"
-		}
-		return nil, 0, &Error{Name: path, Reason: reason, Err: unwrapPathError(err)}
+		return nil, 0, &Error{Name: path, Reason: "cannot open", Err: unwrapPathError(err)}
 	}
 	if st.IsDir() {
 		return nil, 0, &Error{Name: path, Reason: "is a directory, not an image file"}

@@ -13,6 +13,8 @@ import (
 	"strings"
 	"testing"
 
+	"github.com/go-pdf/fpdf"
+
 	"tracelift/ecg"
 )
 
@@ -470,17 +472,34 @@ func TestPDFRawImages(t *testing.T) {
 // TestPDFCCITT embeds the x/image Group 4 test stream as a CCITTFaxDecode
 // image (ISO 32000-1 7.4.6: K −1 = Group 4, Columns 153) at 204 × 98 dpi.
 func TestPDFCCITT(t *testing.T) {
-	g4 := modCacheFile(t, "ccitt/testdata/bw-gopher.ccitt_group4")
 	want := readerPages(t, modCacheFile(t, "ccitt/testdata/bw-gopher.png"), "bw-gopher.png", nil)[0].Image.(*image.Gray)
-	b := rawPDF([]rawPDFPage{{
-		mediaW: 153.0 / 204 * 72, mediaH: 55.0 / 98 * 72,
-		imageDict: "/Width 153 /Height 55 /ColorSpace /DeviceGray /BitsPerComponent 1 /Filter /CCITTFaxDecode /DecodeParms << /K -1 /Columns 153 /Rows 55 >>",
-		stream:    g4,
-	}})
-	p := readerPages(t, b, "fax.pdf", nil)[0]
-	sameGray(t, p.Image, want)
-	if !near(p.DPIX, 204, 1e-6) || !near(p.DPIY, 98, 1e-6) {
-		t.Errorf("dpi %g × %g, want 204 × 98", p.DPIX, p.DPIY)
+	for _, tc := range []struct{ file, parms string }{
+		{"bw-gopher.ccitt_group4", "/K -1 /Columns 153 /Rows 55"},
+		// Coded with black and white swapped: BlackIs1 true makes the coded
+		// black pixels read 1 = white through DeviceGray (7.4.6 table 11).
+		{"bw-gopher-inverted.ccitt_group4", "/K -1 /Columns 153 /Rows 55 /BlackIs1 true"},
+		{"bw-gopher-aligned.ccitt_group4", "/K -1 /Columns 153 /EncodedByteAlign true"},
+		{"bw-gopher.ccitt_group3", "/K 0 /Columns 153 /Rows 55"},
+	} {
+		t.Run(tc.file, func(t *testing.T) {
+			b := rawPDF([]rawPDFPage{{
+				mediaW: 153.0 / 204 * 72, mediaH: 55.0 / 98 * 72,
+				imageDict: "/Width 153 /Height 55 /ColorSpace /DeviceGray /BitsPerComponent 1 /Filter /CCITTFaxDecode /DecodeParms << " + tc.parms + " >>",
+				stream:    modCacheFile(t, "ccitt/testdata/"+tc.file),
+			}})
+			p := readerPages(t, b, "fax.pdf", nil)[0]
+			sameGray(t, p.Image, want)
+			if !near(p.DPIX, 204, 1e-6) || !near(p.DPIY, 98, 1e-6) {
+				t.Errorf("dpi %g × %g, want 204 × 98", p.DPIX, p.DPIY)
+			}
+		})
+	}
+	// Two-dimensional Group 3 (K > 0) is refused clearly.
+	b := rawPDF([]rawPDFPage{{mediaW: 72, mediaH: 72,
+		imageDict: "/Width 153 /Height 55 /ImageMask true /Filter /CCITTFaxDecode /DecodeParms << /K 4 /Columns 153 >>",
+		stream:    []byte{0, 0}}})
+	if _, err := Reader(bytes.NewReader(b), int64(len(b)), "k4.pdf", nil); !errors.Is(err, ErrUnsupported) {
+		t.Errorf("K > 0: %v", err)
 	}
 }
 
@@ -624,5 +643,30 @@ func TestContentPlacement(t *testing.T) {
 	// stored column 0 at the bottom, row 0 at the left → orientation 8.
 	if pl := placement([6]float64{0, 200, -100, 0, 100, 0}, 0, 20, 10); pl.orientation != 8 || !near(pl.dpiX, 20/(200.0/72), 1e-9) {
 		t.Errorf("rotated placement: %+v", pl)
+	}
+}
+
+// TestUnsupportedVariants: an encrypted PDF and a JPEG-in-TIFF page
+// (TIFF Compression 7, which golang.org/x/image/tiff does not decode)
+// are refused as unsupported, naming the file.
+func TestUnsupportedVariants(t *testing.T) {
+	pdf := fpdf.New("P", "mm", "A4", "")
+	pdf.SetProtection(0, "user-secret", "owner-secret")
+	pdf.AddPage()
+	pdf.Line(10, 10, 100, 100)
+	var buf bytes.Buffer
+	if err := pdf.Output(&buf); err != nil {
+		t.Fatal(err)
+	}
+	_, err := Reader(bytes.NewReader(buf.Bytes()), int64(buf.Len()), "locked.pdf", nil)
+	if !errors.Is(err, ErrUnsupported) || !errors.Is(err, ecg.ErrUnreadable) || !strings.Contains(err.Error(), "encrypted") {
+		t.Errorf("encrypted pdf: %v", err)
+	}
+
+	j := jpegBytes(t, grayPattern(16, 16), 90)
+	tif := tiffBytes(binary.LittleEndian, []tiffPageSpec{{w: 16, h: 16, compression: 7, photometric: 1, bits: 8, data: j}})
+	_, err = Reader(bytes.NewReader(tif), int64(len(tif)), "jpeg.tif", nil)
+	if !errors.Is(err, ErrUnsupported) || !strings.HasPrefix(err.Error(), "jpeg.tif: page 1: ") {
+		t.Errorf("JPEG-in-TIFF: %v", err)
 	}
 }

@@ -6,11 +6,11 @@ import (
 	"errors"
 	"image"
 	"image/color"
-	"runtime/debug"
-	"time"
 	"os"
 	"path/filepath"
+	"runtime/debug"
 	"testing"
+	"time"
 
 	"tracelift/ecg"
 )

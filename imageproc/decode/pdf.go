@@ -13,6 +13,7 @@ import (
 
 	"github.com/pdfcpu/pdfcpu/pkg/api"
 	"github.com/pdfcpu/pdfcpu/pkg/filter"
+	"github.com/pdfcpu/pdfcpu/pkg/pdfcpu"
 	"github.com/pdfcpu/pdfcpu/pkg/pdfcpu/model"
 	"github.com/pdfcpu/pdfcpu/pkg/pdfcpu/types"
 	"golang.org/x/image/ccitt"
@@ -43,8 +44,8 @@ func pdfConfig() *model.Configuration {
 func openPDF(src source) (container, error) {
 	ctx, err := api.ReadContext(io.NewSectionReader(src.r, 0, src.size), pdfConfig())
 	if err != nil {
-		if ctx != nil && ctx.XRefTable != nil && ctx.Encrypt != nil {
-			return nil, src.fail(0, "encrypted PDF (a password is needed)", nil)
+		if errors.Is(err, pdfcpu.ErrWrongPassword) {
+			return nil, &Error{Name: src.name, Kind: ErrUnsupported, Reason: "encrypted PDF (a password is needed; password-protected files are not supported)"}
 		}
 		return nil, src.decodeErr(0, "pdf", err)
 	}
