@@ -95,9 +95,12 @@ func (o *Options) validate() error {
 // included in it.
 //
 // The output is *image.NRGBA, or *image.Gray when Grayscale or Binarize is
-// set; a binarised output holds only the values 0 and 255. When the page
-// is rotated or tilted the canvas grows so the whole page stays visible,
-// the rest filled with Background. Apply is deterministic given opt.Seed.
+// set; a binarised output holds only the values 0 and 255. With scaling
+// alone the canvas is the scaled page; when the page is rotated, tilted or
+// warped by a pincushion lens (LensK1 < 0) the canvas is the page's
+// bounding box plus a margin (2 % of its longer side, plus 1.2·|k1| for
+// pincushion) so the whole page stays visible, the rest filled with
+// Background. Apply is deterministic given opt.Seed.
 func Apply(src image.Image, opt Options) (image.Image, [9]float64, error) {
 	var H [9]float64
 	if src == nil || src.Bounds().Empty() {
@@ -254,7 +257,7 @@ func homography(w, h int, opt Options, rng *rand.Rand) ([9]float64, int, int) {
 		gx, gy := opt.Perspective*math.Cos(phi)/r, opt.Perspective*math.Sin(phi)/r
 		m = mul3([9]float64{1, 0, 0, 0, 1, 0, gx, gy, 1}, m)
 	}
-	if opt.RotationDeg == 0 && opt.Perspective == 0 {
+	if opt.RotationDeg == 0 && opt.Perspective == 0 && opt.LensK1 >= 0 {
 		// Pure scaling: the canvas is the scaled page.
 		W, Hh := int(math.Round(float64(w)*opt.ScaleX)), int(math.Round(float64(h)*opt.ScaleY))
 		m = mul3([9]float64{1, 0, float64(W) / 2, 0, 1, float64(Hh) / 2, 0, 0, 1}, m)
@@ -265,8 +268,10 @@ func homography(w, h int, opt Options, rng *rand.Rand) ([9]float64, int, int) {
 		x, y := Map(m, p[0], p[1])
 		minX, minY, maxX, maxY = min(minX, x), min(minY, y), max(maxX, x), max(maxY, y)
 	}
-	// A margin of 2 % of the longer side around the page.
-	margin := 0.02 * max(maxX-minX, maxY-minY)
+	// A margin of 2 % of the longer side around the page, more for a
+	// pincushion lens warp, which pushes the corners outward by up to
+	// |k1| of the half-diagonal.
+	margin := (0.02 + 1.2*max(0, -opt.LensK1)) * max(maxX-minX, maxY-minY)
 	m = mul3([9]float64{1, 0, margin - minX, 0, 1, margin - minY, 0, 0, 1}, m)
 	return m, int(math.Ceil(maxX - minX + 2*margin)), int(math.Ceil(maxY - minY + 2*margin))
 }

@@ -282,6 +282,21 @@ func TestCleanIsIdentity(t *testing.T) {
 	}
 }
 
+// A pincushion warp enlarges the canvas so the page corners stay visible.
+func TestPincushionKeepsCorners(t *testing.T) {
+	w, h := 400, 300
+	pts := [][2]float64{{4.5, 4.5}, {395.5, 4.5}, {4.5, 295.5}, {395.5, 295.5}}
+	for _, o := range []Options{{LensK1: -0.3}, {LensK1: -0.05, RotationDeg: 8}, {LensK1: -0.04, Perspective: 0.15, Seed: 2}} {
+		out, _, err := Apply(dotPage(w, h, pts), o)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if n := len(blobs(out)); n != 4 {
+			t.Errorf("%+v: %d of 4 corner dots visible", o, n)
+		}
+	}
+}
+
 // Lens warp leaves the canvas centre fixed and moves corners inward for
 // barrel distortion (positive k1 samples farther out, so content shrinks).
 func TestLensWarp(t *testing.T) {
