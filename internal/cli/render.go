@@ -11,8 +11,7 @@ import (
 	"github.com/spf13/cobra"
 
 	"tracelift/ecg"
-	"tracelift/export/edf"
-	"tracelift/export/wfdb"
+	"tracelift/export"
 	"tracelift/render"
 	"tracelift/synth"
 )
@@ -40,12 +39,13 @@ type renderOptions struct {
 func newRenderCmd(ios *IOStreams, runF func(*renderOptions) error) *cobra.Command {
 	o := &renderOptions{}
 	cmd := &cobra.Command{
-		Use:   "render [RECORD.hea|RECORD.edf] -o PAGE.png",
+		Use:   "render [RECORD] -o PAGE.png",
 		Short: "Print a digital or synthetic ECG on ECG paper (PNG, PDF) with a truth sidecar",
 		Long: `render prints an ECG record onto a picture of ECG paper: a 1 mm / 5 mm grid,
 a 1 mV calibration pulse at the start of every row, lead labels, column
-ticks and a header. The record is a WFDB record (RECORD.hea), an EDF/EDF+
-file (RECORD.edf) or, with --synthetic, a seeded synthetic 12-lead ECG.
+ticks and a header. The record is a file (CSV with a time column, WFDB
+.hea, EDF/EDF+ .edf, HL7 aECG .xml) or, with --synthetic, a seeded
+synthetic 12-lead ECG.
 
 -o writes a PNG raster, --pdf a PDF with vector traces and grid, --truth a
 JSON sidecar saying exactly where every lead, time window and pulse was
@@ -111,7 +111,7 @@ func (o *renderOptions) check(cmd *cobra.Command) error {
 	case o.Synthetic && o.Input != "":
 		return flagErrorf("render: give a record file or --synthetic, not both")
 	case !o.Synthetic && o.Input == "":
-		return flagErrorf("render: give a record file (.hea, .edf) or --synthetic")
+		return flagErrorf("render: give a record file (CSV, .hea, .edf, aECG .xml) or --synthetic")
 	case o.Out == "" && o.PDF == "" && o.Truth == "":
 		return flagErrorf("render: nothing to write: give -o PAGE.png, --pdf PAGE.pdf or --truth PAGE.json")
 	}
@@ -217,21 +217,12 @@ func (o *renderOptions) record() (ecg.Record, error) {
 		}
 		return rec, nil
 	}
-	var rec ecg.Record
-	var err error
-	switch strings.ToLower(filepath.Ext(o.Input)) {
-	case ".hea":
-		rec, _, err = wfdb.ReadRecord(o.Input)
-	case ".edf", ".rec":
-		rec, _, err = edf.ReadRecord(o.Input)
-	default:
-		return rec, fmt.Errorf("render: %s: unsupported record file (want a WFDB .hea header or EDF/EDF+ .edf): %w", o.Input, ecg.ErrUnreadable)
-	}
+	rec, err := export.ReadRecord(o.Input)
 	if err != nil {
 		if !errors.Is(err, ecg.ErrUnreadable) && !errors.Is(err, ecg.ErrNoECG) {
 			err = fmt.Errorf("%w: %w", ecg.ErrUnreadable, err)
 		}
-		return rec, fmt.Errorf("render: %s: %w", o.Input, err)
+		return rec, fmt.Errorf("render: %w", err)
 	}
 	return rec, nil
 }

@@ -12,6 +12,7 @@ import (
 	"github.com/stretchr/testify/require"
 
 	"tracelift/ecg"
+	"tracelift/export"
 	"tracelift/export/edf"
 	"tracelift/render"
 	"tracelift/synth"
@@ -133,27 +134,31 @@ func TestRenderRun(t *testing.T) {
 	assert.Equal(t, ExitOutput, code)
 }
 
-// TestRenderEDF prints an EDF+ file written by export/edf and checks that
-// the truth carries the file's leads.
-func TestRenderEDF(t *testing.T) {
+// TestRenderFiles prints EDF+ and CSV files written by the export
+// package and checks that the truth carries the file's leads.
+func TestRenderFiles(t *testing.T) {
 	dir := t.TempDir()
 	rec, err := synth.Generate(synth.Default(), 5)
 	require.NoError(t, err)
-	in := filepath.Join(dir, "rec.edf")
-	require.NoError(t, edf.WriteFile(in, rec, nil))
-	js := filepath.Join(dir, "rec.json")
-	var out, errOut bytes.Buffer
-	code := Main([]string{"render", in, "--dpi", "60", "--layout", "12x1", "--truth", js}, nil, &out, &errOut)
-	require.Equal(t, ExitOK, code, "stderr: %s", errOut.String())
-	f, err := os.Open(js)
-	require.NoError(t, err)
-	defer f.Close()
-	tr, err := render.ReadTruth(f)
-	require.NoError(t, err)
-	assert.Len(t, tr.Panels, 12)
-	back := tr.Record()
-	ii := back.Signal(ecg.LeadII)
-	require.NotNil(t, ii)
-	// EDF stores 16-bit samples: within a few µV of the synthetic record.
-	assert.InDelta(t, rec.Signal(ecg.LeadII).Samples[250], ii.Samples[250], 0.005)
+	edfPath := filepath.Join(dir, "rec.edf")
+	require.NoError(t, edf.WriteFile(edfPath, rec, nil))
+	csvPath := filepath.Join(dir, "rec.csv")
+	require.NoError(t, export.WriteCSVFile(csvPath, rec))
+	for _, in := range []string{edfPath, csvPath} {
+		js := in + ".json"
+		var out, errOut bytes.Buffer
+		code := Main([]string{"render", in, "--dpi", "60", "--layout", "12x1", "--truth", js}, nil, &out, &errOut)
+		require.Equal(t, ExitOK, code, "stderr: %s", errOut.String())
+		f, err := os.Open(js)
+		require.NoError(t, err)
+		tr, err := render.ReadTruth(f)
+		f.Close()
+		require.NoError(t, err)
+		assert.Len(t, tr.Panels, 12, in)
+		back := tr.Record()
+		ii := back.Signal(ecg.LeadII)
+		require.NotNil(t, ii, in)
+		// EDF stores 16-bit samples: within a few µV of the synthetic record.
+		assert.InDelta(t, rec.Signal(ecg.LeadII).Samples[250], ii.Samples[250], 0.005, in)
+	}
 }
