@@ -385,6 +385,43 @@ func TestNoiseLevels(t *testing.T) {
 	}
 }
 
+// Baseline wander stays below its stated peak and below 0.5 Hz; mains
+// interference is a sine of the stated amplitude and frequency.
+func TestWanderAndMains(t *testing.T) {
+	clean := gen(t, Default(), 6)
+	p := Default()
+	p.BaselineWanderMV = 0.3
+	wander := gen(t, p, 6)
+	p = Default()
+	p.PowerlineMV, p.PowerlineHz = 0.05, 60
+	mains := gen(t, p, 6)
+	for _, l := range []ecg.Lead{ecg.LeadI, ecg.LeadV4} {
+		a, w, m := clean.Signal(l).Samples, wander.Signal(l).Samples, mains.Signal(l).Samples
+		peak, maxStep := 0.0, 0.0
+		var re, im float64
+		for k := range a {
+			d := w[k] - a[k]
+			peak = max(peak, math.Abs(d))
+			if k > 0 {
+				maxStep = max(maxStep, math.Abs(d-(w[k-1]-a[k-1])))
+			}
+			e := m[k] - a[k]
+			tt := float64(k) / 500
+			re += e * math.Cos(2*math.Pi*60*tt)
+			im += e * math.Sin(2*math.Pi*60*tt)
+		}
+		// A sum of sines of total amplitude A below 0.5 Hz changes by at
+		// most 2π·0.5·A/fs per sample.
+		if peak > 0.3+1e-9 || peak < 0.1 || maxStep > 2*math.Pi*0.5*0.3/500 {
+			t.Errorf("%v wander: peak %.3f mV, largest step %.2g mV", l, peak, maxStep)
+		}
+		amp := 2 * math.Hypot(re, im) / float64(len(a))
+		if math.Abs(amp-0.05) > 0.001 {
+			t.Errorf("%v mains: 60 Hz amplitude %.4f mV, want 0.05", l, amp)
+		}
+	}
+}
+
 func TestBadParams(t *testing.T) {
 	mod := func(f func(*Params)) Params { p := Default(); f(&p); return p }
 	cases := map[string]Params{
