@@ -153,6 +153,7 @@ qualified clinicians under local rules and licensed practice.`,
 		newBatchCmd(ios, nil),
 		newRenderCmd(ios, nil),
 		newEvalCmd(ios, nil),
+		newDemoCmd(ios, nil),
 	)
 	return root
 }

@@ -4,15 +4,27 @@ import (
 	"context"
 	"errors"
 	"fmt"
+	"io"
+	"math"
+	"os"
 	"path/filepath"
+	"sort"
 	"strings"
 
 	"github.com/spf13/cobra"
+
+	"tracelift/ecg"
+	"tracelift/imageproc/decode"
+	"tracelift/pipeline"
+	"tracelift/trace"
 )
 
 // outputFormats are the values --format accepts; csv and json are always
 // written.
 var outputFormats = []string{"csv", "json", "edf", "wfdb", "aecg", "svg", "png", "pdf"}
+
+// availableFormats are the formats this build can write.
+var availableFormats = []string{"csv", "json", "edf", "wfdb", "aecg", "pdf"}
 
 // pipelineFlags are the digitising options shared by digitize and batch.
 type pipelineFlags struct {
@@ -45,12 +57,11 @@ func (p *pipelineFlags) check(prefix string) error {
 		if f == "" {
 			continue
 		}
-		known := false
-		for _, k := range outputFormats {
-			known = known || f == k
-		}
-		if !known {
+		if !hasString(outputFormats, f) {
 			return flagErrorf("%s: unknown --format %q (want %s)", prefix, f, strings.Join(outputFormats, ", "))
+		}
+		if !hasString(availableFormats, f) {
+			return flagErrorf("%s: --format %s is not available in this build (available: %s)", prefix, f, strings.Join(availableFormats, ", "))
 		}
 		if !hasString(p.Formats, f) {
 			p.Formats = append(p.Formats, f)
@@ -126,14 +137,323 @@ qualified clinicians under local rules and licensed practice.`,
 	return cmd
 }
 
-func runDigitize(ctx context.Context, ios *IOStreams, opts *digitizeOptions) error {
-	return errors.New("digitize: not wired yet")
+// pageOutcome is one page's result, reported as soon as it is done.
+type pageOutcome struct {
+	File    string // input path
+	Index   int    // 1-based page
+	Stem    string // output path without extension
+	Result  *pipeline.Result
+	Outputs []string
+	Err     error // nil, partial, or the page's failure
 }
 
-func checkLayout(prefix, s string) error { return nil }
+func (p *pipelineFlags) config() (pipeline.Config, error) {
+	c := pipeline.Config{SpeedMMPerS: p.SpeedMMS, GainMMPerMV: p.GainMMMV, DPI: p.DPI, SampleRate: p.RateHz, MaxPixels: int(p.MaxPixels)}
+	if p.Layout != "" && p.Layout != "auto" {
+		l, err := trace.ParseLayout(p.Layout)
+		if err != nil {
+			return c, err
+		}
+		c.Layout = l
+	}
+	return c, nil
+}
 
+func checkLayout(prefix, s string) error {
+	if s == "" || s == "auto" {
+		return nil
+	}
+	if _, err := trace.ParseLayout(s); err != nil {
+		return flagErrorf("%s: --layout %q: %v", prefix, s, err)
+	}
+	return nil
+}
+
+// processor returns the real per-file function used by batch.
 func (p *pipelineFlags) processor(ios *IOStreams) fileProcessor {
 	return func(ctx context.Context, in, outBase string) (fileResult, error) {
-		return fileResult{}, fmt.Errorf("%s: the digitising pipeline is not available in this build", filepath.Base(in))
+		return digitizeFile(ctx, in, outBase, p, nil)
 	}
+}
+
+// digitizeFile runs the pipeline on every page of inPath, writing each
+// page's outputs next to outBase (outBase.csv, outBase-p2.csv, …). onPage,
+// if not nil, is called after each page. The error is nil when every page
+// succeeded, wraps ecg.ErrPartial when some outputs were written but some
+// leads or pages failed, and otherwise wraps the class of the first
+// failure.
+func digitizeFile(ctx context.Context, inPath, outBase string, pf *pipelineFlags, onPage func(pageOutcome)) (fileResult, error) {
+	res := fileResult{First: unknownSummary()}
+	cfg, err := pf.config()
+	if err != nil {
+		return res, &FlagError{Err: err}
+	}
+	var pageErrs []error
+	written := 0
+	decErr := decode.Pages(inPath, &decode.Options{MaxPixels: pf.MaxPixels}, func(pg decode.Page) error {
+		if err := ctx.Err(); err != nil {
+			return err
+		}
+		stem := outBase
+		if pg.Index > 1 {
+			stem = fmt.Sprintf("%s-p%d", outBase, pg.Index)
+		}
+		out := pageOutcome{File: inPath, Index: pg.Index, Stem: stem}
+		r, err := pipeline.Run(ctx, pg, cfg)
+		out.Result = r
+		if err != nil && ctx.Err() != nil {
+			return ctx.Err()
+		}
+		if err == nil || errors.Is(err, ecg.ErrPartial) {
+			outs, werr := writeOutputs(stem, inPath, pg, r, pf.Formats, pf.Layout != "" && pf.Layout != "auto")
+			out.Outputs = outs
+			res.Outputs = append(res.Outputs, outs...)
+			if werr != nil {
+				err = werr
+			} else {
+				written++
+				if res.Pages == 0 {
+					res.First = summarize(r)
+				}
+				res.Pages++
+			}
+		}
+		if err != nil {
+			err = fmt.Errorf("%s%s: %w", filepath.Base(inPath), pageSuffix(pg.Index), err)
+			pageErrs = append(pageErrs, err)
+		}
+		out.Err = err
+		if onPage != nil {
+			onPage(out)
+		}
+		if errors.Is(err, ecg.ErrOutput) {
+			return err // the output folder is broken: later pages would fail too
+		}
+		return nil
+	})
+	if decErr != nil {
+		if ctx.Err() != nil {
+			return res, ctx.Err()
+		}
+		if !errors.Is(decErr, ecg.ErrOutput) || len(pageErrs) == 0 {
+			pageErrs = append(pageErrs, fmt.Errorf("%s: %w", filepath.Base(inPath), decErr))
+		}
+	}
+	switch {
+	case len(pageErrs) == 0:
+		return res, nil
+	case written > 0:
+		// Something usable was written: the file as a whole is partial,
+		// unless an output failed.
+		worst := worstError(pageErrs)
+		if errors.Is(worst, ecg.ErrOutput) {
+			return res, worst
+		}
+		if len(pageErrs) == 1 && errors.Is(worst, ecg.ErrPartial) {
+			return res, worst
+		}
+		return res, fmt.Errorf("%s: %w: %s", filepath.Base(inPath), ecg.ErrPartial, joinMessages(pageErrs))
+	default:
+		return res, worstError(pageErrs)
+	}
+}
+
+func pageSuffix(i int) string {
+	if i <= 1 {
+		return ""
+	}
+	return fmt.Sprintf(" page %d", i)
+}
+
+func joinMessages(errs []error) string {
+	var s []string
+	for _, e := range errs {
+		s = append(s, oneLine(e))
+	}
+	return strings.Join(s, "; ")
+}
+
+// severity ranks exit codes for "the worst class": internal errors first,
+// then output, no-ECG, unreadable and partial.
+func severity(code int) int {
+	switch code {
+	case ExitInternal:
+		return 6
+	case ExitOutput:
+		return 5
+	case ExitNoECG:
+		return 4
+	case ExitUnreadable:
+		return 3
+	case ExitPartial:
+		return 2
+	case ExitInterrupted:
+		return 7
+	case ExitUsage:
+		return 1
+	}
+	return 0
+}
+
+func worstError(errs []error) error {
+	var worst error
+	for _, e := range errs {
+		if worst == nil || severity(ExitCode(e)) > severity(ExitCode(worst)) {
+			worst = e
+		}
+	}
+	return worst
+}
+
+// summarize extracts the catalogue's key numbers from a result.
+func summarize(r *pipeline.Result) pageSummary {
+	s := unknownSummary()
+	if r == nil || r.Trace == nil {
+		return s
+	}
+	var q []float64
+	for _, sig := range r.Trace.Record.Signals {
+		if _, _, ok := sig.ValidSpan(); ok {
+			s.Leads = append(s.Leads, sig.Lead.String())
+			if v, ok := r.Trace.Quality[sig.Lead]; ok {
+				q = append(q, v)
+			}
+		}
+	}
+	if len(q) > 0 {
+		sum := 0.0
+		for _, v := range q {
+			sum += v
+		}
+		s.Quality = sum / float64(len(q))
+	}
+	if rep := r.Report; rep != nil {
+		s.HR, s.PR, s.QRS, s.QT = float64(rep.HeartRateBPM), float64(rep.PRMS), float64(rep.QRSMS), float64(rep.QTMS)
+		if v, ok := rep.QTcMS["bazett"]; ok {
+			s.QTcB = v
+		}
+	}
+	return s
+}
+
+func runDigitize(ctx context.Context, ios *IOStreams, opts *digitizeOptions) error {
+	if ctx == nil {
+		ctx = context.Background()
+	}
+	if err := os.MkdirAll(opts.OutDir, 0o755); err != nil {
+		return fmt.Errorf("digitize: %s: %w: %v", opts.OutDir, ecg.ErrOutput, err)
+	}
+	bases := make(map[string]int)
+	var errs []error
+	failed := 0
+	for _, f := range opts.Files {
+		stem := strings.TrimSuffix(filepath.Base(f), filepath.Ext(f))
+		bases[stem]++
+		if bases[stem] > 1 { // two inputs with one name: keep both outputs
+			stem = fmt.Sprintf("%s-%d", stem, bases[stem])
+		}
+		_, err := digitizeFile(ctx, f, filepath.Join(opts.OutDir, stem), &opts.Pipe, func(p pageOutcome) {
+			if !opts.Quiet {
+				printPageSummary(ios.Out, p)
+			}
+		})
+		if ctx.Err() != nil {
+			return fmt.Errorf("digitize: %w", errInterrupted)
+		}
+		if err != nil {
+			errs = append(errs, err)
+			if !errors.Is(err, ecg.ErrPartial) {
+				failed++
+			}
+			if len(opts.Files) > 1 {
+				fmt.Fprintf(ios.ErrOut, "tracelift: %s\n", oneLine(err))
+			}
+		}
+	}
+	switch {
+	case len(errs) == 0:
+		return nil
+	case len(opts.Files) == 1:
+		return errs[0]
+	}
+	w := worstError(errs)
+	return fmt.Errorf("digitize: %d of %d files failed, %d partial (see above): %w", failed, len(opts.Files), len(errs)-failed, classOnly(w))
+}
+
+// classOnly returns the error class err wraps, for summary messages.
+func classOnly(err error) error {
+	for _, c := range []error{ecg.ErrOutput, ecg.ErrNoECG, ecg.ErrUnreadable, ecg.ErrPartial} {
+		if errors.Is(err, c) {
+			return c
+		}
+	}
+	return err
+}
+
+// printPageSummary prints a page's short readable summary.
+func printPageSummary(w io.Writer, p pageOutcome) {
+	name := filepath.Base(p.File) + pageSuffix(p.Index)
+	r := p.Result
+	if r == nil || r.Trace == nil {
+		return // failures are reported as errors
+	}
+	fmt.Fprintf(w, "%s\n", name)
+	s := summarize(r)
+	fmt.Fprintf(w, "  leads      %d found: %s\n", len(s.Leads), strings.Join(s.Leads, " "))
+	if missing := missingLeads(r.Trace); len(missing) > 0 {
+		fmt.Fprintf(w, "  missing    %s\n", strings.Join(missing, " "))
+	}
+	if g := r.Grid; g != nil {
+		c := g.Calibration
+		fmt.Fprintf(w, "  calibration %.3f × %.3f px/mm (%s), %g mm/s (%s), %g mm/mV (%s), layout %s\n",
+			c.PxPerMMX.V, c.PxPerMMY.V, c.PxPerMMX.Origin, c.SpeedMMPerS.V, c.SpeedMMPerS.Origin,
+			c.GainMMPerMV.V, c.GainMMPerMV.Origin, layoutName(&r.Trace.Layout))
+	}
+	fmt.Fprintf(w, "  measures   HR %s  PR %s  QRS %s  QT %s  QTc(Bazett) %s\n",
+		fmtNum(s.HR, "/min"), fmtNum(s.PR, " ms"), fmtNum(s.QRS, " ms"), fmtNum(s.QT, " ms"), fmtNum(s.QTcB, " ms"))
+	for _, wr := range r.Warnings {
+		fmt.Fprintf(w, "  warning    %s\n", wr)
+	}
+	if p.Err != nil {
+		fmt.Fprintf(w, "  partial    %s\n", oneLine(p.Err))
+	}
+	if len(p.Outputs) > 0 {
+		fmt.Fprintf(w, "  wrote      %s\n", strings.Join(baseNames(p.Outputs), " "))
+	}
+	fmt.Fprintf(w, "  %s\n", caution)
+}
+
+// missingLeads lists the leads the layout prints that were not read.
+func missingLeads(t *trace.Result) []string {
+	var m []string
+	for _, l := range ecg.Standard12 {
+		if layoutPrints(t, l) && !hasLead(&t.Record, l) {
+			m = append(m, l.String())
+		}
+	}
+	return m
+}
+
+func baseNames(ps []string) []string {
+	out := make([]string, len(ps))
+	for i, p := range ps {
+		out[i] = filepath.Base(p)
+	}
+	sort.Strings(out)
+	return out
+}
+
+func fmtNum(v float64, unit string) string {
+	if math.IsNaN(v) || math.IsInf(v, 0) {
+		return "–"
+	}
+	return fmt.Sprintf("%.0f%s", v, unit)
+}
+
+// layoutName is the layout's standard name, or its description.
+func layoutName(l *trace.Layout) string {
+	if l.Name != "" && l.Name != "custom" {
+		return l.Name
+	}
+	return l.String()
 }
