@@ -432,7 +432,7 @@ func sniff(h []byte) (string, string) {
 		return "gif", ""
 	case len(h) >= 12 && string(h[0:4]) == "RIFF" && string(h[8:12]) == "WEBP":
 		return "webp", ""
-	case bytes.HasPrefix(h, []byte("BM")) && len(h) >= 18:
+	case bytes.HasPrefix(h, []byte("BM")) && len(h) >= 18 && validDIBHeader(h[14:18]):
 		return "bmp", ""
 	case bytes.Contains(h, []byte("%PDF-")):
 		// ISO 32000-1 7.5.2 puts the header first; readers commonly accept
@@ -451,6 +451,17 @@ func sniff(h []byte) (string, string) {
 		return "", "not an image file (looks like text)"
 	}
 	return "", "not a recognised image format (expected PNG, JPEG, TIFF, BMP, GIF, WebP or PDF)"
+}
+
+// validDIBHeader reports whether the 4 bytes after a BMP file header hold
+// a known DIB header size (BITMAPCOREHEADER 12, BITMAPINFOHEADER 40, its
+// extensions 52 and 56, OS/2 64, BITMAPV4HEADER 108, BITMAPV5HEADER 124).
+func validDIBHeader(b []byte) bool {
+	switch uint32(b[0]) | uint32(b[1])<<8 | uint32(b[2])<<16 | uint32(b[3])<<24 {
+	case 12, 40, 52, 56, 64, 108, 124:
+		return true
+	}
+	return false
 }
 
 // isText reports whether h looks like plain text (UTF-8 without control

@@ -93,6 +93,12 @@ func TestJPEGDensity(t *testing.T) {
 		{"dpcm", jfif(2, 118, 118), 299.72, 299.72},
 		{"fax-like", jfif(1, 204, 98), 204, 98},
 		{"aspect only", jfif(0, 1, 1), 0, 0},
+		// Without JFIF density, Exif X/YResolution with ResolutionUnit
+		// (2 inch, 3 cm; Exif 2.3 0x0128).
+		{"exif inch", exifResSegment(binary.BigEndian, 1, 200, 100, 2), 200, 100},
+		{"exif cm", exifResSegment(binary.LittleEndian, 1, 118, 118, 3), 299.72, 299.72},
+		// Both: the JFIF density states a unit and wins over Exif's 72.
+		{"jfif over exif", append(jfif(1, 300, 300), exifResSegment(binary.BigEndian, 1, 72, 72, 2)...), 300, 300},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
 			p := readerPages(t, jpegBytes(t, img, 95, tc.seg), "photo.jpg", nil)[0]

@@ -165,6 +165,25 @@ func exifBlock(bo byteOrder, orientation int) []byte {
 	return append(hdr, ifd...)
 }
 
+// exifResSegment builds a JPEG APP1 Exif segment whose IFD0 holds
+// Orientation, XResolution, YResolution and ResolutionUnit (Exif 2.3 tags
+// 0x0112, 0x011A, 0x011B, 0x0128).
+func exifResSegment(bo byteOrder, orientation int, xres, yres, unit uint32) []byte {
+	var hdr []byte
+	if bo == byteOrder(binary.BigEndian) {
+		hdr = []byte("MM\x00*\x00\x00\x00\x08")
+	} else {
+		hdr = []byte("II*\x00\x08\x00\x00\x00")
+	}
+	ifd, _ := tiffIFD(bo, 8, []ifdField{
+		{tagOrientation, typeShort, []uint32{uint32(orientation)}},
+		{tagXResolution, typeRational, []uint32{xres, 1}},
+		{tagYResolution, typeRational, []uint32{yres, 1}},
+		{tagResolutionUnit, typeShort, []uint32{unit}},
+	})
+	return segment(0xE1, append([]byte("Exif\x00\x00"), append(hdr, ifd...)...))
+}
+
 // exifSegment wraps an Exif block in a JPEG APP1 segment.
 func exifSegment(bo byteOrder, orientation int) []byte {
 	return segment(0xE1, append([]byte("Exif\x00\x00"), exifBlock(bo, orientation)...))

@@ -185,6 +185,12 @@ func (f *pdfFile) collect(res types.Dict, depth int, drawn map[string][6]float64
 		switch st := sd.Subtype(); {
 		case st != nil && *st == "Image":
 			w, h := intEntry(xr, sd.Dict, "Width", "W"), intEntry(xr, sd.Dict, "Height", "H")
+			if sd.HasSoleFilterNamed(filter.DCT) {
+				// The JPEG stream's own header is what will be decoded.
+				if c, err := jpeg.DecodeConfig(bytes.NewReader(sd.Raw)); err == nil {
+					w, h = c.Width, c.Height
+				}
+			}
 			if w > 0 && h > 0 {
 				*out = append(*out, pdfImage{name: name, sd: sd, w: w, h: h, top: depth == 0})
 			}

@@ -3,6 +3,7 @@ package decode
 import (
 	"bytes"
 	"encoding/binary"
+	"errors"
 	"image"
 	"image/gif"
 	"image/jpeg"
@@ -10,6 +11,7 @@ import (
 	"io"
 
 	"golang.org/x/image/bmp"
+	"golang.org/x/image/tiff"
 	"golang.org/x/image/webp"
 )
 
@@ -40,6 +42,9 @@ func (s *single) decode(_ int, check func(w, h int) error) (Page, error) {
 	}
 	img, err := s.dec(s.src.reader())
 	if err != nil {
+		if isUnsupported(err) {
+			return Page{}, &Error{Name: s.src.name, Kind: ErrUnsupported, Reason: "unsupported " + s.name + " variant", Err: err}
+		}
 		if s.trailer != nil && !s.src.endsWith(s.trailer) {
 			return Page{}, s.src.fail(0, "truncated "+s.name+" (file ends early)", err)
 		}
@@ -56,10 +61,22 @@ func (s *single) decode(_ int, check func(w, h int) error) (Page, error) {
 func (s *single) header(cfg func(io.Reader) (image.Config, error)) error {
 	c, err := cfg(s.src.reader())
 	if err != nil {
+		if isUnsupported(err) {
+			return &Error{Name: s.src.name, Kind: ErrUnsupported, Reason: "unsupported " + s.name + " variant", Err: err}
+		}
 		return s.src.decodeErr(0, s.name, err)
 	}
 	s.w, s.h = c.Width, c.Height
 	return nil
+}
+
+// isUnsupported reports the standard decoders' "valid but not supported"
+// errors, as opposed to corrupt data.
+func isUnsupported(err error) bool {
+	var pu png.UnsupportedError
+	var ju jpeg.UnsupportedError
+	var tu tiff.UnsupportedError
+	return errors.As(err, &pu) || errors.As(err, &ju) || errors.As(err, &tu) || errors.Is(err, bmp.ErrUnsupported)
 }
 
 // maxMetaChunk bounds the metadata bytes read from one chunk or segment.
