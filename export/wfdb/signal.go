@@ -147,6 +147,71 @@ func groups(h *Header) ([]fileGroup, error) {
 	return gs, nil
 }
 
+// groupFrames returns the number of frames in a file group: the
+// header's count, or what the file holds when the header gives none. It
+// checks the file is long enough.
+func groupFrames(p string, g *fileGroup, nsamp int64) (frames, size int64, err error) {
+	st, err := os.Stat(p)
+	if err != nil {
+		return 0, 0, fmt.Errorf("signal file: %w: %w", ecg.ErrUnreadable, err)
+	}
+	size = max(st.Size()-g.offset, 0)
+	if size > maxSignalBytes {
+		return 0, 0, fmt.Errorf("signal file %s is larger than %d bytes: %w", p, int64(maxSignalBytes), ecg.ErrUnreadable)
+	}
+	ns := int64(len(g.signals))
+	frames = nsamp
+	if frames == 0 {
+		frames = size * 8 / int64(bitsPerSample(g.format)) / ns
+	}
+	if frames > maxSignalBytes*8/int64(bitsPerSample(g.format))/ns {
+		return 0, 0, fmt.Errorf("signal file %s is truncated: header announces %d samples of %d signals, file holds %d bytes: %w",
+			p, frames, ns, size, ecg.ErrUnreadable)
+	}
+	if need := byteLen(frames*ns, g.format); size < need {
+		return 0, 0, fmt.Errorf("signal file %s is truncated: %d bytes, header needs %d for %d samples of %d signals: %w",
+			p, size, need, frames, ns, ecg.ErrUnreadable)
+	}
+	return frames, size, nil
+}
+
+// readGroup reads frames [from, from+n) of a file group (the caller has
+// checked they exist) and returns one column per signal of the group.
+func readGroup(p string, g *fileGroup, from, n int64) ([][]int, error) {
+	ns := int64(len(g.signals))
+	// Format 212 packs two samples in 3 bytes: start on an even sample.
+	s0 := from * ns
+	lead := int64(0)
+	if g.format == 212 && s0%2 == 1 {
+		s0--
+		lead = 1
+	}
+	cnt := n*ns + lead
+	off := g.offset + s0*int64(bitsPerSample(g.format))/8
+	buf := make([]byte, byteLen(cnt, g.format))
+	f, err := os.Open(p)
+	if err != nil {
+		return nil, fmt.Errorf("signal file: %w: %w", ecg.ErrUnreadable, err)
+	}
+	_, err = f.ReadAt(buf, off)
+	f.Close()
+	if err != nil {
+		return nil, fmt.Errorf("signal file %s: %w: %w", p, ecg.ErrUnreadable, err)
+	}
+	all := make([]int, cnt)
+	decode(all, buf, g.format)
+	all = all[lead:]
+	cols := make([][]int, ns)
+	for k := range cols {
+		col := make([]int, n)
+		for t := int64(0); t < n; t++ {
+			col[t] = all[t*ns+int64(k)]
+		}
+		cols[k] = col
+	}
+	return cols, nil
+}
+
 // ReadDigital reads every signal of the record described by h, whose
 // header lives in dir, and returns the digital samples per signal
 // (len(h.Signals) slices, each of the record's length). It checks initial
@@ -161,49 +226,16 @@ func ReadDigital(dir string, h *Header) ([][]int, error) {
 	for gi := range gs {
 		g := &gs[gi]
 		p := filepath.Join(dir, g.file)
-		st, err := os.Stat(p)
+		frames, _, err := groupFrames(p, g, nsamp)
 		if err != nil {
-			return nil, fmt.Errorf("signal file: %w: %w", ecg.ErrUnreadable, err)
+			return nil, err
 		}
-		size := st.Size() - g.offset
-		if size < 0 {
-			size = 0
-		}
-		if size > maxSignalBytes {
-			return nil, fmt.Errorf("signal file %s is larger than %d bytes: %w", p, int64(maxSignalBytes), ecg.ErrUnreadable)
-		}
-		ns := int64(len(g.signals))
-		frames := nsamp
-		if frames == 0 {
-			frames = size * 8 / int64(bitsPerSample(g.format)) / ns
-		}
-		if frames > maxSignalBytes*8/int64(bitsPerSample(g.format))/ns {
-			return nil, fmt.Errorf("signal file %s is truncated: header announces %d samples of %d signals, file holds %d bytes: %w",
-				p, frames, ns, size, ecg.ErrUnreadable)
-		}
-		need := byteLen(frames*ns, g.format)
-		if size < need {
-			return nil, fmt.Errorf("signal file %s is truncated: %d bytes, header needs %d for %d samples of %d signals: %w",
-				p, size, need, frames, ns, ecg.ErrUnreadable)
-		}
-		f, err := os.Open(p)
+		cols, err := readGroup(p, g, 0, frames)
 		if err != nil {
-			return nil, fmt.Errorf("signal file: %w: %w", ecg.ErrUnreadable, err)
+			return nil, err
 		}
-		buf := make([]byte, need)
-		_, err = f.ReadAt(buf, g.offset)
-		f.Close()
-		if err != nil {
-			return nil, fmt.Errorf("signal file %s: %w: %w", p, ecg.ErrUnreadable, err)
-		}
-		all := make([]int, frames*ns)
-		decode(all, buf, g.format)
 		for k, si := range g.signals {
-			col := make([]int, frames)
-			for t := int64(0); t < frames; t++ {
-				col[t] = all[t*ns+int64(k)]
-			}
-			out[si] = col
+			out[si] = cols[k]
 		}
 		if nsamp == 0 {
 			nsamp = frames
@@ -238,6 +270,93 @@ func ReadDigital(dir string, h *Header) ([][]int, error) {
 		h.NSamp = nsamp
 	}
 	return out, nil
+}
+
+// ReadSegment reads frames [from, from+n) of a record into an ecg.Record
+// (as ReadRecord does for the whole record), reading only those bytes of
+// the signal files, so that a window of a 24-hour record costs what the
+// window costs. Signal.Start is from/fs. n ≤ 0 or a window past the end is
+// cut to the record's length. Checksums cannot be verified on a segment;
+// the initial value is checked when from is 0.
+func ReadSegment(heaPath string, from, n int64) (ecg.Record, *Header, error) {
+	h, err := ReadHeader(heaPath)
+	if err != nil {
+		return ecg.Record{}, nil, err
+	}
+	wrap := func(err error) error { return fmt.Errorf("wfdb: %s: %w", heaPath, err) }
+	if from < 0 {
+		return ecg.Record{}, h, wrap(fmt.Errorf("segment start %d is negative: %w", from, ecg.ErrUnreadable))
+	}
+	gs, err := groups(h)
+	if err != nil {
+		return ecg.Record{}, h, wrap(err)
+	}
+	dir := filepath.Dir(heaPath)
+	dig := make([][]int, len(h.Signals))
+	nsamp := h.NSamp
+	for gi := range gs {
+		g := &gs[gi]
+		p := filepath.Join(dir, g.file)
+		frames, _, err := groupFrames(p, g, nsamp)
+		if err != nil {
+			return ecg.Record{}, h, wrap(err)
+		}
+		if nsamp == 0 {
+			nsamp = frames
+		}
+		skew := 0
+		for _, si := range g.signals {
+			skew = max(skew, h.Signals[si].Skew)
+		}
+		m := n
+		if m <= 0 || from+m > frames {
+			m = max(frames-from, 0)
+		}
+		extra := min(int64(skew), frames-from-m)
+		cols, err := readGroup(p, g, from, m+max(extra, 0))
+		if err != nil {
+			return ecg.Record{}, h, wrap(err)
+		}
+		for k, si := range g.signals {
+			d := cols[k]
+			if sk := int64(h.Signals[si].Skew); sk > 0 {
+				inv := invalidValue(g.format)
+				sh := make([]int, m)
+				for t := range sh {
+					if t+int(sk) < len(d) {
+						sh[t] = d[t+int(sk)]
+					} else {
+						sh[t] = inv
+					}
+				}
+				d = sh
+			}
+			dig[si] = d[:m]
+		}
+	}
+	if h.NSamp == 0 {
+		h.NSamp = nsamp
+	}
+	for i := range h.Signals {
+		s := &h.Signals[i]
+		if from == 0 && s.HasInitVal && len(dig[i]) > 0 && s.Skew == 0 && dig[i][0] != s.InitVal {
+			h.Warnings = append(h.Warnings, fmt.Sprintf("signal %d (%s): first sample %d, header initial value %d", i, s.Description, dig[i][0], s.InitVal))
+		}
+	}
+	phys := make([][]float64, len(dig))
+	for i, d := range dig {
+		s := &h.Signals[i]
+		p := make([]float64, len(d))
+		for t, v := range d {
+			p[t] = s.Physical(v)
+		}
+		phys[i] = p
+	}
+	rec := toRecord(heaPath, h, phys)
+	for i := range rec.Signals {
+		rec.Signals[i].Start = float64(from) / h.Fs
+	}
+	return rec, h, nil
 }
 
 // ReadSignals reads a record and returns every signal in physical units
@@ -275,6 +394,11 @@ func ReadRecord(heaPath string) (ecg.Record, *Header, error) {
 	if err != nil {
 		return ecg.Record{}, h, err
 	}
+	return toRecord(heaPath, h, phys), h, nil
+}
+
+// toRecord builds the Record from physical signals (see ReadRecord).
+func toRecord(heaPath string, h *Header, phys [][]float64) ecg.Record {
 	rec := ecg.Record{Meta: ecg.Metadata{Source: filepath.Base(heaPath), Acquired: h.Start}}
 	for i := range h.Signals {
 		s := &h.Signals[i]
@@ -295,7 +419,7 @@ func ReadRecord(heaPath string) (ecg.Record, *Header, error) {
 		rec.Set(ecg.Signal{Lead: l, SampleRate: h.Fs, Samples: v})
 	}
 	rec.Meta.Notes = append(rec.Meta.Notes, h.Warnings...)
-	return rec, h, nil
+	return rec
 }
 
 // toMV returns the factor converting a WFDB unit string to millivolts.
