@@ -47,6 +47,7 @@ type sheet struct {
 	ticks     [][3]float64 // x, y0, y1 in mm
 	traceW    float64      // printable trace width, mm
 	t0        float64      // record start, s
+	texts     []TruthText  // filled while drawing the raster
 }
 
 const (

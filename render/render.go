@@ -8,6 +8,8 @@ import (
 	"math"
 	"strings"
 
+	"golang.org/x/image/font"
+
 	"tracelift/ecg"
 	"tracelift/scansim"
 )
@@ -102,11 +104,13 @@ func (sh *sheet) draw(r *raster, rec *ecg.Record) error {
 				x -= r.textWidthMM(face, l.s)
 			}
 			r.text(face, l.s, x, l.y, textColor)
+			sh.noteText(r, face, l.s, x, l.y, false)
 		}
 	}
 	// Labels: bold, above the baseline at each panel's start.
 	for _, p := range sh.panels {
 		r.text(fs.small, p.label(), p.x0+1.2, p.baseline-sh.labelRise(), textColor)
+		sh.noteText(r, fs.small, p.label(), p.x0+1.2, p.baseline-sh.labelRise(), true)
 	}
 	ink := o.traceColor
 	var marks [][][2]float64
@@ -121,6 +125,15 @@ func (sh *sheet) draw(r *raster, rec *ecg.Record) error {
 		r.strokePolylines(sh.points(rec, p), o.traceWidth, ink)
 	}
 	return nil
+}
+
+// noteText records the box of a printed text for the truth.
+func (sh *sheet) noteText(r *raster, face font.Face, s string, x, y float64, label bool) {
+	m := face.Metrics()
+	asc := float64(m.Ascent) / 64 / r.s
+	desc := float64(m.Descent) / 64 / r.s
+	sh.texts = append(sh.texts, TruthText{Text: s, Label: label,
+		BoxMM: [4]float64{x, y - asc, x + r.textWidthMM(face, s), y + desc}})
 }
 
 // labelRise is how far above the baseline lead labels sit, mm.

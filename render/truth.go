@@ -53,6 +53,17 @@ type Truth struct {
 	GridRectMM [4]float64 `json:"grid_rect_mm"`
 	// Ticks are the column separator ticks [x, y0, y1] in mm.
 	Ticks [][3]float64 `json:"ticks,omitempty"`
+	// Texts are the printed texts (header, footer, lead labels) with their
+	// boxes, so tests can tell text ink from trace ink.
+	Texts []TruthText `json:"texts,omitempty"`
+}
+
+// TruthText is one printed text and its box [x0, y0, x1, y1] in paper mm
+// (from the font's ascent to its descent).
+type TruthText struct {
+	Text  string     `json:"text"`
+	Label bool       `json:"label"` // a lead label (else header or footer)
+	BoxMM [4]float64 `json:"box_mm"`
 }
 
 // TruthGrid describes the printed grid.
@@ -289,6 +300,7 @@ func buildTruth(rec *ecg.Record, sh *sheet) Truth {
 		TraceWidthMM: o.traceWidth,
 		GridRectMM:   [4]float64{sh.gx0, sh.gy0, sh.gx0 + sh.gw, sh.gy0 + sh.gh},
 		Ticks:        sh.ticks,
+		Texts:        sh.texts,
 	}
 	if o.gridKind == GridNone {
 		t.Grid.Color = ""
