@@ -42,7 +42,7 @@ func WriteCSV(w io.Writer, rec ecg.Record) error {
 		bw.WriteByte(',')
 		bw.WriteString(l.String())
 	}
-	bw.WriteString("\r\n")
+	bw.WriteByte('\n')
 	var num []byte
 	for k := 0; k < g.N; k++ {
 		num = strconv.AppendFloat(num[:0], g.Time(k), 'f', 6, 64)
@@ -57,7 +57,7 @@ func WriteCSV(w io.Writer, rec ecg.Record) error {
 				bw.Write(num)
 			}
 		}
-		bw.WriteString("\r\n")
+		bw.WriteByte('\n')
 	}
 	if err := bw.Flush(); err != nil {
 		return fmt.Errorf("export: csv: %w: %w", ecg.ErrOutput, err)

@@ -4,7 +4,7 @@
 //   - CSV (this package): a time_s column and one column per lead, the
 //     twelve standard leads always present in conventional order (I, II,
 //     III, aVR, aVL, aVF, V1–V6), values in mV with 4 decimals (0.1 µV), an
-//     empty cell where a lead was not recorded (RFC 4180 quoting rules).
+//     empty cell where a lead was not recorded; lines end in LF.
 //   - JSON report (this package): Report, versioned, with calibration and
 //     its origins, per-lead quality, the limb-lead self-check residual and
 //     the measurements of package measure, plus the caution text.

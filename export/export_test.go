@@ -48,10 +48,10 @@ func TestCSVLayout(t *testing.T) {
 	if err := WriteCSV(&b, rec); err != nil {
 		t.Fatal(err)
 	}
-	want := "time_s,I,II,III,aVR,aVL,aVF,V1,V2,V3,V4,V5,V6,V3R\r\n" +
-		"0.000000,,0.1234,,,,,,,,,,,1.0000\r\n" +
-		"0.004000,,0.0000,,,,,,,,,,,2.0000\r\n" +
-		"0.008000,,,,,,,,,,,,,3.0000\r\n"
+	want := "time_s,I,II,III,aVR,aVL,aVF,V1,V2,V3,V4,V5,V6,V3R\n" +
+		"0.000000,,0.1234,,,,,,,,,,,1.0000\n" +
+		"0.004000,,0.0000,,,,,,,,,,,2.0000\n" +
+		"0.008000,,,,,,,,,,,,,3.0000\n"
 	if b.String() != want {
 		t.Errorf("got\n%q\nwant\n%q", b.String(), want)
 	}
