@@ -360,3 +360,16 @@ func TestBiosigReadsEDF(t *testing.T) {
 	}
 	t.Logf("biosig agreed on %d samples; %d of 22500 gap samples read as NaN by biosig (the rest as values below the physical minimum)", checked, nanAsNaN)
 }
+
+func TestPrefilter(t *testing.T) {
+	for in, want := range map[string]string{
+		"0.05–150 Hz": "HP:0.05Hz LP:150Hz",
+		"0.5-40Hz":    "HP:0.5Hz LP:40Hz",
+		"":            "",
+		"notch 50 Hz": "notch 50 Hz",
+	} {
+		if got := prefilter(in); got != want {
+			t.Errorf("prefilter(%q) = %q, want %q", in, got, want)
+		}
+	}
+}

@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"regexp"
 	"sort"
 	"strconv"
 	"strings"
@@ -391,8 +392,15 @@ func recordingField(o Options, m ecg.Metadata, start time.Time) string {
 	return strings.Join([]string{"Startdate", edfDate(start), sub(r.AdminCode), sub(r.Technician), sub(r.Equipment)}, " ")
 }
 
-// prefilter turns a printed filter setting into EDF's prefiltering text;
-// empty stays empty.
+// bandRE matches a printed band such as "0.05–150 Hz" or "0.5-40Hz".
+var bandRE = regexp.MustCompile(`^\s*([0-9]*\.?[0-9]+)\s*(?:–|-|to)\s*([0-9]*\.?[0-9]+)\s*Hz\s*$`)
+
+// prefilter turns a printed filter setting into EDF's prefiltering text:
+// a band "0.05–150 Hz" becomes "HP:0.05Hz LP:150Hz" (the EDF convention);
+// anything else is kept as printed; empty stays empty.
 func prefilter(s string) string {
+	if m := bandRE.FindStringSubmatch(s); m != nil {
+		return "HP:" + m[1] + "Hz LP:" + m[2] + "Hz"
+	}
 	return strings.TrimSpace(strings.ReplaceAll(s, "–", "-"))
 }
