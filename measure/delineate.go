@@ -42,6 +42,9 @@ type delinParams struct {
 	tWinRR                 float64 // T search ends at this fraction of RR after the fiducial (0.3–0.65 s)
 	combFrac               float64 // global QRS onset = value at this rank fraction from the earliest (0: earliest); offset alike
 	combFracP, combFracT   float64 // the same for P and T end
+	tKeep                  float64 // T end only from leads with relative T amplitude ≥ tKeep × the largest
+	tEndMethod             float64 // 0: Zhang area indicator; 1: slope threshold xiTEnd
+	xiTEnd                 float64
 }
 
 var defaultDelin = delinParams{
@@ -51,7 +54,7 @@ var defaultDelin = delinParams{
 	xiQOn: 0.1, xiQOff: 0.1,
 	xiPOn: 0.4, xiPOff: 0.5, combFracP: 0.15,
 	pMinRatio: 0.03, tMinRatio: 0.03,
-	zhangW: 0.10, tWinRR: 0.62,
+	zhangW: 0.10, tWinRR: 0.62, tKeep: 0.6, tEndMethod: 1, xiTEnd: 0.15,
 }
 
 // delineator holds the smoothing-derivative kernels for one sample rate and
@@ -330,7 +333,7 @@ func (d *delineator) findT(x []float64, r, on, off int, rr, base float64, out *w
 	ww := max(2, S(p.zhangW))
 	bestA, te := math.Inf(-1), -1
 	for k := i1 + 1; k <= b; k++ {
-		if k-ww+1 < 0 {
+		if k-ww+1 < lo {
 			continue
 		}
 		s := 0.0
@@ -340,6 +343,18 @@ func (d *delineator) findT(x []float64, r, on, off int, rr, base float64, out *w
 		A := sgn * (s - float64(ww)*y[k-lo])
 		if A > bestA {
 			bestA, te = A, k
+		}
+	}
+	if p.tEndMethod == 1 {
+		// Slope threshold (Martínez et al. 2004): after the last slope,
+		// where |W| falls under xiTEnd of it, or at a local minimum.
+		lim := p.xiTEnd * math.Abs(w[i1-lo])
+		te = i1
+		for te < b && te+1-lo < len(w) {
+			if math.Abs(w[te-lo]) < lim || math.Abs(w[te+1-lo]) > math.Abs(w[te-lo]) {
+				break
+			}
+			te++
 		}
 	}
 	if te < 0 {

@@ -3,10 +3,8 @@ package measure
 import (
 	"fmt"
 	"math"
-	"os"
 	"path/filepath"
 	"sort"
-	"strings"
 	"testing"
 
 	"tracelift/ecg"
@@ -146,6 +144,23 @@ func globalRef(leads [][]wave) refIntervals {
 type diffStats struct {
 	name string
 	d    []float64
+	// For P: records where the reference has a P wave / where we found
+	// one too; records without a reference P / where we reported one.
+	refP, foundP, noRefP, falseP int
+}
+
+func (s *diffStats) countP(meas Num, ref float64) {
+	if math.IsNaN(ref) {
+		s.noRefP++
+		if meas.Valid() {
+			s.falseP++
+		}
+		return
+	}
+	s.refP++
+	if meas.Valid() {
+		s.foundP++
+	}
 }
 
 func (s *diffStats) add(meas Num, ref float64) {
@@ -158,7 +173,11 @@ func (s *diffStats) meanSD() (float64, float64) { return meanSD(s.d) }
 
 func (s *diffStats) String() string {
 	m, sd := s.meanSD()
-	return fmt.Sprintf("%-4s n=%2d  mean %+6.1f ms  SD %5.1f ms", s.name, len(s.d), m, sd)
+	out := fmt.Sprintf("%-4s n=%2d  mean %+6.1f ms  SD %5.1f ms", s.name, len(s.d), m, sd)
+	if s.refP+s.noRefP > 0 {
+		out += fmt.Sprintf("  (P found in %d of %d records with a reference P; reported in %d of %d without)", s.foundP, s.refP, s.falseP, s.noRefP)
+	}
+	return out
 }
 
 var ludbRecords = []int{1, 2, 3, 4, 5, 6, 7, 8, 9, 10, 11, 12, 13, 15, 20, 21, 22, 24, 34, 35, 38, 44, 45, 52, 63, 70, 105, 108, 114}
@@ -179,6 +198,11 @@ func TestIntervalsLUDB(t *testing.T) {
 		t.Logf("LUDB %s", s)
 	}
 	checkBounds(t, "LUDB", st, ludbBounds)
+	// P presence: found in 20 of the 22 records whose experts marked P;
+	// wrongly reported in 4 of 7 (atrial flutter, fibrillation, paced).
+	if st[0].foundP < 20 || st[0].falseP > 4 {
+		t.Errorf("LUDB P found in %d of %d (want ≥ 20), reported in %d of %d without (want ≤ 4)", st[0].foundP, st[0].refP, st[0].falseP, st[0].noRefP)
+	}
 }
 
 func evalLUDB(t *testing.T, opt *Options, verbose bool) []*diffStats {
@@ -196,6 +220,7 @@ func evalLUDB(t *testing.T, opt *Options, verbose bool) []*diffStats {
 			t.Fatalf("ludb %d: %v", n, err)
 		}
 		st[0].add(rep.PMS, ref.p)
+		st[0].countP(rep.PMS, ref.p)
 		st[1].add(rep.PRMS, ref.pr)
 		st[2].add(rep.QRSMS, ref.qrs)
 		st[3].add(rep.QTMS, ref.qt)
@@ -208,10 +233,15 @@ func evalLUDB(t *testing.T, opt *Options, verbose bool) []*diffStats {
 }
 
 // Bounds asserted on |mean| and SD (ms), set just above the performance
-// measured when these tests were written (see the package report); the
-// IEC 60601-2-25 targets are in the comments above.
-var ludbBounds = map[string][2]float64{"P": {100, 100}, "PR": {100, 100}, "QRS": {100, 100}, "QT": {100, 100}}
-var qtdbBounds = map[string][2]float64{"P": {100, 100}, "PR": {100, 100}, "QRS": {100, 100}, "QT": {100, 100}}
+// measured when these tests were written (LUDB: P −5.0±10.8, PR −2.2±9.9,
+// QRS −6.2±20.4, QT −11.4±28.9; QTDB: P +12.3±9.7, PR +2.6±8.8,
+// QRS +2.4±11.0, QT +3.6±21.2). Against the IEC 60601-2-25 targets (from
+// memory) P and PR meet them, QRS misses the SD (±10 ms) and LUDB QT is at
+// the SD limit (±30 ms). The delineation thresholds were chosen while
+// looking at these same two datasets, so these are not independent
+// validation figures.
+var ludbBounds = map[string][2]float64{"P": {7, 13}, "PR": {5, 12}, "QRS": {9, 23}, "QT": {14, 32}}
+var qtdbBounds = map[string][2]float64{"P": {15, 12}, "PR": {5, 11}, "QRS": {5, 13}, "QT": {7, 24}}
 
 func checkBounds(t *testing.T, set string, st []*diffStats, b map[string][2]float64) {
 	t.Helper()
@@ -237,6 +267,9 @@ func TestIntervalsQTDB(t *testing.T) {
 		t.Logf("QTDB %s", s)
 	}
 	checkBounds(t, "QTDB", st, qtdbBounds)
+	if st[0].foundP < 7 || st[0].falseP > 0 {
+		t.Errorf("QTDB P found in %d of %d (want ≥ 7), reported in %d of %d without (want 0)", st[0].foundP, st[0].refP, st[0].falseP, st[0].noRefP)
+	}
 }
 
 func evalQTDB(t *testing.T, opt *Options, verbose bool) []*diffStats {
@@ -256,6 +289,7 @@ func evalQTDB(t *testing.T, opt *Options, verbose bool) []*diffStats {
 			t.Fatalf("qtdb %s: %v", name, err)
 		}
 		st[0].add(rep.PMS, ref.p)
+		st[0].countP(rep.PMS, ref.p)
 		st[1].add(rep.PRMS, ref.pr)
 		st[2].add(rep.QRSMS, ref.qrs)
 		st[3].add(rep.QTMS, ref.qt)
@@ -278,5 +312,3 @@ func cutRecord(rec ecg.Record, from, to float64) ecg.Record {
 	return out
 }
 
-var _ = os.Stat
-var _ = strings.Contains

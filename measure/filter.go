@@ -135,6 +135,9 @@ func bandFilter(dst, x []float64, fs, padS, minS float64, sections ...biquad) []
 	if len(dst) != len(x) {
 		panic("measure: bandFilter: length mismatch")
 	}
+	if len(x) > 0 && &dst[0] == &x[0] {
+		panic("measure: bandFilter: dst and x must not overlap")
+	}
 	for i := range dst {
 		dst[i] = math.NaN()
 	}

@@ -87,19 +87,39 @@ func Measure(rec ecg.Record, opt *Options) (*Report, error) {
 	tmpl := templates(cond, dom, pre, post, o.MaxTemplateBeats)
 	d := newDelineator(fs, o.delinParams())
 	lw := make([]waves, len(f.leads))
-	env := d.qrsEnvelope(tmpl, pre)
-	for k := range f.leads {
-		lw[k] = d.delineate(tmpl[k], pre, rrDom, env, true, true)
+	// Delineate per group of simultaneous leads (all leads when one lead,
+	// such as a rhythm strip, runs alongside every other).
+	groups := leadGroups(f)
+	gl := make([]waves, len(f.leads)) // each lead's group boundaries
+	var gs []waves
+	for _, grp := range groups {
+		sub := make([][]float64, len(grp))
+		for i, k := range grp {
+			sub[i] = tmpl[k]
+		}
+		env := d.qrsEnvelope(sub, pre)
+		ws := make([]waves, len(grp))
+		for i, k := range grp {
+			lw[k] = d.delineate(tmpl[k], pre, rrDom, env, true, true)
+			ws[i] = lw[k]
+		}
+		g := combineLeads(ws, fs, &d.p)
+		for _, k := range grp {
+			gl[k] = g
+		}
+		gs = append(gs, g)
 	}
-	g := combineLeads(lw, fs, &d.p)
+	if len(groups) > 1 {
+		rep.Warnings = append(rep.Warnings, fmt.Sprintf("the leads form %d groups that were not recorded at the same time and no lead runs alongside all of them; QRS and QT are the longest of the groups', P and PR their median", len(groups)))
+	}
 	rel := func(i float64) Num { return round(ms(i-float64(pre)), 1) }
-	if g.ok {
-		rep.QRSMS = round(ms(g.qrsOff-g.qrsOn), 1)
-		rep.QTMS = round(ms(g.tEnd-g.qrsOn), 1)
-		rep.PRMS = round(ms(g.qrsOn-g.pOn), 1)
-		rep.PMS = round(ms(g.pOff-g.pOn), 1)
-	} else {
-		rep.QRSMS, rep.QTMS, rep.PRMS, rep.PMS = NaN(), NaN(), NaN(), NaN()
+	p, pr, qrs, qt := globalIntervals(gs)
+	rep.PMS, rep.PRMS, rep.QRSMS, rep.QTMS = round(ms(p), 1), round(ms(pr), 1), round(ms(qrs), 1), round(ms(qt), 1)
+	anyOK := false
+	for _, g := range gs {
+		anyOK = anyOK || g.ok
+	}
+	if !anyOK {
 		rep.Warnings = append(rep.Warnings, "no lead's median beat could be delineated")
 	}
 	if rep.QTMS.Valid() && rrDom > 0 {
@@ -107,7 +127,7 @@ func Measure(rec ecg.Record, opt *Options) (*Report, error) {
 			rep.QTcMS[k] = float64(round(QTc(k, float64(rep.QTMS), rrDom*1000), 1))
 		}
 	}
-	if g.ok && !rep.PMS.Valid() {
+	if anyOK && !rep.PMS.Valid() {
 		rep.Warnings = append(rep.Warnings, "no P waves found (atrial fibrillation or flutter, junctional or paced rhythm, or a noisy tracing)")
 	}
 
@@ -115,7 +135,7 @@ func Measure(rec ecg.Record, opt *Options) (*Report, error) {
 	// just before the global QRS onset.
 	amps := make(map[ecg.Lead]LeadMeasures)
 	for k, l := range f.leads {
-		lm := leadAmplitudes(tmpl[k], g, fs)
+		lm := leadAmplitudes(tmpl[k], gl[k], fs)
 		lm.Lead = l.String()
 		lm.Beats = coverage(cond.x[k], dom)
 		w := lw[k]
@@ -125,7 +145,7 @@ func Measure(rec ecg.Record, opt *Options) (*Report, error) {
 		rep.Leads = append(rep.Leads, lm)
 		amps[l] = lm
 	}
-	rep.Axes = axes(f, tmpl, g, fs)
+	rep.Axes = axes(f, tmpl, gl, fs)
 	if v1, ok := amps[ecg.LeadV1]; ok && v1.SMV.Valid() {
 		r5, r6 := amps[ecg.LeadV5].RMV, amps[ecg.LeadV6].RMV
 		_, ok5 := amps[ecg.LeadV5]
@@ -169,14 +189,27 @@ func Measure(rec ecg.Record, opt *Options) (*Report, error) {
 	return rep, nil
 }
 
-// condition returns f's leads high-passed at o.HighPassHz and low-passed at
-// o.LowPassHz (2nd-order Butterworth sections run forward and backward:
-// zero phase), each contiguous run of samples separately.
+// condition returns f's leads with baseline wander removed and band
+// limited: by default the median-filter baseline (medianBaseline) is
+// subtracted; with o.HighPassHz > 0 a 2nd-order Butterworth high-pass runs
+// forward and backward instead. Then a 2nd-order Butterworth low-pass at
+// o.LowPassHz runs forward and backward (zero phase). Each contiguous run
+// of samples is filtered separately.
 func condition(f *frame, o *Options) *frame {
 	c := &frame{fs: f.fs, t0: f.t0, n: f.n, leads: f.leads, x: make([][]float64, len(f.x))}
-	hp, lp := butterHigh(o.HighPassHz, f.fs), butterLow(o.LowPassHz, f.fs)
+	lp := butterLow(o.LowPassHz, f.fs)
+	var base []float64
 	for k, x := range f.x {
-		c.x[k] = bandFilter(nil, x, f.fs, 1.0, 0.3, hp, lp)
+		if o.HighPassHz > 0 {
+			c.x[k] = bandFilter(nil, x, f.fs, 1.0, 0.3, butterHigh(o.HighPassHz, f.fs), lp)
+			continue
+		}
+		base = medianBaseline(base, x, f.fs)
+		y := make([]float64, len(x))
+		for i := range y {
+			y[i] = x[i] - base[i]
+		}
+		c.x[k] = bandFilter(nil, y, f.fs, 0.2, 0.3, lp)
 	}
 	return c
 }
@@ -302,7 +335,21 @@ func combineLeads(ws []waves, fs float64, p *delinParams) waves {
 	}
 	g.qrsOn = pick(func(w waves) float64 { return w.qrsOn }, 0.04, true, 1, p.combFrac)
 	g.qrsOff = pick(func(w waves) float64 { return w.qrsOff }, 0.04, false, 1, p.combFrac)
-	g.tEnd = pick(func(w waves) float64 { return w.tEnd }, 0.08, false, 1, p.combFracT)
+	// T end only from leads whose T wave is at least tKeep × the largest
+	// relative T amplitude (|T| / QRS peak-to-peak): a flat T gives no
+	// reliable end and tends to merge with a U wave.
+	tmax := 0.0
+	for _, w := range ws {
+		if w.ok && !math.IsNaN(w.tEnd) && w.qrsPP > 0 {
+			tmax = math.Max(tmax, math.Abs(w.tAmp)/w.qrsPP)
+		}
+	}
+	g.tEnd = pick(func(w waves) float64 {
+		if w.qrsPP > 0 && math.Abs(w.tAmp)/w.qrsPP < p.tKeep*tmax {
+			return math.NaN()
+		}
+		return w.tEnd
+	}, 0.08, false, 1, p.combFracT)
 	g.tPeak = pick(func(w waves) float64 { return w.tPeak }, 0.08, false, 1, 0.5)
 	pMin := max(1, (nq+2)/3)
 	g.pOn = pick(func(w waves) float64 { return w.pOn }, 0.06, true, pMin, p.combFracP)
@@ -364,27 +411,26 @@ func leadAmplitudes(x []float64, g waves, fs float64) LeadMeasures {
 // after fitting leads I and II by least squares to every limb lead present
 // (lead = a·I + b·II, Einthoven/Goldberger) so that any two limb leads
 // suffice.
-func axes(f *frame, tmpl [][]float64, g waves, fs float64) Axes {
+func axes(f *frame, tmpl [][]float64, gl []waves, fs float64) Axes {
 	ax := Axes{PDeg: NaN(), QRSDeg: NaN(), TDeg: NaN()}
-	if !g.ok || math.IsNaN(g.qrsOn) {
-		return ax
-	}
 	S := func(s float64) int { return int(math.Round(s * fs)) }
-	on, off := int(g.qrsOn), int(g.qrsOff)
 	type obs struct{ a, b, v float64 }
-	fit := func(val func(x []float64, base float64) float64) Num {
+	// fit evaluates val on every limb lead with its group's boundaries g.
+	fit := func(val func(x []float64, base float64, g waves) float64) Num {
 		var os []obs
 		for k, l := range f.leads {
 			a, b, ok := ecg.FrontalCoefficients(l)
-			if !ok {
+			g := gl[k]
+			if !ok || !g.ok || math.IsNaN(g.qrsOn) {
 				continue
 			}
 			x := tmpl[k]
+			on := int(g.qrsOn)
 			base := meanRange(x, on-S(0.020), on-S(0.004))
 			if math.IsNaN(base) {
 				continue
 			}
-			if v := val(x, base); !math.IsNaN(v) {
+			if v := val(x, base, g); !math.IsNaN(v) {
 				os = append(os, obs{a, b, v})
 			}
 		}
@@ -404,20 +450,139 @@ func axes(f *frame, tmpl [][]float64, g waves, fs float64) Axes {
 		ii := (s11*b2 - s12*b1) / det
 		return round(FrontalAxis(i, ii-i/2), 1)
 	}
-	ax.QRSDeg = fit(func(x []float64, base float64) float64 {
+	ax.QRSDeg = fit(func(x []float64, base float64, g waves) float64 {
 		hi, lo := 0.0, 0.0
-		for i := on; i <= off && i < len(x); i++ {
+		for i := int(g.qrsOn); i <= int(g.qrsOff) && i < len(x); i++ {
 			hi, lo = math.Max(hi, x[i]-base), math.Min(lo, x[i]-base)
 		}
 		return hi + lo
 	})
-	if !math.IsNaN(g.tEnd) {
-		ax.TDeg = fit(func(x []float64, base float64) float64 { return meanRange(x, off+S(0.04), int(g.tEnd)) - base })
-	}
-	if !math.IsNaN(g.pOn) {
-		ax.PDeg = fit(func(x []float64, base float64) float64 { return meanRange(x, int(g.pOn), int(g.pOff)) - base })
-	}
+	ax.TDeg = fit(func(x []float64, base float64, g waves) float64 {
+		if math.IsNaN(g.tEnd) {
+			return math.NaN()
+		}
+		return meanRange(x, int(g.qrsOff)+S(0.04), int(g.tEnd)) - base
+	})
+	ax.PDeg = fit(func(x []float64, base float64, g waves) float64 {
+		if math.IsNaN(g.pOn) {
+			return math.NaN()
+		}
+		return meanRange(x, int(g.pOn), int(g.pOff)) - base
+	})
 	return ax
+}
+
+// leadGroups partitions f's leads into groups recorded at the same time.
+// When one lead overlaps (for ≥ 80 % of its samples) every other lead — a
+// rhythm strip, or any simultaneous recording — all leads form one group,
+// because the beat fiducials are refined on that lead and so share one
+// time frame. Otherwise leads that overlap for at least half of the
+// shorter one's samples are joined (a 3 × 4 page without a rhythm strip
+// gives its four columns).
+func leadGroups(f *frame) [][]int {
+	n := len(f.x)
+	valid := make([][2]int, n) // first, last valid sample
+	count := make([]int, n)
+	for k, x := range f.x {
+		valid[k] = [2]int{-1, -1}
+		for i, v := range x {
+			if !math.IsNaN(v) {
+				if valid[k][0] < 0 {
+					valid[k][0] = i
+				}
+				valid[k][1] = i
+				count[k]++
+			}
+		}
+	}
+	overlap := func(a, b int) int {
+		lo, hi := max(valid[a][0], valid[b][0]), min(valid[a][1], valid[b][1])
+		return max(0, hi-lo+1)
+	}
+	for r := range n {
+		all := true
+		for k := range n {
+			if k != r && float64(overlap(r, k)) < 0.8*float64(count[k]) {
+				all = false
+				break
+			}
+		}
+		if all {
+			g := make([]int, n)
+			for k := range g {
+				g[k] = k
+			}
+			return [][]int{g}
+		}
+	}
+	comp := make([]int, n)
+	for k := range comp {
+		comp[k] = k
+	}
+	var find func(int) int
+	find = func(k int) int {
+		for comp[k] != k {
+			k = comp[k]
+		}
+		return k
+	}
+	for a := range n {
+		for b := a + 1; b < n; b++ {
+			if float64(overlap(a, b)) >= 0.5*float64(min(count[a], count[b])) {
+				comp[find(a)] = find(b)
+			}
+		}
+	}
+	idx := map[int]int{}
+	var out [][]int
+	for k := range n {
+		r := find(k)
+		j, ok := idx[r]
+		if !ok {
+			j = len(out)
+			idx[r] = j
+			out = append(out, nil)
+		}
+		out[j] = append(out[j], k)
+	}
+	return out
+}
+
+// globalIntervals returns P duration, PR, QRS and QT (samples) from the
+// groups' boundaries: those of the single group, or with several groups
+// for QRS and QT the longest over the groups that measured them (each
+// group's interval can only under-estimate the global one, which spans
+// the earliest onset and latest offset of all leads), and for P and PR the
+// median over the groups that found a P wave (a P wave is small in some
+// leads, and the longest would follow the worst group); P counts as
+// present when found in at least half of the groups.
+func globalIntervals(gs []waves) (p, pr, qrs, qt float64) {
+	p, pr, qrs, qt = math.NaN(), math.NaN(), math.NaN(), math.NaN()
+	mx := func(a, b float64) float64 {
+		if math.IsNaN(a) {
+			return b
+		}
+		if math.IsNaN(b) {
+			return a
+		}
+		return math.Max(a, b)
+	}
+	var ps, prs []float64
+	for _, g := range gs {
+		if !g.ok {
+			continue
+		}
+		qrs = mx(qrs, g.qrsOff-g.qrsOn)
+		qt = mx(qt, g.tEnd-g.qrsOn)
+		if !math.IsNaN(g.pOn) {
+			ps = append(ps, g.pOff-g.pOn)
+			prs = append(prs, g.qrsOn-g.pOn)
+		}
+	}
+	if len(gs) == 1 || 2*len(ps) >= len(gs) {
+		p, pr = median(ps), median(prs)
+	}
+	return p, pr, qrs, qt
 }
 
 // beatTable delineates QRS and T of every beat on the leads recorded at

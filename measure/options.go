@@ -7,9 +7,10 @@ import "tracelift/ecg"
 type Options struct {
 	// Leads restricts measurement to these leads (nil: every lead).
 	Leads []ecg.Lead
-	// HighPassHz is the baseline-wander cut-off of the measurement
-	// signals (default 0.5 Hz; zero-phase, so within the 0.67 Hz limit of
-	// the AHA 2007 recommendations).
+	// HighPassHz, when > 0, removes baseline wander from the measurement
+	// signals with a zero-phase Butterworth high-pass at this cut-off
+	// instead of the default median-filter baseline estimate (which
+	// leaves ST and T levels undistorted; see medianBaseline).
 	HighPassHz float64
 	// LowPassHz is the measurement low-pass cut-off (default 40 Hz,
 	// clamped below 0.45 × the sample rate).
@@ -39,9 +40,6 @@ func (o *Options) withDefaults() Options {
 	var r Options
 	if o != nil {
 		r = *o
-	}
-	if r.HighPassHz <= 0 {
-		r.HighPassHz = 0.5
 	}
 	if r.LowPassHz <= 0 {
 		r.LowPassHz = 40
