@@ -5,8 +5,8 @@
 // Stages, in order: pen strokes drawn on the page, paper tint, geometric
 // warp (scale, rotation, perspective tilt, then an optional radial lens
 // warp) with bilinear resampling, uneven illumination, Gaussian blur
-// (imaging.Blur), sensor noise, grey conversion, JPEG round trip and
-// binarisation.
+// (separable, truncated at 3σ), sensor noise, JPEG round trip and
+// binarisation; a grey result is converted to grey before the blur.
 //
 // Methods (common practice unless cited): inverse mapping through a 3×3
 // homography, the projective model of a plane seen by a pinhole camera

@@ -10,8 +10,6 @@ import (
 	"image/jpeg"
 	"math"
 	"math/rand/v2"
-
-	"github.com/disintegration/imaging"
 )
 
 // ErrOptions is returned (wrapped) for options outside their valid range
@@ -157,16 +155,25 @@ func Apply(src image.Image, opt Options) (image.Image, [9]float64, error) {
 	if opt.Lighting > 0 {
 		light(out, opt.Lighting, lightRng)
 	}
+	// Grey conversion is linear, so a grey result is converted first and
+	// blurred and noised on one channel instead of four.
 	var img image.Image = out
-	if opt.BlurPx > 0 {
-		out = imaging.Blur(out, opt.BlurPx)
-		img = out
-	}
-	if opt.NoiseSD > 0 {
-		addNoise(out, opt.NoiseSD, opt.Grayscale, noiseRng)
-	}
 	if opt.Grayscale {
-		img = toGray(out)
+		g := toGray(out)
+		if opt.BlurPx > 0 {
+			blur(g.Pix, g.Stride, g.Rect.Dx(), g.Rect.Dy(), 1, opt.BlurPx)
+		}
+		if opt.NoiseSD > 0 {
+			addNoise(g.Pix, 1, opt.NoiseSD, noiseRng)
+		}
+		img = g
+	} else {
+		if opt.BlurPx > 0 {
+			blur(out.Pix, out.Stride, out.Rect.Dx(), out.Rect.Dy(), 4, opt.BlurPx)
+		}
+		if opt.NoiseSD > 0 {
+			addNoise(out.Pix, 4, opt.NoiseSD, noiseRng)
+		}
 	}
 	if opt.JPEGQuality > 0 {
 		var buf bytes.Buffer
@@ -415,40 +422,96 @@ func light(img *image.NRGBA, strength float64, rng *rand.Rand) {
 	}
 }
 
-// addNoise adds Gaussian noise of SD sd to each channel (the same value to
-// all three when mono is set, since the image will become grey). Deviates
-// come from a table of 65 536 normal draws indexed by 16-bit slices of
-// random words, four per rng call: much faster than one NormFloat64 per
-// channel and, at 8-bit output, indistinguishable.
-func addNoise(img *image.NRGBA, sd float64, mono bool, rng *rand.Rand) {
+// addNoise adds Gaussian noise of SD sd (grey levels) to the colour
+// channels of interleaved pixels with ch channels (1: grey; 4: RGB get
+// independent noise, alpha is left alone). Deviates come from a table of
+// 65 536 normal draws indexed by 16-bit slices of random words, four per
+// rng call: much faster than one NormFloat64 per value and, at 8-bit
+// output, indistinguishable.
+func addNoise(pix []byte, ch int, sd float64, rng *rand.Rand) {
 	var table [1 << 16]int16
 	for i := range table {
 		table[i] = int16(max(-32767, min(32767, math.Round(sd*rng.NormFloat64()*64))))
 	}
 	var word uint64
 	left := 0
-	next := func() int32 {
-		if left == 0 {
-			word, left = rng.Uint64(), 4
+	nc := min(ch, 3)
+	for i := 0; i < len(pix); i += ch {
+		for c := range nc {
+			if left == 0 {
+				word, left = rng.Uint64(), 4
+			}
+			v := int32(pix[i+c])<<6 + int32(table[word&0xffff])
+			word >>= 16
+			left--
+			pix[i+c] = uint8(min(255, max(0, (v+32)>>6)))
 		}
-		v := table[word&0xffff]
-		word >>= 16
-		left--
-		return int32(v)
 	}
-	clamp := func(v int32) uint8 { return uint8(min(255, max(0, (v+32)>>6))) }
-	pix := img.Pix
-	for i := 0; i+3 < len(pix); i += 4 {
-		if mono {
-			n := next()
-			pix[i] = clamp(int32(pix[i])<<6 + n)
-			pix[i+1] = clamp(int32(pix[i+1])<<6 + n)
-			pix[i+2] = clamp(int32(pix[i+2])<<6 + n)
-			continue
+}
+
+// blur convolves an interleaved 8-bit image (ch channels per pixel, rows
+// stride bytes apart) in place with a Gaussian of SD sigma px, truncated at
+// 3σ, separably (rows, then columns), repeating edge pixels. The vertical
+// pass keeps a ring of the 2r+1 source rows it needs.
+func blur(pix []byte, stride, w, h, ch int, sigma float64) {
+	r := int(math.Ceil(3 * sigma))
+	k := make([]float32, 2*r+1)
+	sum := 0.0
+	for i := -r; i <= r; i++ {
+		v := math.Exp(-float64(i*i) / (2 * sigma * sigma))
+		k[i+r] = float32(v)
+		sum += v
+	}
+	for i := range k {
+		k[i] /= float32(sum)
+	}
+	n := w * ch
+	// Horizontal pass: one channel at a time through a padded line so the
+	// inner loop runs over contiguous memory. Alpha (channel 3) is opaque
+	// throughout and skipped.
+	line := make([]float32, w+2*r)
+	for y := range h {
+		row := pix[y*stride : y*stride+n]
+		for c := range min(ch, 3) {
+			for x := range line {
+				line[x] = float32(row[min(max(x-r, 0), w-1)*ch+c])
+			}
+			for x := range w {
+				seg := line[x : x+len(k)]
+				var acc float32
+				for i, kv := range k {
+					acc += kv * seg[i]
+				}
+				row[x*ch+c] = uint8(acc + 0.5)
+			}
 		}
-		pix[i] = clamp(int32(pix[i])<<6 + next())
-		pix[i+1] = clamp(int32(pix[i+1])<<6 + next())
-		pix[i+2] = clamp(int32(pix[i+2])<<6 + next())
+	}
+	ring := make([][]byte, 2*r+1)
+	for i := range ring {
+		ring[i] = make([]byte, n)
+	}
+	loaded := -1
+	load := func(j int) {
+		for loaded < j {
+			loaded++
+			copy(ring[loaded%len(ring)], pix[loaded*stride:loaded*stride+n])
+		}
+	}
+	acc := make([]float32, n)
+	for y := range h {
+		load(min(y+r, h-1))
+		clear(acc)
+		for i, kv := range k {
+			j := min(max(y+i-r, 0), h-1)
+			src := ring[j%len(ring)]
+			for x, v := range src {
+				acc[x] += kv * float32(v)
+			}
+		}
+		row := pix[y*stride : y*stride+n]
+		for x, v := range acc {
+			row[x] = uint8(v + 0.5)
+		}
 	}
 }
 
