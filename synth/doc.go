@@ -15,9 +15,12 @@
 // itself, without the relaxation term that pulls z back to baseline), so
 // every wave's centre and width are known exactly.
 //
-// Following the multichannel extension of Sameni, Clifford, Jutten and
-// Shamsollahi, IEEE Trans. Biomed. Eng. 54(12):2172–2185, 2007 (details
-// from memory), each Gaussian carries a three-dimensional amplitude: the
+// Following the multichannel extension of Sameni and colleagues (Sameni,
+// Clifford, Jutten and Shamsollahi, IEEE Trans. Biomed. Eng.
+// 54(12):2172–2185, 2007; the three-dimensional dipole form is, from
+// memory, set out in Sameni, Shamsollahi, Jutten and Clifford, EURASIP J.
+// Adv. Signal Process. 2007, article 43407; both citations unverified),
+// each Gaussian carries a three-dimensional amplitude: the
 // model drives a heart vector in the Frank axes (X toward the patient's
 // left, Y toward the feet, Z toward the back). Leads are projections of the
 // vector:
@@ -42,7 +45,8 @@
 // and falls back below 5 % of the envelope's peak: the global earliest-onset,
 // latest-offset definition of standards.md §4.4 applied to the group in
 // isolation. PPeak and TPeak are the envelope maxima; R is the centre of the
-// main QRS Gaussian. The QRS template is scaled so QRSOff − QRSOn equals the
+// main QRS Gaussian (for a ventricular beat, the centre of its two broad
+// lobes). The QRS template is scaled so QRSOff − QRSOn equals the
 // requested QRS duration, the P group is placed so QRSOn − POn equals PR,
 // and the T group so TEnd − QRSOn equals QT.
 //
