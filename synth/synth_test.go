@@ -284,6 +284,16 @@ func TestMorphology(t *testing.T) {
 			break
 		}
 	}
+	// Transition zone (net QRS changes sign) at V3–V4 in most normal
+	// adults (common practice).
+	var net []float64
+	for _, l := range ecg.Standard12[6:] {
+		n, _, _ := netQRS(rec, l, b)
+		net = append(net, n)
+	}
+	if net[0] >= 0 || net[1] >= 0 || net[4] <= 0 || net[5] <= 0 || (net[2] >= 0 && net[3] >= 0) || (net[2] < 0 && net[3] < 0) {
+		t.Errorf("chest net QRS %.2f mV: want negative V1–V2, positive V5–V6, transition at V3/V4", net)
+	}
 	tAt := func(l ecg.Lead) float64 { return rec.Signal(l).At(b.TPeak) }
 	if tAt(ecg.LeadII) <= 0.1 || tAt(ecg.LeadV5) <= 0.1 || tAt(ecg.LeadAVR) >= -0.05 {
 		t.Errorf("T at peak: II %.2f, V5 %.2f, aVR %.2f mV", tAt(ecg.LeadII), tAt(ecg.LeadV5), tAt(ecg.LeadAVR))
