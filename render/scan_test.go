@@ -96,7 +96,10 @@ func TestConditions(t *testing.T) {
 		if (name == "clean") != (o.Scan == nil) {
 			t.Errorf("%s: scan options %v", name, o.Scan)
 		}
-		o.DPI = 100 // keep the test light; presets were drawn for 300 dpi
+		if name != "fax" && name != "lowres" {
+			o.DPI = 100 // keep the test light; geometry presets need 300 dpi
+		}
+		o.Grid.Color = "red" // grid ink stays lighter than 40 in darkness
 		rec, err := CorpusRecord(uint64(i), name == "overlap")
 		if err != nil {
 			t.Fatal(err)
@@ -107,6 +110,24 @@ func TestConditions(t *testing.T) {
 		}
 		if p.Truth.Condition != name || p.Image.Bounds().Dx() != p.Truth.WidthPx {
 			t.Errorf("%s: truth %q %d px wide, image %v", name, p.Truth.Condition, p.Truth.WidthPx, p.Image.Bounds())
+		}
+		if name == "photo" {
+			continue // the lens warp is outside the homography
+		}
+		// The pulses' top strokes are where the truth says, in the final
+		// image: dark within 1 px of the mapped point.
+		tr := p.Truth
+		for _, pu := range tr.Pulses {
+			u, v := tr.PaperToPx((pu.X0MM+pu.X1MM)/2, pu.BaselineYMM-pu.HeightMM)
+			best := 0.0
+			for dy := -1; dy <= 1; dy++ {
+				for dx := -1; dx <= 1; dx++ {
+					best = math.Max(best, darkness(p.Image, int(math.Round(u))+dx, int(math.Round(v))+dy))
+				}
+			}
+			if best < 60 {
+				t.Errorf("%s: pulse %d top at (%.1f, %.1f) px not dark (%.0f)", name, pu.Row, u, v, best)
+			}
 		}
 	}
 	if _, err := ConditionOptions("mud", 1); err == nil {
