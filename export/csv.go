@@ -35,7 +35,10 @@ func CSVLeads(rec *ecg.Record) []ecg.Lead {
 // in seconds with 6 decimals and values in mV with 4 decimals. A lead not
 // recorded at a moment, or not recorded at all, gives an empty cell.
 func WriteCSV(w io.Writer, rec ecg.Record) error {
-	g := frames.Align(&rec, CSVLeads(&rec), 500)
+	g, err := frames.Align(&rec, CSVLeads(&rec), 500)
+	if err != nil {
+		return fmt.Errorf("export: csv: %w", err)
+	}
 	bw := bufio.NewWriterSize(w, 1<<16)
 	bw.WriteString("time_s")
 	for _, l := range g.Leads {

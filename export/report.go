@@ -117,23 +117,27 @@ func NewReport(rec ecg.Record) *Report {
 		Caution:  Caution,
 	}
 	start, end := rec.Span()
-	r.DurationS = end - start
+	r.DurationS = finite(end - start)
 	for _, s := range rec.Signals {
-		r.SampleHz = math.Max(r.SampleHz, s.SampleRate)
+		if s.SampleRate > 0 && !math.IsInf(s.SampleRate, 0) {
+			r.SampleHz = math.Max(r.SampleHz, s.SampleRate)
+		}
 		li := LeadInfo{Lead: s.Lead.String(), StartS: measure.NaN(), EndS: measure.NaN(), Quality: measure.NaN(),
-			AmplitudeMV: measure.NaN(), SampleHz: s.SampleRate, Flags: []string{}}
-		if first, last, ok := s.ValidSpan(); ok {
+			AmplitudeMV: measure.NaN(), SampleHz: finite(s.SampleRate), Flags: []string{}}
+		if first, last, ok := s.ValidSpan(); ok && s.SampleRate > 0 && !math.IsInf(s.SampleRate, 0) && !math.IsNaN(s.Start) && !math.IsInf(s.Start, 0) {
 			li.StartS, li.EndS = measure.Num(s.Time(first)), measure.Num(s.Time(last)+1/s.SampleRate)
 			lo, hi := math.Inf(1), math.Inf(-1)
 			n := 0
 			for _, v := range s.Samples[first : last+1] {
-				if !math.IsNaN(v) {
+				if !math.IsNaN(v) && !math.IsInf(v, 0) {
 					lo, hi = math.Min(lo, v), math.Max(hi, v)
 					n++
 				}
 			}
 			li.CoveredS = float64(n) / s.SampleRate
-			li.AmplitudeMV = measure.Num(hi - lo)
+			if n > 0 {
+				li.AmplitudeMV = measure.Num(hi - lo)
+			}
 		}
 		r.Leads = append(r.Leads, li)
 	}
@@ -151,6 +155,14 @@ func NewReport(rec ecg.Record) *Report {
 		}
 	}
 	return r
+}
+
+// finite returns v, or 0 when v is NaN or infinite (JSON has neither).
+func finite(v float64) float64 {
+	if math.IsNaN(v) || math.IsInf(v, 0) {
+		return 0
+	}
+	return v
 }
 
 // Lead returns the report's entry for a lead name, or nil.

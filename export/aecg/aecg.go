@@ -163,7 +163,10 @@ func Write(w io.Writer, rec ecg.Record, opt *Options) error {
 	if start.IsZero() {
 		start = time.Date(2000, 1, 1, 0, 0, 0, 0, time.UTC)
 	}
-	g := frames.Align(&rec, nil, 500)
+	g, err := frames.Align(&rec, nil, 500)
+	if err != nil {
+		return fmt.Errorf("aecg: %w", err)
+	}
 	ws := windows(&g)
 	if len(ws) == 0 {
 		return fmt.Errorf("aecg: record has no recorded samples: %w", ecg.ErrOutput)

@@ -118,7 +118,10 @@ func Write(w io.Writer, rec ecg.Record, opt *Options) error {
 	if opt != nil {
 		o = *opt
 	}
-	g := frames.Align(&rec, o.Leads, 500)
+	g, err := frames.Align(&rec, o.Leads, 500)
+	if err != nil {
+		return fmt.Errorf("edf: %w", err)
+	}
 	if len(g.Leads) == 0 || g.N == 0 {
 		return fmt.Errorf("edf: record has no samples: %w", ecg.ErrOutput)
 	}

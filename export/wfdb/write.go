@@ -98,7 +98,10 @@ func WriteRecord(dir, name string, rec ecg.Record, opt *WriteOptions) (*Header, 
 	if !recordName.MatchString(name) {
 		return nil, fmt.Errorf("wfdb: write: record name %q must hold only letters, digits and '_': %w", name, ecg.ErrOutput)
 	}
-	g := frames.Align(&rec, o.Leads, 500)
+	g, err := frames.Align(&rec, o.Leads, 500)
+	if err != nil {
+		return nil, fmt.Errorf("wfdb: write %s: %w", name, err)
+	}
 	if len(g.Leads) == 0 {
 		return nil, fmt.Errorf("wfdb: write %s: record has no signals: %w", name, ecg.ErrOutput)
 	}
@@ -144,7 +147,7 @@ func WriteRecord(dir, name string, rec ecg.Record, opt *WriteOptions) (*Header, 
 		dig[j] = d
 		h.Signals = append(h.Signals, s)
 	}
-	err := atomicfile.WriteAll(
+	err = atomicfile.WriteAll(
 		atomicfile.Part{Path: filepath.Join(dir, name+".dat"), Write: func(w io.Writer) error { return EncodeSignals(w, o.Format, dig) }},
 		atomicfile.Part{Path: filepath.Join(dir, name+".hea"), Write: func(w io.Writer) error { return EncodeHeader(w, h) }},
 	)

@@ -4,6 +4,7 @@
 package frames
 
 import (
+	"fmt"
 	"math"
 
 	"tracelift/ecg"
@@ -21,35 +22,53 @@ type Grid struct {
 // Time returns the time of row k in seconds.
 func (g *Grid) Time(k int) float64 { return g.T0 + float64(k)/g.Fs }
 
+// MaxCells bounds rows × leads of a grid (2^28 values, 2 GiB).
+const MaxCells = 1 << 28
+
+// usable reports whether a signal can be placed on a grid.
+func usable(s *ecg.Signal) bool {
+	return len(s.Samples) > 0 && s.SampleRate > 0 && !math.IsInf(s.SampleRate, 0) &&
+		!math.IsNaN(s.Start) && !math.IsInf(s.Start, 0)
+}
+
 // Align lays rec out on one grid at the highest sample rate found, with
 // columns in the order given by leads (nil: the record's own order).
 // Signals at that rate whose start falls on the grid are copied exactly;
 // others are resampled with ecg.ResampleOnGrid. Leads absent from the
-// record give all-NaN columns. A record without signals gives N = 0 and
-// Fs = fallbackFs.
-func Align(rec *ecg.Record, leads []ecg.Lead, fallbackFs float64) Grid {
+// record, and signals without samples or with a non-finite or
+// non-positive rate or start, give all-NaN columns; infinite samples
+// become NaN (not recorded). A record with nothing usable gives N = 0
+// and Fs = fallbackFs. A grid of more than MaxCells values is an error
+// wrapping ecg.ErrOutput.
+func Align(rec *ecg.Record, leads []ecg.Lead, fallbackFs float64) (Grid, error) {
 	if leads == nil {
 		leads = rec.Leads()
 	}
-	g := Grid{Leads: leads}
+	g := Grid{Leads: leads, Cols: make([][]float64, len(leads))}
+	start, end := math.Inf(1), math.Inf(-1)
 	for i := range rec.Signals {
-		g.Fs = math.Max(g.Fs, rec.Signals[i].SampleRate)
+		s := &rec.Signals[i]
+		if !usable(s) {
+			continue
+		}
+		g.Fs = math.Max(g.Fs, s.SampleRate)
+		start = math.Min(start, s.Start)
+		end = math.Max(end, s.End())
 	}
 	if !(g.Fs > 0) {
 		g.Fs = fallbackFs
-	}
-	start, end := rec.Span()
-	if len(rec.Signals) == 0 || !(g.Fs > 0) {
-		g.Cols = make([][]float64, len(leads))
 		for j := range g.Cols {
 			g.Cols[j] = []float64{}
 		}
-		return g
+		return g, nil
 	}
 	k0 := math.Floor(start*g.Fs + 1e-6)
 	g.T0 = k0 / g.Fs
-	g.N = max(0, int(math.Ceil(end*g.Fs-1e-6)-k0))
-	g.Cols = make([][]float64, len(leads))
+	rows := math.Ceil(end*g.Fs-1e-6) - k0
+	if rows*float64(max(1, len(leads))) > MaxCells || math.IsNaN(rows) {
+		return g, fmt.Errorf("record spans %g s at %g Hz: too many samples to write: %w", end-start, g.Fs, ecg.ErrOutput)
+	}
+	g.N = max(0, int(rows))
 	for j, l := range leads {
 		col := make([]float64, g.N)
 		for k := range col {
@@ -57,7 +76,7 @@ func Align(rec *ecg.Record, leads []ecg.Lead, fallbackFs float64) Grid {
 		}
 		g.Cols[j] = col
 		s := rec.Signal(l)
-		if s == nil || len(s.Samples) == 0 || !(s.SampleRate > 0) {
+		if s == nil || !usable(s) {
 			continue
 		}
 		src := *s
@@ -68,10 +87,10 @@ func Align(rec *ecg.Record, leads []ecg.Lead, fallbackFs float64) Grid {
 		}
 		o := int(math.Round(off))
 		for k, v := range src.Samples {
-			if r := o + k; r >= 0 && r < g.N {
+			if r := o + k; r >= 0 && r < g.N && !math.IsInf(v, 0) {
 				col[r] = v
 			}
 		}
 	}
-	return g
+	return g, nil
 }

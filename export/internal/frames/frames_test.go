@@ -11,7 +11,7 @@ func TestAlignMixedStartsAndRates(t *testing.T) {
 	rec := ecg.Record{}
 	rec.Set(ecg.Signal{Lead: ecg.LeadI, SampleRate: 500, Start: 0, Samples: []float64{1, 2, 3, 4, 5, 6}})
 	rec.Set(ecg.Signal{Lead: ecg.LeadV1, SampleRate: 500, Start: 0.004, Samples: []float64{7, 8}})
-	g := Align(&rec, []ecg.Lead{ecg.LeadI, ecg.LeadII, ecg.LeadV1}, 500)
+	g, _ := Align(&rec, []ecg.Lead{ecg.LeadI, ecg.LeadII, ecg.LeadV1}, 500)
 	if g.Fs != 500 || g.N != 6 || g.T0 != 0 {
 		t.Fatalf("grid %g Hz, %d rows, t0 %g", g.Fs, g.N, g.T0)
 	}
@@ -38,7 +38,7 @@ func TestAlignResamplesSlowerLead(t *testing.T) {
 	}
 	rec.Set(ecg.Signal{Lead: ecg.LeadI, SampleRate: 500, Samples: a})
 	rec.Set(ecg.Signal{Lead: ecg.LeadII, SampleRate: 250, Samples: b})
-	g := Align(&rec, nil, 0)
+	g, _ := Align(&rec, nil, 0)
 	if g.Fs != 500 || g.N != n {
 		t.Fatalf("grid %g Hz %d rows", g.Fs, g.N)
 	}
