@@ -312,3 +312,53 @@ func TestBiosigReadsFormat212(t *testing.T) {
 	}
 	t.Logf("biosig agreed on %d samples", checked)
 }
+
+// biosig reads our .atr file as the events of the record: same count,
+// same types (1 normal, 5 PVC, 8 APC) and positions; the data README
+// documents that biosig puts every WFDB annotation one sample early
+// (POS·fs = sample − 1), which we allow for.
+func TestBiosigReadsAnnotations(t *testing.T) {
+	bin, err := exec.LookPath("save2gdf")
+	if err != nil {
+		t.Skip("save2gdf (Debian biosig-tools) not on PATH")
+	}
+	rec := testRecord(5, 10)
+	rec.Beats = nil
+	classes := []ecg.BeatClass{ecg.BeatNormal, ecg.BeatVentricular, ecg.BeatAtrial, ecg.BeatNormal, ecg.BeatUnknown}
+	for i, c := range classes {
+		rec.Beats = append(rec.Beats, ecg.NewBeat(c, 0.8+1.7*float64(i)))
+	}
+	dir := t.TempDir()
+	h, err := WriteRecord(dir, "ann", rec, &WriteOptions{Format: 212})
+	if err != nil {
+		t.Fatal(err)
+	}
+	anns := BeatAnnotations(rec.Beats, h.Fs, 0)
+	if err := WriteAnnotationsFile(filepath.Join(dir, "ann.atr"), anns); err != nil {
+		t.Fatal(err)
+	}
+	cmd := exec.Command(bin, "-JSON", "ann.hea")
+	cmd.Dir = dir
+	out, err := cmd.Output()
+	if err != nil {
+		t.Fatalf("save2gdf: %v", err)
+	}
+	var doc struct {
+		EVENT []struct {
+			TYP string
+			POS float64
+		}
+	}
+	if err := json.Unmarshal(out[bytes.IndexByte(out, '{'):], &doc); err != nil {
+		t.Fatal(err)
+	}
+	if len(doc.EVENT) != len(anns) {
+		t.Fatalf("biosig found %d events, want %d", len(doc.EVENT), len(anns))
+	}
+	for i, e := range doc.EVENT {
+		typ, _ := strconv.ParseInt(strings.TrimPrefix(e.TYP, "0x"), 16, 32)
+		if int(typ) != anns[i].Code || math.Abs(e.POS*h.Fs-float64(anns[i].Sample-1)) > 1e-6 {
+			t.Errorf("event %d: type %s at %g s, want code %d at sample %d (−1)", i, e.TYP, e.POS, anns[i].Code, anns[i].Sample)
+		}
+	}
+}
