@@ -60,10 +60,17 @@
 //
 // # Drawing
 //
-// Traces are stroked polylines filled with the anti-aliasing scan-line
-// rasteriser of golang.org/x/image/vector (exact signed-area coverage):
-// one quadrilateral per segment plus a round join (a 16-gon) at each
-// vertex, all wound the same way so overlaps add instead of cancelling.
+// Traces are stroked polylines with round caps and joins: the set of
+// points within half the trace width of the polyline. Each pixel's ink
+// coverage is estimated from the distance d of its centre to the nearest
+// segment as clamp(w/2 + 0.5 − d, 0, 1) — exact box-filter coverage for an
+// axis-aligned edge and close to it for others; the usual distance-based
+// anti-aliasing (common practice in font and vector rendering) — and is a
+// true union over segments, so
+// dense samples on steep QRS slopes do not print bolder than the stroke
+// (summing per-segment polygon coverage, as a scan-line rasteriser does
+// with overlapping sub-paths, would).
+//
 // Grid lines are axis-aligned and drawn with analytic box-filter coverage.
 // Text uses the Go fonts (golang.org/x/image/font/gofont) through
 // opentype and font.Drawer. PDF output (WritePDF) draws the same plan
