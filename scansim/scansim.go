@@ -258,9 +258,12 @@ func homography(w, h int, opt Options, rng *rand.Rand) ([9]float64, int, int) {
 	phi := 2 * math.Pi * rng.Float64()
 	if opt.Perspective > 0 {
 		// The denominator 1 + g·p changes by ±Perspective between the
-		// centre and the page edge along the tilt direction.
-		rx, ry := float64(w)*opt.ScaleX/2, float64(h)*opt.ScaleY/2
-		r := math.Hypot(rx*math.Cos(phi), ry*math.Sin(phi))
+		// centre and the farthest page corner along the tilt direction.
+		r := 0.0
+		for _, c := range [4][2]float64{{0, 0}, {float64(w), 0}, {0, float64(h)}, {float64(w), float64(h)}} {
+			x, y := Map(m, c[0], c[1])
+			r = max(r, x*math.Cos(phi)+y*math.Sin(phi))
+		}
 		gx, gy := opt.Perspective*math.Cos(phi)/r, opt.Perspective*math.Sin(phi)/r
 		m = mul3([9]float64{1, 0, 0, 0, 1, 0, gx, gy, 1}, m)
 	}

@@ -111,6 +111,18 @@ func TestHomographyMapsPoints(t *testing.T) {
 		if worst > 1 {
 			t.Errorf("%+v: dot %.2f px from H's prediction", o, worst)
 		}
+		// Perspective: the projective denominator spans exactly
+		// 1 ± Perspective over the page corners.
+		if o.Perspective > 0 {
+			lo, hi := math.Inf(1), math.Inf(-1)
+			for _, c := range [4][2]float64{{0, 0}, {float64(w), 0}, {0, float64(h)}, {float64(w), float64(h)}} {
+				d := (H[6]*c[0] + H[7]*c[1] + H[8]) / (H[6]*float64(w)/2 + H[7]*float64(h)/2 + H[8])
+				lo, hi = min(lo, d), max(hi, d)
+			}
+			if math.Abs(hi-1-o.Perspective) > 1e-9 || lo < 1-o.Perspective-1e-9 {
+				t.Errorf("%+v: denominator spans %.4f–%.4f", o, lo, hi)
+			}
+		}
 		// The whole page stays on the canvas.
 		ob := out.Bounds()
 		for _, c := range [4][2]float64{{0, 0}, {float64(w), 0}, {0, float64(h)}, {float64(w), float64(h)}} {
