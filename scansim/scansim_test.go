@@ -5,6 +5,7 @@ import (
 	"image"
 	"image/color"
 	"math"
+	"math/rand/v2"
 	"testing"
 )
 
@@ -464,6 +465,32 @@ func TestBlurSigma(t *testing.T) {
 			if math.Abs(vx-want) > 0.05*want || math.Abs(vy-want) > 0.05*want {
 				t.Errorf("σ %g grey %v: variances %.3f (x) and %.3f (y), want %.3f", sigma, grey, vx, vy, want)
 			}
+		}
+	}
+}
+
+// Random valid options on small and degenerate pages never panic and
+// always return an image that holds the mapped page centre.
+func TestRandomOptionsRobust(t *testing.T) {
+	rng := rand.New(rand.NewPCG(5, 5))
+	u := func(a, b float64) float64 { return a + (b-a)*rng.Float64() }
+	for i := range 150 {
+		w, h := 1+rng.IntN(60), 1+rng.IntN(40)
+		o := Options{
+			RotationDeg: u(-45, 45), ScaleX: u(0.05, 4), ScaleY: u(0.05, 4),
+			Perspective: u(0, 0.49) * float64(rng.IntN(2)), LensK1: u(-0.3, 0.3) * float64(rng.IntN(2)),
+			Lighting: u(0, 1), BlurPx: u(0, 5), NoiseSD: u(0, 50), JPEGQuality: rng.IntN(101),
+			Grayscale: rng.IntN(2) == 0, Binarize: rng.IntN(4) == 0, PenMarks: rng.IntN(4),
+			PaperTint: color.RGBA{uint8(rng.IntN(256)), 200, 100, 255}, Seed: rng.Uint64(),
+		}
+		out, H, err := Apply(dotPage(w, h, nil), o)
+		if err != nil {
+			t.Fatalf("case %d %dx%d %+v: %v", i, w, h, o, err)
+		}
+		x, y := Map(H, float64(w)/2, float64(h)/2)
+		b := out.Bounds()
+		if b.Empty() || x < 0 || y < 0 || x > float64(b.Dx()) || y > float64(b.Dy()) {
+			t.Errorf("case %d: centre maps to (%.1f, %.1f) on a %v canvas", i, x, y, b)
 		}
 	}
 }

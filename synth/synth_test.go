@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"math/rand/v2"
 	"testing"
 
 	"tracelift/ecg"
@@ -583,5 +584,61 @@ func TestFiducialsIrregular(t *testing.T) {
 	}
 	if checked < 20 {
 		t.Errorf("only %d beats checked", checked)
+	}
+}
+
+// Random parameters across the accepted ranges either generate a
+// well-formed record or return ErrParams; never a panic. Beats come in
+// time order with fiducials in physiological order.
+func TestRandomParamsRobust(t *testing.T) {
+	rng := rand.New(rand.NewPCG(9, 9))
+	u := func(a, b float64) float64 { return a + (b-a)*rng.Float64() }
+	ok := 0
+	for i := range 60 {
+		p := Params{
+			DurationS: u(0.5, 12), SampleRate: u(50, 1000), HeartRateBPM: u(20, 220),
+			HRVStdMS: u(0, 60), PRMS: u(0, 300), QRSMS: u(0, 200), QTMS: u(0, 600) * float64(rng.IntN(2)),
+			AxisDeg: u(-180, 180), AmplitudeScale: u(0.1, 5), EctopicRate: u(0, 0.3),
+			BaselineWanderMV: u(0, 1), NoiseMV: u(0, 0.1), PowerlineMV: u(0, 0.1), PowerlineHz: 50,
+		}
+		rec, err := Generate(p, uint64(i))
+		if err != nil {
+			if !errors.Is(err, ErrParams) {
+				t.Fatalf("case %d: %v is not ErrParams", i, err)
+			}
+			continue
+		}
+		ok++
+		n := int(math.Round(p.DurationS * p.SampleRate))
+		for _, s := range rec.Signals {
+			if len(s.Samples) != n {
+				t.Fatalf("case %d: %v has %d samples, want %d", i, s.Lead, len(s.Samples), n)
+			}
+			for _, v := range s.Samples {
+				if math.IsNaN(v) || math.IsInf(v, 0) {
+					t.Fatalf("case %d: %v has non-finite samples", i, s.Lead)
+				}
+			}
+		}
+		for k, b := range rec.Beats {
+			if k > 0 && b.R <= rec.Beats[k-1].R {
+				t.Errorf("case %d: beats out of order", i)
+			}
+			seq := []float64{b.POn, b.PPeak, b.POff, b.QRSOn, b.R, b.QRSOff, b.TPeak, b.TEnd}
+			last := math.Inf(-1)
+			for _, v := range seq {
+				if math.IsNaN(v) {
+					continue
+				}
+				if v < last {
+					t.Errorf("case %d beat %d (%c): fiducials out of order %v", i, k, b.Class, seq)
+					break
+				}
+				last = v
+			}
+		}
+	}
+	if ok < 20 {
+		t.Errorf("only %d of 60 random parameter sets were accepted", ok)
 	}
 }
