@@ -325,6 +325,15 @@ func TestRhythmLayout(t *testing.T) {
 			t.Errorf("row %d: %+v", i, pn)
 		}
 	}
+	// Beats past the printed rows are left out of the truth.
+	rec.Beats = []ecg.Beat{ecg.NewBeat(ecg.BeatNormal, 5), ecg.NewBeat(ecg.BeatNormal, 94)}
+	p2, err := Render(rec, &Options{Layout: LayoutRhythm, RhythmLead: ecg.LeadV5, DPI: 50})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(p2.Truth.Beats) != 1 || p2.Truth.Beats[0].R != 5 {
+		t.Errorf("truth beats %+v, want only the printed one at 5 s", p2.Truth.Beats)
+	}
 	// The truth's signals cover the printed rows, not the whole record.
 	last := tr.Panels[len(tr.Panels)-1]
 	for _, sg := range tr.Signals {

@@ -43,10 +43,10 @@ type Truth struct {
 	PaperHeightMM float64       `json:"paper_height_mm"`
 	Layout        string        `json:"layout"`
 	Grid          TruthGrid     `json:"grid"`
-	Panels        []TruthPanel  `json:"panels"`  // one per printed lead segment
-	Pulses        []TruthPulse  `json:"pulses"`  // one per row
-	Signals       []TruthSignal `json:"signals"` // the record that was printed, over the printed time span
-	Beats         []TruthBeat   `json:"beats,omitempty"`
+	Panels        []TruthPanel  `json:"panels"`          // one per printed lead segment
+	Pulses        []TruthPulse  `json:"pulses"`          // one per row
+	Signals       []TruthSignal `json:"signals"`         // the record that was printed, over the printed time span
+	Beats         []TruthBeat   `json:"beats,omitempty"` // the record's beats whose R lies on the printed span
 	// TraceWidthMM is the stroke width of the traces.
 	TraceWidthMM float64 `json:"trace_width_mm"`
 	// GridRectMM is the gridded area [x0, y0, x1, y1] in mm.
@@ -329,6 +329,9 @@ func buildTruth(rec *ecg.Record, sh *sheet) Truth {
 			StartS: sg.Start + float64(i0)/sg.SampleRate, SamplesMV: append(Samples(nil), sg.Samples[i0:i1]...)})
 	}
 	for _, b := range rec.Beats {
+		if b.R < lo || b.R > hi {
+			continue // only beats on the printed span
+		}
 		cls := ""
 		if b.Class != 0 {
 			cls = string(rune(b.Class))
