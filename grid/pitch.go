@@ -55,8 +55,11 @@ func measureAxis(g *image.Gray, alongX bool) (axisFit, bool) {
 	}
 	// Sub-pixel line centres near the lattice, fitted against their index.
 	centres, weights := lineCentres(hp, period)
-	pitch, phase, ok := fitLattice(centres, weights, period)
-	if !ok {
+	pitch, phase, span, ok := fitLattice(centres, weights, period)
+	// A grid fills the page: at least 40 minor or 24 major periods (a
+	// cropped page still shows 40 mm); QRS complexes lining up across rows
+	// at the heart rate span far fewer.
+	if !ok || (resolved && span < 40) || (!resolved && span < 24) {
 		return axisFit{}, false
 	}
 	fit := axisFit{minorR: resolved, period: period}
@@ -211,9 +214,9 @@ func lineCentres(hp []float64, period float64) (pos, wt []float64) {
 // indices come from the rough period; lines far from the fit are dropped
 // and the fit repeated. It reports failure when too few lines fit or they
 // cover too little of the axis.
-func fitLattice(pos, wt []float64, period float64) (pitch, phase float64, ok bool) {
+func fitLattice(pos, wt []float64, period float64) (pitch, phase, span float64, ok bool) {
 	if len(pos) < 8 {
-		return 0, 0, false
+		return 0, 0, 0, false
 	}
 	// Anchor on the strongest line.
 	a := 0
@@ -248,7 +251,7 @@ func fitLattice(pos, wt []float64, period float64) (pitch, phase float64, ok boo
 		}
 		d := sn*skk - sk*sk
 		if sn < 3 || d == 0 {
-			return 0, 0, false
+			return 0, 0, 0, false
 		}
 		pitch = (sn*skx - sk*sx) / d
 		phase = (sx - pitch*sk) / sn
@@ -256,9 +259,9 @@ func fitLattice(pos, wt []float64, period float64) (pitch, phase float64, ok boo
 			// Lines must cover a good part of the axis and most maxima
 			// must sit on the lattice (a random texture's maxima do not).
 			frac := sn / float64(len(pos))
-			span := (hi - lo) / pitch
+			span = (hi - lo) / pitch
 			if sn < 8 || frac < 0.6 || span < 16 {
-				return 0, 0, false
+				return 0, 0, 0, false
 			}
 			break
 		}
@@ -267,7 +270,7 @@ func fitLattice(pos, wt []float64, period float64) (pitch, phase float64, ok boo
 		}
 		radius *= 1.6
 	}
-	return pitch, phase, pitch > 0
+	return pitch, phase, span, pitch > 0
 }
 
 // majorLines returns the positions of the 5 mm lines: among the five

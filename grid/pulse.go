@@ -21,7 +21,9 @@ type stroke struct {
 func findPulses(ink *image.Gray, ppmX, ppmY float64) []Pulse {
 	w, h := ink.Rect.Dx(), ink.Rect.Dy()
 	const on = 110
-	minRun, maxRun := 8, 400
+	// Without a scale, a pulse is at least a 60th of the page's short side
+	// (a 10 mm pulse on a 210 mm page is a 21st).
+	minRun, maxRun := max(8, min(w, h)/60), max(w, h)/3
 	if ppmY > 0 {
 		minRun, maxRun = int(2.5*ppmY), int(42*ppmY)
 	}

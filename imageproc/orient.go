@@ -19,9 +19,8 @@ func orientation(ink *image.Gray) int {
 			cols[x] += float64(v)
 		}
 	}
-	cvR := bandContrast(rows, max(3, h/60))
-	cvC := bandContrast(cols, max(3, w/60))
-	score := math.Log((cvR + 1e-9) / (cvC + 1e-9))
+	// Between rows of traces lie empty rows; columns are rarely empty.
+	score := 2 * (emptyFraction(rows) - emptyFraction(cols))
 	if w >= h {
 		score += 0.15 // ECG pages are usually landscape
 	} else {
@@ -145,4 +144,57 @@ func profilePeaks(prof []float64, sep int) []int {
 		}
 	}
 	return out
+}
+
+// orientationScores exposes the two cues for tests: the log ratio of row
+// to column band contrast and the upward skew.
+func orientationScores(ink *image.Gray) (band, up float64) {
+	w, h := ink.Rect.Dx(), ink.Rect.Dy()
+	rows, cols := make([]float64, h), make([]float64, w)
+	for y := 0; y < h; y++ {
+		for x, v := range ink.Pix[y*ink.Stride : y*ink.Stride+w] {
+			rows[y] += float64(v)
+			cols[x] += float64(v)
+		}
+	}
+	return emptyFraction(rows) - emptyFraction(cols), upwardSkew(ink)
+}
+
+// emptyFraction returns the fraction of nearly empty entries of an ink
+// profile within the span holding the central 90 % of the ink.
+func emptyFraction(prof []float64) float64 {
+	total, mx := 0.0, 0.0
+	for _, v := range prof {
+		total += v
+		mx = max(mx, v)
+	}
+	if total == 0 {
+		return 0
+	}
+	lo, hi, acc := 0, len(prof)-1, 0.0
+	for i, v := range prof {
+		acc += v
+		if acc >= 0.05*total {
+			lo = i
+			break
+		}
+	}
+	acc = 0
+	for i := len(prof) - 1; i >= 0; i-- {
+		acc += prof[i]
+		if acc >= 0.05*total {
+			hi = i
+			break
+		}
+	}
+	if hi <= lo {
+		return 0
+	}
+	n := 0
+	for _, v := range prof[lo : hi+1] {
+		if v < 0.02*mx {
+			n++
+		}
+	}
+	return float64(n) / float64(hi-lo+1)
 }

@@ -89,12 +89,16 @@ func Prepare(img image.Image, opt *Options) (*Page, error) {
 	work := downscale(src, f)
 	bgw := estimateBackground(work, blockSize(work), 1)
 	workN := normalise(work, bgw)
-	sep := analyseColour(workN)
+	mblock := blockSize(work)
+	mask := paperMask(bgw)
+	sep := analyseColour(workN, mask, mblock)
 	wGray, wInk, wGrid := sep.maps(work, bgw)
 	lineMap := wGrid
 	if !sep.colour {
 		lineMap = invert(wGray)
 	}
+	// Photos: only the sheet counts (not the table or the sheet's edge).
+	applyMask(mask, mblock, lineMap, wInk)
 	if blank(wGray, 0.0005) {
 		return nil, ErrBlank
 	}
@@ -166,6 +170,11 @@ func Prepare(img image.Image, opt *Options) (*Page, error) {
 	uw := downscale(p.Color, f)
 	bg := estimateBackground(uw, blockSize(uw), float64(f))
 	p.Gray, p.Ink, p.Grid = sep.maps(p.Color, bg)
+	if m := paperMask(bg); m != nil {
+		// A photo: blank out the table around the sheet.
+		ub := blockSize(uw)
+		applyMask(m, ub*f, p.Ink, p.Grid)
+	}
 	if !sep.colour {
 		structureSplit(p.Gray, p.Ink, p.Grid)
 		if !hasLines(p.Grid) {

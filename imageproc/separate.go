@@ -31,8 +31,9 @@ type separator struct {
 
 // analyseColour finds the grid's colour family on a background-normalised
 // page: hue histogram of chromatic, not-too-dark pixels.
-func analyseColour(m *image.NRGBA) *separator {
+func analyseColour(m *image.NRGBA, mask []bool, block int) *separator {
 	w, h := m.Rect.Dx(), m.Rect.Dy()
+	nbx := (w + block - 1) / block
 	const bins = 36
 	var hist [bins]float64
 	var sum [bins][3]float64
@@ -40,6 +41,9 @@ func analyseColour(m *image.NRGBA) *separator {
 	for y := 0; y < h; y++ {
 		row := m.Pix[y*m.Stride : y*m.Stride+4*w]
 		for i := 0; i < len(row); i += 4 {
+			if mask != nil && !mask[(y/block)*nbx+i/4/block] {
+				continue
+			}
 			r, g, b := float64(row[i]), float64(row[i+1]), float64(row[i+2])
 			total++
 			mx, mn := max(r, g, b), min(r, g, b)
@@ -69,6 +73,11 @@ func analyseColour(m *image.NRGBA) *separator {
 	if best < 0.5*float64(chrom) {
 		return s // many hues: a photo of something, or colour labels only
 	}
+	// A printed grid covers the whole sheet: its colour must appear in
+	// most blocks, not only along an edge, a shadow or a header.
+	if !spread(m, mask, block, bk, bins) {
+		return s
+	}
 	var c [3]float64
 	n := 0.0
 	for _, k := range []int{(bk + bins - 1) % bins, bk, (bk + 1) % bins} {
@@ -81,6 +90,7 @@ func analyseColour(m *image.NRGBA) *separator {
 		c[j] /= n
 	}
 	hdeg := hue(c[0], c[1], c[2])
+
 	switch {
 	case hdeg >= 330 || hdeg < 18:
 		if min(c[0], c[1], c[2]) < 120 {
@@ -363,4 +373,37 @@ func unflagDark(line []bool, level []float64) {
 			line[i] = false
 		}
 	}
+}
+
+// spread reports whether chromatic pixels of hue bin bk (±1) occur in at
+// least half of the (paper) blocks.
+func spread(m *image.NRGBA, mask []bool, block, bk, bins int) bool {
+	w, h := m.Rect.Dx(), m.Rect.Dy()
+	nbx, nby := (w+block-1)/block, (h+block-1)/block
+	cnt := make([]int, nbx*nby)
+	for y := 0; y < h; y++ {
+		row := m.Pix[y*m.Stride : y*m.Stride+4*w]
+		for x := 0; x < w; x++ {
+			r, g, b := float64(row[4*x]), float64(row[4*x+1]), float64(row[4*x+2])
+			mx, mn := max(r, g, b), min(r, g, b)
+			if mx-mn < 28 || mx < 70 {
+				continue
+			}
+			k := int(hue(r, g, b)/360*float64(bins)) % bins
+			if d := (k - bk + bins) % bins; d <= 1 || d == bins-1 {
+				cnt[(y/block)*nbx+x/block]++
+			}
+		}
+	}
+	paper, with := 0, 0
+	for i, c := range cnt {
+		if mask != nil && !mask[i] {
+			continue
+		}
+		paper++
+		if c >= 3 {
+			with++
+		}
+	}
+	return paper > 0 && 2*with >= paper
 }
