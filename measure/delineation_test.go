@@ -311,4 +311,3 @@ func cutRecord(rec ecg.Record, from, to float64) ecg.Record {
 	}
 	return out
 }
-

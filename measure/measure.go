@@ -1,6 +1,7 @@
 package measure
 
 import (
+	"cmp"
 	"fmt"
 	"math"
 	"slices"
@@ -40,6 +41,7 @@ func Measure(rec ecg.Record, opt *Options) (*Report, error) {
 	rep := &Report{Caution: Caution, QTcMS: map[string]float64{}, Flags: []Flag{}, Warnings: []string{}, Leads: []LeadMeasures{}}
 	fs := f.fs
 	ms := func(samples float64) float64 { return samples / fs * 1000 }
+	rep.BeatCount = len(idx)
 
 	// Rhythm.
 	var rr, nn []float64
@@ -344,13 +346,28 @@ func combineLeads(ws []waves, fs float64, p *delinParams) waves {
 			tmax = math.Max(tmax, math.Abs(w.tAmp)/w.qrsPP)
 		}
 	}
-	g.tEnd = pick(func(w waves) float64 {
-		if w.qrsPP > 0 && math.Abs(w.tAmp)/w.qrsPP < p.tKeep*tmax {
-			return math.NaN()
+	// The latest T end must be confirmed by a second lead within 80 ms;
+	// when the two latest disagree by more, the one whose T wave is
+	// smaller relative to its QRS is dropped (typically a U wave merged
+	// into a low T in one lead), and the next pair is tried.
+	type tend struct{ at, rel float64 }
+	var tends []tend
+	for _, w := range ws {
+		if w.ok && !math.IsNaN(w.tEnd) && w.qrsPP > 0 && math.Abs(w.tAmp)/w.qrsPP >= p.tKeep*tmax {
+			tends = append(tends, tend{w.tEnd, math.Abs(w.tAmp) / w.qrsPP})
 		}
-		return w.tEnd
-	}, 0.08, false, 1, p.combFracT)
-	g.tPeak = pick(func(w waves) float64 { return w.tPeak }, 0.08, false, 1, 0.5)
+	}
+	slices.SortFunc(tends, func(a, b tend) int { return cmp.Compare(a.at, b.at) })
+	for n := len(tends); n >= 2 && tends[n-1].at-tends[n-2].at > 0.08*fs; n = len(tends) {
+		if tends[n-1].rel < tends[n-2].rel {
+			tends = tends[:n-1]
+		} else {
+			tends = append(tends[:n-2], tends[n-1])
+		}
+	}
+	if len(tends) > 0 {
+		g.tEnd = tends[len(tends)-1].at
+	}
 	pMin := max(1, (nq+2)/3)
 	g.pOn = pick(func(w waves) float64 { return w.pOn }, 0.06, true, pMin, p.combFracP)
 	g.pOff = pick(func(w waves) float64 { return w.pOff }, 0.06, false, pMin, p.combFracP)

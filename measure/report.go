@@ -99,6 +99,7 @@ type Flag struct {
 // Report is the result of Measure. Intervals are global (earliest onset
 // and latest offset over the leads, see Measure) in ms.
 type Report struct {
+	BeatCount     int                `json:"beat_count"` // beats detected
 	HeartRateBPM  Num                `json:"heart_rate_bpm"`
 	RRMS          Num                `json:"rr_ms"`
 	RRSDMS        Num                `json:"rr_sd_ms"`
@@ -173,14 +174,18 @@ func (r *Report) WriteSummary(w io.Writer) error {
 		if !v.Valid() {
 			return "—"
 		}
-		return strconv.FormatFloat(float64(v), 'f', prec, 64) + " " + unit
+		s := strconv.FormatFloat(float64(v), 'f', prec, 64)
+		if unit == "°" {
+			return s + unit
+		}
+		return s + " " + unit
 	}
-	fmt.Fprintf(tw, "Heart rate\t%s\t(%d beats)\n", f(r.HeartRateBPM, "bpm", 0), len(r.Beats))
-	fmt.Fprintf(tw, "RR\t%s\tSD %s\n", f(r.RRMS, "ms", 0), f(r.RRSDMS, "ms", 0))
-	fmt.Fprintf(tw, "P duration\t%s\t\n", f(r.PMS, "ms", 0))
-	fmt.Fprintf(tw, "PR\t%s\t\n", f(r.PRMS, "ms", 0))
-	fmt.Fprintf(tw, "QRS\t%s\t\n", f(r.QRSMS, "ms", 0))
-	fmt.Fprintf(tw, "QT\t%s\t\n", f(r.QTMS, "ms", 0))
+	pv := func(p *float64) Num {
+		if p == nil {
+			return NaN()
+		}
+		return Num(*p)
+	}
 	var q []string
 	for _, k := range qtcNames {
 		if v, ok := r.QTcMS[k]; ok {
@@ -191,15 +196,20 @@ func (r *Report) WriteSummary(w io.Writer) error {
 	if len(q) > 0 {
 		qs = strings.Join(q, ", ") + " ms"
 	}
-	fmt.Fprintf(tw, "QTc\t%s\t\n", qs)
-	fmt.Fprintf(tw, "Axes (P/QRS/T)\t%s / %s / %s\t\n", f(r.Axes.PDeg, "°", 0), f(r.Axes.QRSDeg, "°", 0), f(r.Axes.TDeg, "°", 0))
-	pv := func(p *float64) Num {
-		if p == nil {
-			return NaN()
-		}
-		return Num(*p)
+	lines := [][2]string{
+		{"Heart rate", fmt.Sprintf("%s (%d beats)", f(r.HeartRateBPM, "bpm", 0), r.BeatCount)},
+		{"RR mean / SD", f(r.RRMS, "ms", 0) + " / " + f(r.RRSDMS, "ms", 0)},
+		{"P duration", f(r.PMS, "ms", 0)},
+		{"PR", f(r.PRMS, "ms", 0)},
+		{"QRS", f(r.QRSMS, "ms", 0)},
+		{"QT", f(r.QTMS, "ms", 0)},
+		{"QTc", qs},
+		{"Axes P / QRS / T", f(r.Axes.PDeg, "°", 0) + " / " + f(r.Axes.QRSDeg, "°", 0) + " / " + f(r.Axes.TDeg, "°", 0)},
+		{"Sokolow–Lyon / Cornell", f(pv(r.SokolowLyonMV), "mV", 2) + " / " + f(pv(r.CornellMV), "mV", 2)},
 	}
-	fmt.Fprintf(tw, "Sokolow–Lyon / Cornell\t%s / %s\t\n", f(pv(r.SokolowLyonMV), "mV", 2), f(pv(r.CornellMV), "mV", 2))
+	for _, l := range lines {
+		fmt.Fprintf(tw, "%s\t%s\n", l[0], l[1])
+	}
 	if err := tw.Flush(); err != nil {
 		return err
 	}
