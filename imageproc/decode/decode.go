@@ -9,6 +9,7 @@ import (
 	"io"
 	"os"
 	"slices"
+	"strings"
 
 	"tracelift/ecg"
 )
@@ -97,38 +98,38 @@ func (e *Error) Unwrap() []error {
 }
 
 // File opens path, sniffs its format from the content and decodes all
-// selected pages. For long documents prefer Pages, which holds one decoded
-// page at a time.
+// selected pages. When some pages fail, the others are still returned
+// together with the error. For long documents prefer Pages, which holds
+// one decoded page at a time.
 func File(path string, opt *Options) ([]Page, error) {
 	var out []Page
 	err := Pages(path, opt, func(p Page) error {
 		out = append(out, p)
 		return nil
 	})
-	if err != nil {
-		return nil, err
-	}
-	return out, nil
+	return out, err
 }
 
-// Reader decodes all selected pages of the size bytes readable from r.
-// name is used in error messages only.
+// Reader decodes all selected pages of the size bytes readable from r;
+// name is used in error messages only. Like File, it returns the pages
+// that decoded along with any error.
 func Reader(r io.ReaderAt, size int64, name string, opt *Options) ([]Page, error) {
 	var out []Page
 	err := ReaderPages(r, size, name, opt, func(p Page) error {
 		out = append(out, p)
 		return nil
 	})
-	if err != nil {
-		return nil, err
-	}
-	return out, nil
+	return out, err
 }
 
 // Pages decodes the selected pages of the file at path one at a time and
-// calls fn with each, in page order (or in the order of Options.Pages).
-// Decoding stops at the first error; an error returned by fn is passed
-// back unchanged. fn may keep the Page.
+// calls fn with each, in page order (or in the order of Options.Pages), so
+// only one decoded page need be held at a time. A page that cannot be
+// decoded is skipped and reported in the returned error once the other
+// pages are done (several failures are listed on one line; errors.Is
+// matches ecg.ErrUnreadable and each Kind). A file that cannot be opened
+// at all fails before fn is called. An error returned by fn stops the
+// iteration and is passed back unchanged. fn may keep the Page.
 func Pages(path string, opt *Options, fn func(Page) error) error {
 	f, size, err := open(path)
 	if err != nil {
@@ -160,17 +161,59 @@ func ReaderPages(r io.ReaderAt, size int64, name string, opt *Options, fn func(P
 		}
 	}
 	budget := opt.maxPixels()
+	var errs pageErrors
 	for _, idx := range sel {
 		p, err := decodePage(c, name, idx, budget)
 		if err != nil {
-			return err
+			errs = append(errs, err) // one bad page does not hide the others
+			continue
 		}
 		if err := fn(p); err != nil {
 			return err
 		}
 	}
-	return nil
+	if b, ok := c.(interface{ broken() error }); ok && (opt == nil || len(opt.Pages) == 0) {
+		if err := b.broken(); err != nil {
+			errs = append(errs, err)
+		}
+	}
+	switch len(errs) {
+	case 0:
+		return nil
+	case 1:
+		return errs[0]
+	}
+	return errs
 }
+
+// pageErrors collects the failures of several pages of one file. It
+// matches ecg.ErrUnreadable (and any Kind) through its members.
+type pageErrors []error
+
+// maxListed bounds the page failures spelled out in the message.
+const maxListed = 3
+
+func (e pageErrors) Error() string {
+	var b bytes.Buffer
+	for i, err := range e {
+		if i == maxListed {
+			fmt.Fprintf(&b, "; and %d more failed pages", len(e)-maxListed)
+			break
+		}
+		msg := err.Error()
+		var de *Error
+		if i > 0 {
+			b.WriteString("; ")
+			if errors.As(err, &de) {
+				msg = strings.TrimPrefix(msg, de.Name+": ")
+			}
+		}
+		b.WriteString(msg)
+	}
+	return b.String()
+}
+
+func (e pageErrors) Unwrap() []error { return e }
 
 // Config reports the number of pages of the file at path and the width and
 // height in pixels of its first page as it will be returned (orientation

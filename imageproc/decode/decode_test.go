@@ -676,3 +676,37 @@ func TestUnsupportedVariants(t *testing.T) {
 		t.Errorf("JPEG-in-TIFF: %v", err)
 	}
 }
+
+// TestPartialFiles: a bad page does not hide the good ones, and a
+// multi-page TIFF cut short returns its complete pages plus an error
+// saying later pages are missing.
+func TestPartialFiles(t *testing.T) {
+	g := grayPattern(10, 10)
+	spec := []tiffPageSpec{
+		{w: 10, h: 10, compression: 1, photometric: 1, bits: 8, data: g.Pix},
+		{w: 10, h: 10, compression: 1, photometric: 1, bits: 8, data: g.Pix[:30]}, // strip too short
+		{w: 10, h: 10, compression: 1, photometric: 1, bits: 8, data: g.Pix},
+	}
+	b := tiffBytes(binary.LittleEndian, spec)
+	pages, err := Reader(bytes.NewReader(b), int64(len(b)), "three.tif", nil)
+	if len(pages) != 2 || pages[0].Index != 1 || pages[1].Index != 3 {
+		t.Fatalf("got %d pages", len(pages))
+	}
+	if !errors.Is(err, ecg.ErrUnreadable) || !strings.HasPrefix(err.Error(), "three.tif: page 2: ") {
+		t.Errorf("err = %v", err)
+	}
+
+	spec[1].data = g.Pix
+	full := tiffBytes(binary.LittleEndian, spec)
+	// The last IFD starts after the third page's strip; cut inside it.
+	cut := full[:len(full)-40]
+	pages, err = Reader(bytes.NewReader(cut), int64(len(cut)), "cut.tif", nil)
+	if len(pages) != 2 || !errors.Is(err, ecg.ErrUnreadable) || !strings.Contains(err.Error(), "directory chain broken after page 2") {
+		t.Errorf("cut file: %d pages, %v", len(pages), err)
+	}
+	// Several failures are listed on one line.
+	m := pageErrors{&Error{Name: "a.pdf", Page: 2, Reason: "x"}, &Error{Name: "a.pdf", Page: 5, Reason: "y"}}
+	if m.Error() != "a.pdf: page 2: x; page 5: y" || !errors.Is(m, ecg.ErrUnreadable) {
+		t.Errorf("joined: %q", m.Error())
+	}
+}

@@ -26,7 +26,12 @@ type tiffFile struct {
 	t     tiffStruct
 	first int64 // first-IFD offset as stored in the header
 	pages []tiffPage
+	chain error // set when the IFD chain breaks after some good pages
 }
+
+// broken reports a directory chain that broke after some pages: the file
+// was probably cut short, and later pages are missing.
+func (f *tiffFile) broken() error { return f.chain }
 
 // openTIFF walks the IFD chain (TIFF 6.0 section 2), keeping every
 // directory that is not a reduced-resolution copy (NewSubfileType bit 0,
@@ -51,7 +56,10 @@ func openTIFF(src source) (container, error) {
 		es, next, err := t.readIFD(off)
 		if err != nil {
 			if len(f.pages)+len(reduced) > 0 {
-				break // a broken link after good pages: keep the good pages
+				// A broken link after good pages: keep them, report the rest.
+				f.chain = &Error{Name: src.name, Reason: fmt.Sprintf(
+					"directory chain broken after page %d (file cut short?); later pages are missing", len(f.pages)), Err: err}
+				break
 			}
 			return nil, src.decodeErr(0, "tiff", err)
 		}
@@ -64,6 +72,12 @@ func openTIFF(src source) (container, error) {
 			return nil, src.fail(0, "corrupt tiff: first directory has no image size", nil)
 		}
 		p := tiffPage{off: off, w: int(min(w, 1<<30)), h: int(min(h, 1<<30)), m: t.readMeta(es)}
+		// The size that counts against the budget is the one the decoder
+		// will allocate: ask it (it parses the directory only). Malformed
+		// directories can read differently to this walk and to it.
+		if c, err := tiff.DecodeConfig(&patchedTIFF{src: src, t: t, ifd: uint32(off)}); err == nil {
+			p.w, p.h = c.Width, c.Height
+		}
 		if sub, ok := t.uint(es, tagNewSubfileType); ok && sub&1 != 0 {
 			reduced = append(reduced, p)
 		} else {
