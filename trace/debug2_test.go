@@ -25,9 +25,9 @@ func TestDebugCase(t *testing.T) {
 	}
 	drawOverlay("/tmp/tl/dbg.png", pg.Color, res)
 	printed := accuracy.PrintedRecord(&page.Truth)
-	x := printed.Signal(ecg.LeadI)
-	y := res.Record.Signal(ecg.LeadI)
-	for i := 0; i < 1250; i += 10 {
+	x := printed.Signal(ecg.LeadIII)
+	y := res.Record.Signal(ecg.LeadIII)
+	for i := 180; i < 260; i += 2 {
 		t.Logf("%d %.3f %.3f", i, x.Samples[i], y.Samples[i])
 	}
 	_ = trace.Lenient

@@ -91,6 +91,31 @@ func Extract(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse, opt *Op
 		return nil, fmt.Errorf("trace: extract: no trace rows on the page: %w", ecg.ErrNoECG)
 	}
 	alignStarts(rows, pxX)
+	if cal.GainMMPerMV.Origin == grid.FromDefault {
+		// The grid stage measured no pulse; take the gain from the pulses
+		// found here (1 mV tall by definition, standards.md §1.1).
+		var hs []float64
+		for _, r := range rows {
+			if r.pulseMM > 0 {
+				hs = append(hs, r.pulseMM)
+			}
+		}
+		if len(hs) > 0 {
+			sort.Float64s(hs)
+			g := hs[len(hs)/2]
+			for _, std := range []float64{5, 10, 20} {
+				// Printed gains are 5, 10 or 20 mm/mV (standards.md §1.1);
+				// the pen's thickness blurs the measured height by a few %.
+				if math.Abs(g-std) <= 0.08*std {
+					g = std
+				}
+			}
+			if math.Abs(g-cal.GainMMPerMV.V) > 0.1*cal.GainMMPerMV.V {
+				res.Warnings = append(res.Warnings, fmt.Sprintf("gain %.3g mm/mV taken from the calibration pulses (was the default %.3g)", g, cal.GainMMPerMV.V))
+			}
+			cal.GainMMPerMV = grid.Value{V: g, Origin: grid.FromPulse}
+		}
+	}
 	for i := range rows {
 		up, down := bandAround(rows, i, cal.PxPerMMY.V)
 		findTicks(ink, &rows[i], cal, up, down)

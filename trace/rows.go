@@ -15,6 +15,7 @@ type rowInfo struct {
 	x0, x1   int     // horizontal extent of the row's ink, px
 	traceX0  float64 // left edge of the trace (after the calibration pulse), px
 	hasPulse bool
+	pulseMM  float64 // height of a pulse found here by findPulse, mm (0 if none or from grid)
 	score    float64   // coverage of the row's extent by ink near the baseline, 0..1
 	ticks    []float64 // x of tall isolated strokes (column separators), px
 }
@@ -163,6 +164,35 @@ func findRows(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse) []rowI
 			r.traceX0 = float64(r.x0)
 		}
 	}
+	// When most rows start with a calibration pulse, rows without one are
+	// header or footer text, or stray marks.
+	np := 0
+	for _, r := range rows {
+		if r.hasPulse {
+			np++
+		}
+	}
+	if np >= 2 && 2*np >= len(rows) {
+		// Keep rows without a pulse (one may be crossed by tall complexes)
+		// when they span the same stretch of paper as the pulse rows.
+		var x0s, x1s []float64
+		for _, r := range rows {
+			if r.hasPulse {
+				x0s = append(x0s, r.traceX0)
+				x1s = append(x1s, float64(r.x1))
+			}
+		}
+		sort.Float64s(x0s)
+		sort.Float64s(x1s)
+		refX0, refX1 := x0s[len(x0s)/2], x1s[len(x1s)/2]
+		out := rows[:0]
+		for _, r := range rows {
+			if r.hasPulse || math.Abs(float64(r.x1)-refX1) <= 5*pxX && float64(r.x0) < refX0+5*pxX && float64(r.x0) > refX0-25*pxX {
+				out = append(out, r)
+			}
+		}
+		rows = out
+	}
 	return rows
 }
 
@@ -186,58 +216,61 @@ func attachPulse(r *rowInfo, pulses []grid.Pulse, pxX, pxY float64) {
 	}
 }
 
-// findPulse looks for a 1 mV calibration pulse at the left end of the row:
-// a tall stroke rising from the baseline by about the gain's height, a flat
-// top, and a fall back to the baseline within 12 mm.
+// findPulse looks for a rectangular calibration pulse at the left end of
+// the row: a stroke rising from the baseline by 3–45 mm, a flat top 3–12
+// mm long and a fall back to the same foot, rising between 14 mm before
+// and 6 mm after the row's first ink. Its height is recorded (pulseMM) so that a default gain
+// can be replaced by the printed one.
 func findPulse(ink *image.Gray, r *rowInfo, cal grid.Calibration) {
 	pxX, pxY := cal.PxPerMMX.V, cal.PxPerMMY.V
-	want := cal.GainMMPerMV.V * pxY // pulse height, px
-	if !(want > 2) {
-		return
-	}
-	band := image.Rect(r.x0, int(r.baseY-want*1.5), min(ink.Rect.Max.X, r.x0+int(14*pxX)), int(r.baseY+want*0.5)).Intersect(ink.Rect)
+	// A pulse taller than the row's ink band is cut off from the row's
+	// stretch by its width, so the search starts 14 mm left of it.
+	band := image.Rect(r.x0-int(14*pxX), int(r.baseY-45*pxY), min(ink.Rect.Max.X, r.x0+int(22*pxX)), int(r.baseY+3*pxY)).Intersect(ink.Rect)
 	if band.Empty() {
 		return
 	}
 	var cr columnRuns
 	cr.scan(ink, band)
-	tall := func(c int) (foot float64, ok bool) {
+	// tall reports a run of column c standing on the baseline, at least
+	// 3 mm tall (or within 20 % of want px when want > 0).
+	tall := func(c int, want float64) (top, bot float64, ok bool) {
 		for _, ru := range cr.col(c) {
 			h := float64(ru.bot - ru.top + 1)
-			if h >= 0.75*want && h <= 1.35*want && math.Abs(float64(ru.bot)-r.baseY) < 0.3*want {
-				return float64(ru.bot), true
+			if math.Abs(float64(ru.bot)-r.baseY) > 2.5*pxY || h < 3*pxY {
+				continue
 			}
+			if want > 0 && math.Abs(h-want) > 0.2*want {
+				continue
+			}
+			return float64(ru.top), float64(ru.bot), true
 		}
-		return 0, false
+		return 0, 0, false
 	}
-	// The rising edge must come within 6 mm of the row's first ink.
 	rise := -1
-	var foot float64
-	for c := 0; c < min(cr.width(), int(6*pxX)); c++ {
-		if f, ok := tall(c); ok {
-			rise, foot = c, f
+	var top, foot float64
+	for c := 0; c < min(cr.width(), r.x0-cr.x0+int(6*pxX)); c++ {
+		if t, b, ok := tall(c, 0); ok {
+			rise, top, foot = c, t, b
 			break
 		}
 	}
 	if rise < 0 {
 		return
 	}
-	// The falling edge: the last tall column 3–8 mm after the rise, with
-	// a flat top between the edges.
+	want := foot - top + 1
 	fall := -1
-	for c := rise + int(3*pxX); c < min(cr.width(), rise+int(8*pxX)); c++ {
-		if _, ok := tall(c); ok {
+	for c := rise + int(3*pxX); c < min(cr.width(), rise+int(12*pxX)); c++ {
+		if _, _, ok := tall(c, want); ok {
 			fall = c
 		}
 	}
 	if fall < 0 {
 		return
 	}
-	topY := foot - want
 	flat := 0
 	for c := rise + int(pxX); c < fall-int(pxX); c++ {
 		for _, ru := range cr.col(c) {
-			if math.Abs(ru.centre()-topY) < 0.25*want && float64(ru.bot-ru.top) < 0.2*want {
+			if math.Abs(ru.centre()-top) < 1.5*pxY && float64(ru.bot-ru.top) < 1.5*pxY {
 				flat++
 				break
 			}
@@ -247,7 +280,7 @@ func findPulse(ink *image.Gray, r *rowInfo, cal grid.Calibration) {
 		return
 	}
 	for fall+1 < cr.width() {
-		if _, ok := tall(fall + 1); !ok {
+		if _, _, ok := tall(fall+1, want); !ok {
 			break
 		}
 		fall++
@@ -255,6 +288,7 @@ func findPulse(ink *image.Gray, r *rowInfo, cal grid.Calibration) {
 	pen := penWidth(&cr)
 	r.hasPulse = true
 	r.zeroY = foot - (pen-1)/2
+	r.pulseMM = (foot - top - (pen - 1)) / pxY
 	r.traceX0 = float64(cr.x0+fall) - (pen-1)/2 + pulseTailMM*pxX
 }
 

@@ -1,0 +1,178 @@
+package trace
+
+import (
+	"image"
+	"math"
+	"testing"
+
+	"tracelift/grid"
+)
+
+// stroke draws a polyline of round pen radius r (px) into m with ink 255.
+func stroke(m *image.Gray, pts []Point, r float64) {
+	for i := 0; i+1 < len(pts); i++ {
+		a, b := pts[i], pts[i+1]
+		n := int(math.Ceil(math.Hypot(b.X-a.X, b.Y-a.Y)*4)) + 1
+		for k := 0; k <= n; k++ {
+			f := float64(k) / float64(n)
+			disk(m, a.X+f*(b.X-a.X), a.Y+f*(b.Y-a.Y), r)
+		}
+	}
+}
+
+func disk(m *image.Gray, cx, cy, r float64) {
+	for y := int(cy - r - 1); y <= int(cy+r+1); y++ {
+		for x := int(cx - r - 1); x <= int(cx+r+1); x++ {
+			if (image.Point{x, y}).In(m.Rect) && math.Hypot(float64(x)-cx, float64(y)-cy) <= r {
+				m.Pix[y*m.Stride+x] = 255
+			}
+		}
+	}
+}
+
+// followMask runs the path finder over the whole mask with the baseline
+// at y = base.
+func followMask(m *image.Gray, base float64) pathResult {
+	var cr columnRuns
+	cr.scan(m, m.Rect)
+	return follow(&cr, defaultFollow(10, base))
+}
+
+// yAt returns the path's y at column x (the mean if there are two points).
+func yAt(pts []Point, x float64) (float64, bool) {
+	s, n := 0.0, 0
+	for _, p := range pts {
+		if math.Abs(p.X-x) < 0.3 {
+			s += p.Y
+			n++
+		}
+	}
+	if n == 0 {
+		return math.NaN(), false
+	}
+	return s / float64(n), true
+}
+
+func minY(pts []Point, x0, x1 float64) float64 {
+	m := math.Inf(1)
+	for _, p := range pts {
+		if p.X >= x0 && p.X <= x1 {
+			m = math.Min(m, p.Y)
+		}
+	}
+	return m
+}
+
+func maxY(pts []Point, x0, x1 float64) float64 {
+	m := math.Inf(-1)
+	for _, p := range pts {
+		if p.X >= x0 && p.X <= x1 {
+			m = math.Max(m, p.Y)
+		}
+	}
+	return m
+}
+
+func TestFollowFlatSubpixel(t *testing.T) {
+	// A flat trace whose centre line sits between pixel rows: the
+	// ink-weighted centre recovers it within a quarter pixel.
+	m := image.NewGray(image.Rect(0, 0, 200, 100))
+	for x := 0; x < 200; x++ {
+		m.Pix[49*m.Stride+x] = 128
+		m.Pix[50*m.Stride+x] = 255
+		m.Pix[51*m.Stride+x] = 255
+		m.Pix[52*m.Stride+x] = 128
+	}
+	pr := followMask(m, 50)
+	if pr.onInk != 200 {
+		t.Fatalf("onInk = %d, want 200", pr.onInk)
+	}
+	for _, p := range pr.points {
+		if math.Abs(p.Y-50.5) > 0.25 {
+			t.Fatalf("point %v: want y 50.5", p)
+		}
+	}
+}
+
+func TestFollowSteepPeaks(t *testing.T) {
+	// A narrow R wave up to y = 20 and an S wave down to y = 130 from a
+	// baseline at 100, drawn with a 2.5-px-radius pen: the path must keep
+	// both extremes within a pixel (the amplitude of steep peaks).
+	m := image.NewGray(image.Rect(0, 0, 200, 160))
+	line := []Point{{0, 100}, {90, 100}, {95, 20}, {100, 130}, {104, 100}, {200, 100}}
+	stroke(m, line, 2.5)
+	pr := followMask(m, 100)
+	if top := minY(pr.points, 88, 102); math.Abs(top-20) > 1.0 {
+		t.Errorf("R apex at y %.2f, want 20 ± 1", top)
+	}
+	if bot := maxY(pr.points, 95, 106); math.Abs(bot-130) > 1.0 {
+		t.Errorf("S nadir at y %.2f, want 130 ± 1", bot)
+	}
+	// Halfway up the rising stroke the centre line is at (92.5, 60).
+	if y, ok := yAt(pr.points, 92); !ok || math.Abs(y-68) > 2.5 {
+		t.Errorf("rising stroke at x 92: y %.2f, want 68 ± 2.5", y)
+	}
+}
+
+func TestFollowCrossingMark(t *testing.T) {
+	// A pen mark crosses the trace vertically and a long diagonal stroke
+	// crosses it too; the path keeps the trace's level at the crossings.
+	m := image.NewGray(image.Rect(0, 0, 300, 160))
+	stroke(m, []Point{{0, 80}, {300, 80}}, 1.5)
+	stroke(m, []Point{{100, 0}, {100, 159}}, 1.5)
+	stroke(m, []Point{{150, 10}, {230, 150}}, 1.5)
+	pr := followMask(m, 80)
+	for _, x := range []float64{99, 100, 101, 190, 191, 192} {
+		y, ok := yAt(pr.points, x)
+		if !ok || math.Abs(y-80) > 1.5 {
+			t.Errorf("x %g: y %.2f, want 80 ± 1.5", x, y)
+		}
+	}
+}
+
+func TestFollowGapAndIntrusion(t *testing.T) {
+	// The trace has a 12-column drop-out (fax) and a neighbouring row's
+	// spike reaches down to 8 px above it without touching; a text blob
+	// sits above the trace. The path must bridge the gap at the trace's
+	// level and never visit the spike or the text.
+	m := image.NewGray(image.Rect(0, 0, 300, 160))
+	stroke(m, []Point{{0, 100}, {120, 100}}, 1.5)
+	stroke(m, []Point{{132, 100}, {300, 100}}, 1.5)
+	stroke(m, []Point{{196, 0}, {200, 90}, {204, 0}}, 1.5) // intruding spike
+	for y := 60; y < 75; y++ {                                // text blob
+		for x := 40; x < 70; x++ {
+			if (x/3+y/3)%2 == 0 {
+				m.Pix[y*m.Stride+x] = 255
+			}
+		}
+	}
+	pr := followMask(m, 100)
+	for _, p := range pr.points {
+		if math.Abs(p.Y-100) > 1.5 {
+			t.Fatalf("path left the trace at %v", p)
+		}
+	}
+	if pr.onInk < 300-12-2 {
+		t.Errorf("onInk = %d, want ≥ 286", pr.onInk)
+	}
+	// The samples bridge the gap (12 px < 4 mm at 10 px/mm).
+	cal := testCal(10)
+	vals := sampleRow(pr.points, 0, 0, 1.2, cal, 100, 250, 300)
+	for k := 0; k < 300; k++ {
+		if float64(k)/250 >= 1.2 {
+			break
+		}
+		if math.IsNaN(vals[k]) || math.Abs(vals[k]) > 0.02 {
+			t.Fatalf("sample %d = %v, want 0 mV", k, vals[k])
+		}
+	}
+}
+
+func testCal(pxPerMM float64) grid.Calibration {
+	return grid.Calibration{
+		PxPerMMX:    grid.Value{V: pxPerMM, Origin: grid.FromOption},
+		PxPerMMY:    grid.Value{V: pxPerMM, Origin: grid.FromOption},
+		SpeedMMPerS: grid.Value{V: 25, Origin: grid.FromDefault},
+		GainMMPerMV: grid.Value{V: 10, Origin: grid.FromDefault},
+	}
+}
