@@ -154,6 +154,7 @@ qualified clinicians under local rules and licensed practice.`,
 		newRenderCmd(ios, nil),
 		newEvalCmd(ios, nil),
 		newDemoCmd(ios, nil),
+		newMeasureCmd(ios, nil),
 	)
 	return root
 }
