@@ -15,6 +15,7 @@ import (
 	"tracelift/accuracy"
 	"tracelift/catalog"
 	"tracelift/ecg"
+	"tracelift/export"
 	"tracelift/pipeline"
 	"tracelift/render"
 	"tracelift/synth"
@@ -128,7 +129,8 @@ func runDemo(ctx context.Context, ios *IOStreams, opts *demoOptions) error {
 	}
 	rendered := time.Since(start)
 
-	pf := &pipelineFlags{Layout: "auto", RateHz: 500, MaxPixels: 200_000_000, Formats: availableFormats}
+	pf := &pipelineFlags{Layout: "auto", RateHz: 500, MaxPixels: 200_000_000,
+		Formats: []string{"csv", "json", "edf", "wfdb", "aecg", "svg", "png", "pdf"}}
 	var outcome pageOutcome
 	t0 := time.Now()
 	_, derr := digitizeFile(ctx, scanPath, filepath.Join(opts.OutDir, demoStem), pf, func(p pageOutcome) { outcome = p })
@@ -152,7 +154,7 @@ func runDemo(ctx context.Context, ios *IOStreams, opts *demoOptions) error {
 		".csv":                    "samples in mV against seconds, one column per lead",
 		".json":                   "calibration, layout, quality, measurements, beats, warnings",
 		".edf":                    "EDF+ for viewers and analysis software",
-		".hea":                    "WFDB header (with .dat samples and .atr beats)",
+		".hea":                    "WFDB header (with .dat samples, .atr beats, .wave boundaries)",
 		".xml":                    "HL7 aECG",
 		"-overlay.svg":            "the page with the traces that were read drawn over it",
 		"-overlay.png":            "the same overlay as a picture",
@@ -165,7 +167,7 @@ func runDemo(ctx context.Context, ios *IOStreams, opts *demoOptions) error {
 		if d == "" {
 			for suffix, text := range describe {
 				if strings.HasPrefix(suffix, ".") || strings.HasPrefix(suffix, "-") {
-					if strings.HasSuffix(b, suffix) && strings.HasPrefix(b, demoStem) {
+					if strings.HasSuffix(b, suffix) && (strings.HasPrefix(b, demoStem) || strings.HasPrefix(b, export.WFDBName(demoStem))) {
 						d = text
 					}
 				}

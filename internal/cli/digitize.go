@@ -21,10 +21,10 @@ import (
 
 // outputFormats are the values --format accepts; csv and json are always
 // written.
-var outputFormats = []string{"csv", "json", "edf", "wfdb", "aecg", "svg", "png", "pdf"}
+var outputFormats = []string{"csv", "json", "edf", "wfdb", "wfdb212", "aecg", "svg", "png", "pdf"}
 
 // availableFormats are the formats this build can write.
-var availableFormats = []string{"csv", "json", "edf", "wfdb", "aecg", "pdf"}
+var availableFormats = outputFormats
 
 // pipelineFlags are the digitising options shared by digitize and batch.
 type pipelineFlags struct {

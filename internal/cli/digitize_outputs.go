@@ -10,10 +10,10 @@ import (
 	"tracelift/catalog"
 	"tracelift/ecg"
 	"tracelift/export"
-	"tracelift/export/aecg"
-	"tracelift/export/edf"
+	"tracelift/export/overlay"
 	"tracelift/export/wfdb"
 	"tracelift/grid"
+	"tracelift/imageproc"
 	"tracelift/imageproc/decode"
 	"tracelift/measure"
 	"tracelift/pipeline"
@@ -112,57 +112,80 @@ func hasLead(rec *ecg.Record, l ecg.Lead) bool {
 // wraps ecg.ErrOutput.
 func writeOutputs(stem, srcPath string, pg decode.Page, r *pipeline.Result, formats []string, layoutGiven bool) ([]string, error) {
 	rec := pageRecord(srcPath, pg, r)
-	var out []string
-	add := func(p string, err error) error {
-		if err != nil {
-			return fmt.Errorf("%s: %w", p, err)
-		}
-		out = append(out, p)
-		return nil
+	dir, name := filepath.Split(stem)
+	if dir == "" {
+		dir = "."
 	}
+	var data, pictures []string
 	for _, f := range formats {
+		if hasString(export.FormatNames(), f) {
+			data = append(data, f)
+		} else {
+			pictures = append(pictures, f)
+		}
+	}
+	out, err := export.WriteFormats(dir, name, data, rec, &export.Outputs{
+		Report: pageReport(rec, r, layoutGiven),
+		WFDB:   &wfdb.WriteOptions{Comments: []string{"digitised by tracelift " + Version + " from " + rec.Meta.Source}},
+	})
+	if err != nil {
+		return out, fmt.Errorf("%s: %w", filepath.Base(stem), err)
+	}
+	for _, f := range pictures {
+		var p string
 		var err error
 		switch f {
-		case "csv":
-			p := stem + ".csv"
-			err = add(p, export.WriteCSVFile(p, rec))
-		case "json":
-			p := stem + ".json"
-			err = add(p, export.WriteJSONFile(p, pageReport(rec, r, layoutGiven)))
-		case "edf":
-			p := stem + ".edf"
-			err = add(p, edf.WriteFile(p, rec, nil))
-		case "wfdb":
-			dir, name := filepath.Split(stem)
-			if dir == "" {
-				dir = "."
-			}
-			name = wfdbName(name)
-			base := filepath.Join(dir, name)
-			h, werr := wfdb.WriteRecord(dir, name, rec, &wfdb.WriteOptions{Comments: []string{"digitised by tracelift " + Version + " from " + rec.Meta.Source}})
-			if err = add(base+".hea", werr); err == nil {
-				out = append(out, base+".dat")
-				if len(rec.Beats) > 0 {
-					start, _ := rec.Span()
-					err = add(base+".atr", wfdb.WriteAnnotationsFile(base+".atr", wfdb.BeatAnnotations(rec.Beats, h.Fs, start)))
-				}
-			}
-		case "aecg":
-			p := stem + ".xml"
-			err = add(p, aecg.WriteFile(p, rec, &aecg.Options{Measurements: r.Report}))
+		case "svg":
+			p = stem + "-overlay.svg"
+			err = overlay.WriteSVGFile(p, pg.Image, overlaySegments(r), overlayOptions(rec, r))
+		case "png":
+			p = stem + "-overlay.png"
+			err = overlay.WritePNGFile(p, pg.Image, overlaySegments(r), overlayOptions(rec, r))
 		case "pdf":
-			p := stem + ".pdf"
-			err = add(p, catalog.WriteFileAtomic(p, func(f *os.File) error {
+			p = stem + ".pdf"
+			err = catalog.WriteFileAtomic(p, func(f *os.File) error {
 				return render.WritePDF(f, rec, pdfOptions(rec))
-			}))
+			})
 		default:
-			err = fmt.Errorf("%s: %w: format %q is not available in this build", stem, ecg.ErrOutput, f)
+			err = fmt.Errorf("%w: format %q is not available in this build", ecg.ErrOutput, f)
 		}
 		if err != nil {
-			return out, err
+			return out, fmt.Errorf("%s: %w", filepath.Base(p), err)
 		}
+		out = append(out, p)
 	}
 	return out, nil
+}
+
+// overlaySegments maps every followed trace from the upright page back to
+// source-image pixels.
+func overlaySegments(r *pipeline.Result) []overlay.Segment {
+	if r.Trace == nil || r.Page == nil {
+		return nil
+	}
+	h := r.Page.ToSource
+	segs := make([]overlay.Segment, 0, len(r.Trace.Panels))
+	for _, p := range r.Trace.Panels {
+		s := overlay.Segment{Lead: p.Lead.String(), Quality: p.Quality, Points: make([][2]float64, len(p.Path))}
+		if p.Negated {
+			s.Lead = "-" + s.Lead
+		}
+		for i, pt := range p.Path {
+			x, y := imageproc.Apply(h, pt.X, pt.Y)
+			s.Points[i] = [2]float64{x, y}
+		}
+		segs = append(segs, s)
+	}
+	return segs
+}
+
+func overlayOptions(rec ecg.Record, r *pipeline.Result) *overlay.Options {
+	c := "tracelift " + Version + " — " + rec.Meta.Source
+	if g := r.Grid; g != nil {
+		c += fmt.Sprintf(" — %.2f px/mm (%s), %g mm/s, %g mm/mV", g.Calibration.PxPerMMX.V, g.Calibration.PxPerMMX.Origin,
+			g.Calibration.SpeedMMPerS.V, g.Calibration.GainMMPerMV.V)
+	}
+	return &overlay.Options{Caption: c + " — verify against the original tracing"}
 }
 
 // pdfOptions re-plots the digitised record on clean paper at its own speed
@@ -184,19 +207,4 @@ func layoutPrints(t *trace.Result, l ecg.Lead) bool {
 		}
 	}
 	return false
-}
-
-// wfdbName turns a file stem into a WFDB record name, which may hold only
-// letters, digits and '_' (header(5)): other characters become '_'.
-func wfdbName(s string) string {
-	b := []byte(s)
-	for i, c := range b {
-		if !(c >= 'a' && c <= 'z' || c >= 'A' && c <= 'Z' || c >= '0' && c <= '9' || c == '_') {
-			b[i] = '_'
-		}
-	}
-	if len(b) == 0 {
-		return "record"
-	}
-	return string(b)
 }
