@@ -358,16 +358,24 @@ func warpFast(out, page *image.NRGBA, inv [9]float64, k1 float64, bg color.RGBA)
 	maxX, maxY := float64(pw)-0.5, float64(ph)-0.5
 	for y := range h {
 		row := out.Pix[y*out.Stride : y*out.Stride+4*w]
+		// Without a lens warp the homogeneous source coordinates are linear
+		// along the row and are stepped instead of recomputed.
+		qy := float64(y) + 0.5
+		nx, ny, nd := inv[0]*0.5+inv[1]*qy+inv[2], inv[3]*0.5+inv[4]*qy+inv[5], inv[6]*0.5+inv[7]*qy+inv[8]
 		for x := range w {
-			qx, qy := float64(x)+0.5, float64(y)+0.5
+			var px, py float64
 			if k1 != 0 {
-				dx, dy := qx-cx, qy-cy
+				dx, dy := float64(x)+0.5-cx, qy-cy
 				f := 1 + k1*(dx*dx+dy*dy)/r2
-				qx, qy = cx+dx*f, cy+dy*f
+				lx, ly := cx+dx*f, cy+dy*f
+				d := inv[6]*lx + inv[7]*ly + inv[8]
+				px = (inv[0]*lx+inv[1]*ly+inv[2])/d - 0.5
+				py = (inv[3]*lx+inv[4]*ly+inv[5])/d - 0.5
+			} else {
+				id := 1 / nd
+				px, py = nx*id-0.5, ny*id-0.5
+				nx, ny, nd = nx+inv[0], ny+inv[3], nd+inv[6]
 			}
-			d := inv[6]*qx + inv[7]*qy + inv[8]
-			px := (inv[0]*qx+inv[1]*qy+inv[2])/d - 0.5
-			py := (inv[3]*qx+inv[4]*qy+inv[5])/d - 0.5
 			o := row[4*x : 4*x+4 : 4*x+4]
 			if px < -0.5 || py < -0.5 || px > maxX || py > maxY {
 				o[0], o[1], o[2], o[3] = bg.R, bg.G, bg.B, bg.A
