@@ -153,10 +153,13 @@ func Read(r io.Reader) (ecg.Record, error) {
 		if r := math.Round(fs); math.Abs(fs-r) < 1e-6*fs {
 			fs = r
 		}
-		off := int(math.Round(p.head.Sub(first).Seconds() * fs))
-		if off < 0 || off > maxDigits {
-			return ecg.Record{}, fmt.Errorf("aecg: window offset %d samples: %w", off, ecg.ErrUnreadable)
+		offF := math.Round(p.head.Sub(first).Seconds() * fs)
+		// Windows far apart would blow a small document up into a huge
+		// record: refuse offsets beyond 4 × the samples present + 10^6.
+		if offF < 0 || offF > float64(4*total+1_000_000) {
+			return ecg.Record{}, fmt.Errorf("aecg: window starts %g samples after the first, far beyond the %d samples present: %w", offF, total, ecg.ErrUnreadable)
 		}
+		off := int(offF)
 		s := rec.Signal(p.lead)
 		if s == nil {
 			rec.Set(ecg.Signal{Lead: p.lead, SampleRate: fs})
@@ -165,8 +168,13 @@ func Read(r io.Reader) (ecg.Record, error) {
 		if s.SampleRate != fs {
 			return ecg.Record{}, fmt.Errorf("aecg: lead %v at two sample rates: %w", p.lead, ecg.ErrUnreadable)
 		}
-		for len(s.Samples) < off+len(p.vals) {
-			s.Samples = append(s.Samples, math.NaN())
+		if n := off + len(p.vals); len(s.Samples) < n {
+			grown := make([]float64, n)
+			copy(grown, s.Samples)
+			for k := len(s.Samples); k < n; k++ {
+				grown[k] = math.NaN()
+			}
+			s.Samples = grown
 		}
 		copy(s.Samples[off:], p.vals)
 	}
