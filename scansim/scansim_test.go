@@ -494,3 +494,41 @@ func TestRandomOptionsRobust(t *testing.T) {
 		}
 	}
 }
+
+// Preset parameters stay within the documented ranges for many seeds and
+// resolutions.
+func TestPresetRanges(t *testing.T) {
+	for seed := range uint64(200) {
+		dpi := []float64{150, 200, 300, 600}[seed%4]
+		k := dpi / 300
+		get := func(name string) Options {
+			o, err := Preset(name, dpi, seed)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if err := o.validate(); err != nil {
+				t.Fatalf("%s seed %d: %v", name, seed, err)
+			}
+			return o
+		}
+		for _, name := range []string{"scan", "gray", "overlap", "penmarks"} {
+			o := get(name)
+			if math.Abs(o.RotationDeg) > 3 || o.BlurPx < 0.3*k || o.BlurPx > 0.8*k || o.JPEGQuality < 75 || o.JPEGQuality > 92 {
+				t.Errorf("%s seed %d: %+v", name, seed, o)
+			}
+			if (name == "penmarks") != (o.PenMarks >= 3 && o.PenMarks <= 8) || (name == "gray") != o.Grayscale {
+				t.Errorf("%s seed %d: pen marks %d, grey %v", name, seed, o.PenMarks, o.Grayscale)
+			}
+		}
+		if o := get("fax"); math.Abs(o.RotationDeg) > 2 || !o.Binarize || math.Abs(o.ScaleX*dpi-204) > 1e-9 || (math.Abs(o.ScaleY*dpi-98) > 1e-9 && math.Abs(o.ScaleY*dpi-196) > 1e-9) {
+			t.Errorf("fax seed %d at %g dpi: %+v", seed, dpi, o)
+		}
+		if o := get("photo"); math.Abs(o.RotationDeg) > 10 || o.Perspective < 0.04 || o.Perspective > 0.15 ||
+			math.Abs(o.LensK1) < 0.01 || math.Abs(o.LensK1) > 0.04 || o.Lighting < 0.3 || o.Lighting > 0.8 || o.Background == (color.RGBA{}) {
+			t.Errorf("photo seed %d: %+v", seed, o)
+		}
+		if o := get("lowres"); o.ScaleX != o.ScaleY || o.ScaleX*dpi < 100 || o.ScaleX*dpi > 150 {
+			t.Errorf("lowres seed %d at %g dpi: scale %g", seed, dpi, o.ScaleX)
+		}
+	}
+}
