@@ -642,3 +642,30 @@ func TestRandomParamsRobust(t *testing.T) {
 		t.Errorf("only %d of 60 random parameter sets were accepted", ok)
 	}
 }
+
+// The waveform is sampled analytically, so records at different rates
+// agree sample for sample at common times, and the band-limited
+// ecg.Resample of a 1000 Hz record reproduces the 500 Hz one (a
+// synthetic ECG has almost no energy above 240 Hz).
+func TestSampleRateConsistency(t *testing.T) {
+	p := Default()
+	p.HRVStdMS, p.EctopicRate = 30, 0.1
+	p.SampleRate = 500
+	a := gen(t, p, 31)
+	p.SampleRate = 1000
+	b := gen(t, p, 31)
+	worstExact, worstResampled := 0.0, 0.0
+	for i := range a.Signals {
+		r := ecg.Resample(b.Signals[i], 500)
+		for k, v := range a.Signals[i].Samples {
+			worstExact = max(worstExact, math.Abs(v-b.Signals[i].Samples[2*k]))
+			if k > 50 && k < len(r.Samples)-50 {
+				worstResampled = max(worstResampled, math.Abs(v-r.Samples[k]))
+			}
+		}
+	}
+	t.Logf("largest difference: %.2g mV at common times, %.2g mV after resampling", worstExact, worstResampled)
+	if worstExact > 1e-9 || worstResampled > 0.002 {
+		t.Errorf("500 vs 1000 Hz: %.3g mV at common times, %.3g mV after resampling", worstExact, worstResampled)
+	}
+}
