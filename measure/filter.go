@@ -39,69 +39,79 @@ func butterHigh(fc, fs float64) biquad {
 // dcGain returns the section's gain at 0 Hz.
 func (q biquad) dcGain() float64 { return (q.b0 + q.b1 + q.b2) / (1 + q.a1 + q.a2) }
 
-// run filters x in place, starting from the steady state for a constant
-// input equal to x[0] so that no start-up transient appears.
-func (q biquad) run(x []float64) {
-	if len(x) == 0 {
-		return
-	}
-	x0 := x[0]
-	y0 := q.dcGain() * x0
-	z2 := q.b2*x0 - q.a2*y0
-	z1 := q.b1*x0 - q.a1*y0 + z2
-	for i, v := range x {
-		y := q.b0*v + z1
-		z1 = q.b1*v - q.a1*y + z2
-		z2 = q.b2*v - q.a2*y
-		x[i] = y
-	}
-}
-
-// runReverse filters x in place from the last sample to the first.
-func (q biquad) runReverse(x []float64) {
-	n := len(x)
-	if n == 0 {
-		return
-	}
-	x0 := x[n-1]
-	y0 := q.dcGain() * x0
-	z2 := q.b2*x0 - q.a2*y0
-	z1 := q.b1*x0 - q.a1*y0 + z2
-	for i := n - 1; i >= 0; i-- {
-		v := x[i]
-		y := q.b0*v + z1
-		z1 = q.b1*v - q.a1*y + z2
-		z2 = q.b2*v - q.a2*y
-		x[i] = y
-	}
-}
-
 // filtfilt applies each section forward and then backward (zero phase;
 // the magnitude response is squared, so a 2nd-order Butterworth section
-// becomes 4th order with −6 dB at its cut-off). Before filtering, x is
+// becomes 4th order with −6 dB at its cut-off), in place. x is treated as
 // extended at both ends by pad samples of odd (point) reflection, which
-// keeps level and slope continuous at the edges; work must have room for
-// len(x)+2·pad samples and is used as scratch. The result is written back
-// into x.
-func filtfilt(x []float64, pad int, work []float64, sections ...biquad) {
+// keeps level and slope continuous at the edges; the extensions live in
+// small side buffers, so no copy of x is made.
+func filtfilt(x []float64, pad int, sections ...biquad) {
 	n := len(x)
-	if n == 0 {
+	if n < 2 {
 		return
 	}
 	pad = min(pad, n-1)
-	w := work[:n+2*pad]
+	left := make([]float64, pad)
+	right := make([]float64, pad)
 	for i := 0; i < pad; i++ {
-		w[pad-1-i] = 2*x[0] - x[i+1]
-		w[pad+n+i] = 2*x[n-1] - x[n-2-i]
+		left[pad-1-i] = 2*x[0] - x[i+1]
+		right[i] = 2*x[n-1] - x[n-2-i]
 	}
-	copy(w[pad:], x)
 	for _, q := range sections {
-		q.run(w)
+		q.runParts(false, left, x, right)
 	}
 	for i := len(sections) - 1; i >= 0; i-- {
-		sections[i].runReverse(w)
+		sections[i].runParts(true, left, x, right)
 	}
-	copy(x, w[pad:pad+n])
+}
+
+// runParts filters the concatenation of parts in place (backward when
+// reverse is true), starting from the steady state for its first sample.
+func (q biquad) runParts(reverse bool, parts ...[]float64) {
+	var first float64
+	found := false
+	if !reverse {
+		for _, p := range parts {
+			if len(p) > 0 {
+				first, found = p[0], true
+				break
+			}
+		}
+	} else {
+		for k := len(parts) - 1; k >= 0; k-- {
+			if p := parts[k]; len(p) > 0 {
+				first, found = p[len(p)-1], true
+				break
+			}
+		}
+	}
+	if !found {
+		return
+	}
+	y0 := q.dcGain() * first
+	z2 := q.b2*first - q.a2*y0
+	z1 := q.b1*first - q.a1*y0 + z2
+	step := func(p []float64, i int) {
+		v := p[i]
+		y := q.b0*v + z1
+		z1 = q.b1*v - q.a1*y + z2
+		z2 = q.b2*v - q.a2*y
+		p[i] = y
+	}
+	if !reverse {
+		for _, p := range parts {
+			for i := range p {
+				step(p, i)
+			}
+		}
+		return
+	}
+	for k := len(parts) - 1; k >= 0; k-- {
+		p := parts[k]
+		for i := len(p) - 1; i >= 0; i-- {
+			step(p, i)
+		}
+	}
 }
 
 // runs returns the [start, end) index pairs of the contiguous non-NaN runs
@@ -126,8 +136,9 @@ func runs(dst [][2]int, x []float64, minLen int) [][2]int {
 
 // bandFilter filters every contiguous non-NaN run of x separately with the
 // given sections (zero phase, odd-reflection padding of padS seconds) and
-// writes the result to dst; runs shorter than minS seconds and NaN samples
-// stay NaN in dst. A nil dst is allocated; dst is returned.
+// writes the result to dst, which may be x itself; runs shorter than minS
+// seconds and NaN samples are NaN in dst. A nil dst is allocated; dst is
+// returned.
 func bandFilter(dst, x []float64, fs, padS, minS float64, sections ...biquad) []float64 {
 	if dst == nil {
 		dst = make([]float64, len(x))
@@ -135,22 +146,19 @@ func bandFilter(dst, x []float64, fs, padS, minS float64, sections ...biquad) []
 	if len(dst) != len(x) {
 		panic("measure: bandFilter: length mismatch")
 	}
-	if len(x) > 0 && &dst[0] == &x[0] {
-		panic("measure: bandFilter: dst and x must not overlap")
-	}
-	for i := range dst {
-		dst[i] = math.NaN()
-	}
 	pad := int(padS * fs)
-	var work []float64
+	prev := 0
 	for _, r := range runs(nil, x, max(3, int(minS*fs))) {
+		for i := prev; i < r[0]; i++ {
+			dst[i] = math.NaN()
+		}
 		seg := dst[r[0]:r[1]]
 		copy(seg, x[r[0]:r[1]])
-		need := len(seg) + 2*min(pad, len(seg)-1)
-		if cap(work) < need {
-			work = make([]float64, need)
-		}
-		filtfilt(seg, pad, work[:need], sections...)
+		filtfilt(seg, pad, sections...)
+		prev = r[1]
+	}
+	for i := prev; i < len(dst); i++ {
+		dst[i] = math.NaN()
 	}
 	return dst
 }

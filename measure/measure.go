@@ -200,18 +200,16 @@ func Measure(rec ecg.Record, opt *Options) (*Report, error) {
 func condition(f *frame, o *Options) *frame {
 	c := &frame{fs: f.fs, t0: f.t0, n: f.n, leads: f.leads, x: make([][]float64, len(f.x))}
 	lp := butterLow(o.LowPassHz, f.fs)
-	var base []float64
 	for k, x := range f.x {
 		if o.HighPassHz > 0 {
 			c.x[k] = bandFilter(nil, x, f.fs, 1.0, 0.3, butterHigh(o.HighPassHz, f.fs), lp)
 			continue
 		}
-		base = medianBaseline(base, x, f.fs)
-		y := make([]float64, len(x))
+		y := medianBaseline(nil, x, f.fs)
 		for i := range y {
-			y[i] = x[i] - base[i]
+			y[i] = x[i] - y[i]
 		}
-		c.x[k] = bandFilter(nil, y, f.fs, 0.2, 0.3, lp)
+		c.x[k] = bandFilter(y, y, f.fs, 0.2, 0.3, lp)
 	}
 	return c
 }
