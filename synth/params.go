@@ -121,6 +121,8 @@ func resolve(p Params) (resolved, error) {
 	switch {
 	case p.HRVStdMS/1000 > 0.2*r.rr:
 		return resolved{}, bad("RR variability %g ms above 20 %% of the mean RR (%g ms)", p.HRVStdMS, 1000*r.rr)
+	case r.pr < 0.07 && p.PDurMS == 0:
+		return resolved{}, bad("PR %g ms below 70 ms (the default P wave needs 30 ms plus 40 ms to the QRS)", 1000*r.pr)
 	case r.qrs < 0.04 || r.qrs > 0.25:
 		return resolved{}, bad("QRS duration %g ms outside [40, 250]", 1000*r.qrs)
 	case r.pdur < 0.03 || r.pdur > 0.2:
