@@ -13,6 +13,7 @@ type background struct {
 	nx, ny int
 	cell   float64      // block size in the coordinates of the image it is applied to
 	v      [3][]float64 // per channel, ny×nx
+	col    [3][]float64 // scratch: one row of interpolated block values
 }
 
 // estimateBackground measures the background of m with blocks of about
@@ -76,7 +77,7 @@ func estimateBackground(m *image.NRGBA, block int, scale float64) *background {
 }
 
 // gainRow fills dst (3 per pixel) with 255/background for row y of a
-// w-pixel-wide image.
+// w-pixel-wide image (the gain itself is interpolated between blocks).
 func (bg *background) gainRow(dst []float32, y, w int) {
 	fy := (float64(y)+0.5)/bg.cell - 0.5
 	y0 := int(fy)
@@ -88,11 +89,15 @@ func (bg *background) gainRow(dst []float32, y, w int) {
 	}
 	y1 := min(y0+1, bg.ny-1)
 	ay := fy - float64(y0)
-	var col [3][]float64
+	if len(bg.col[0]) != bg.nx {
+		for c := range bg.col {
+			bg.col[c] = make([]float64, bg.nx)
+		}
+	}
+	col := bg.col
 	for c := 0; c < 3; c++ {
-		col[c] = make([]float64, bg.nx)
 		for i := 0; i < bg.nx; i++ {
-			col[c][i] = (1-ay)*bg.v[c][y0*bg.nx+i] + ay*bg.v[c][y1*bg.nx+i]
+			col[c][i] = 255 * ((1-ay)/bg.v[c][y0*bg.nx+i] + ay/bg.v[c][y1*bg.nx+i])
 		}
 	}
 	inv := 1 / bg.cell
@@ -108,8 +113,7 @@ func (bg *background) gainRow(dst []float32, y, w int) {
 		x1 := min(x0+1, bg.nx-1)
 		ax := fx - float64(x0)
 		for c := 0; c < 3; c++ {
-			v := (1-ax)*col[c][x0] + ax*col[c][x1]
-			dst[3*x+c] = float32(255 / v)
+			dst[3*x+c] = float32((1-ax)*col[c][x0] + ax*col[c][x1])
 		}
 	}
 }

@@ -42,7 +42,7 @@ func estimatePerspective(lineMap *image.Gray, theta float64) *perspective {
 		for tx := 0; tx < nx; tx++ {
 			r := image.Rect(tx*w/nx, ty*h/ny, (tx+1)*w/nx, (ty+1)*h/ny)
 			sub := lineMap.SubImage(r).(*image.Gray)
-			pts := collectPoints(sub, thr, 60000)
+			pts := collectPoints(sub, thr, 25000)
 			if len(pts.x) < 200 {
 				continue
 			}
@@ -144,7 +144,9 @@ func estimatePerspective(lineMap *image.Gray, theta float64) *perspective {
 // tileDirection finds one family's angle in a tile and checks that the
 // sharpness peak stands out from its surroundings.
 func tileDirection(p *points, theta, span, step float64, fam family) (float64, bool) {
-	a, best := p.searchAngle(theta-span, theta+span, step, fam)
+	// Coarse (4 steps) over the span, then fine around the best.
+	a0, _ := p.searchAngle(theta-span, theta+span, 4*step, fam)
+	a, best := p.searchAngle(a0-5*step, a0+5*step, step/2, fam)
 	buf := make([]float64, 2*p.span+4)
 	far := p.sharpness(theta+span, fam, buf) + p.sharpness(theta-span, fam, buf)
 	if best < 0.6*far {

@@ -161,39 +161,59 @@ func hue(r, g, b float64) float64 {
 }
 
 // maps computes luminance, ink and grid strength of src normalised by bg.
-// In grey mode the grid map is filled by structureSplit afterwards.
+// In grey mode the grid map is filled by structureSplit afterwards. The
+// arithmetic is fixed point: gains in 1/256, coefficients in 1/1024.
 func (s *separator) maps(src *image.NRGBA, bg *background) (gray, ink, grd *image.Gray) {
 	w, h := src.Rect.Dx(), src.Rect.Dy()
 	r := image.Rect(0, 0, w, h)
 	gray, ink, grd = image.NewGray(r), image.NewGray(r), image.NewGray(r)
-	g := make([]float32, 3*w)
-	lo, span := float32(s.inkLo), float32(255/(s.inkHi-s.inkLo))
-	ka := [3]float32{float32(s.ka[0]), float32(s.ka[1]), float32(s.ka[2])}
-	kb := [3]float32{float32(s.kb[0]), float32(s.kb[1]), float32(s.kb[2])}
+	gf := make([]float32, 3*w)
+	g := make([]uint32, 3*w)
+	span := 255 / (s.inkHi - s.inkLo)
+	var ka, kb [3]int32
+	for j := 0; j < 3; j++ {
+		ka[j] = int32(math.Round(s.ka[j] * 255 * 1024))
+		kb[j] = int32(math.Round(s.kb[j] * span * 1024))
+	}
+	off := int32(math.Round(s.inkLo * span))
+	spanG := int32(math.Round(span * 1024))
+	loG := int32(math.Round(s.inkLo))
 	for y := 0; y < h; y++ {
-		bg.gainRow(g, y, w)
+		bg.gainRow(gf, y, w)
+		for i, v := range gf {
+			g[i] = uint32(v*256 + 0.5)
+		}
 		row := src.Pix[y*src.Stride : y*src.Stride+4*w]
 		gr := gray.Pix[y*gray.Stride : y*gray.Stride+w]
 		ir := ink.Pix[y*ink.Stride : y*ink.Stride+w]
 		dr := grd.Pix[y*grd.Stride : y*grd.Stride+w]
 		for x := 0; x < w; x++ {
-			rr := min(255, float32(row[4*x])*g[3*x])
-			gg := min(255, float32(row[4*x+1])*g[3*x+1])
-			bb := min(255, float32(row[4*x+2])*g[3*x+2])
-			lum := 0.299*rr + 0.587*gg + 0.114*bb
-			gr[x] = clamp8(lum)
+			rr := min(255, (uint32(row[4*x])*g[3*x]+128)>>8)
+			gg := min(255, (uint32(row[4*x+1])*g[3*x+1]+128)>>8)
+			bb := min(255, (uint32(row[4*x+2])*g[3*x+2]+128)>>8)
+			lum := (77*rr + 150*gg + 29*bb + 128) >> 8
+			gr[x] = uint8(lum)
 			if s.colour {
-				a0, a1, a2 := 255-rr, 255-gg, 255-bb
-				al := ka[0]*a0 + ka[1]*a1 + ka[2]*a2
-				be := kb[0]*a0 + kb[1]*a1 + kb[2]*a2
-				dr[x] = clamp8(al * 255)
-				ir[x] = clamp8((be - lo) * span)
+				a0, a1, a2 := 255-int32(rr), 255-int32(gg), 255-int32(bb)
+				dr[x] = sat8((ka[0]*a0 + ka[1]*a1 + ka[2]*a2) >> 10)
+				ir[x] = sat8((kb[0]*a0+kb[1]*a1+kb[2]*a2)>>10 - off)
 			} else {
-				ir[x] = clamp8((255 - lum - lo) * span)
+				ir[x] = sat8(((255 - int32(lum) - loG) * spanG) >> 10)
 			}
 		}
 	}
 	return gray, ink, grd
+}
+
+// sat8 clamps v to 0..255.
+func sat8(v int32) uint8 {
+	if v <= 0 {
+		return 0
+	}
+	if v >= 255 {
+		return 255
+	}
+	return uint8(v)
 }
 
 // structureSplit separates a grey page (already upright) into grid lines

@@ -49,28 +49,27 @@ func warpNRGBA(dst, src *image.NRGBA, toSrc Homography) {
 				continue
 			}
 			x0f, y0f := math.Floor(sx), math.Floor(sy)
-			ax, ay := sx-x0f, sy-y0f
 			x0, y0 := int(x0f), int(y0f)
-			x1, y1 := x0+1, y0+1
-			// Clamp at the border (outside pixels read as white).
+			// 8-bit fixed-point weights.
+			ax := uint32((sx-x0f)*256 + 0.5)
+			ay := uint32((sy-y0f)*256 + 0.5)
 			var c00, c10, c01, c11 []uint8
-			if x0 >= 0 && y0 >= 0 && x1 < sw && y1 < sh {
+			if x0 >= 0 && y0 >= 0 && x0+1 < sw && y0+1 < sh {
 				i := y0*ss + 4*x0
 				c00 = sp[i : i+4 : i+4]
 				c10 = sp[i+4 : i+8 : i+8]
 				c01 = sp[i+ss : i+ss+4 : i+ss+4]
 				c11 = sp[i+ss+4 : i+ss+8 : i+ss+8]
 			} else {
-				c00, c10, c01, c11 = pick(x0, y0), pick(x1, y0), pick(x0, y1), pick(x1, y1)
+				c00, c10, c01, c11 = pick(x0, y0), pick(x0+1, y0), pick(x0, y0+1), pick(x0+1, y0+1)
 			}
-			w00 := (1 - ax) * (1 - ay)
-			w10 := ax * (1 - ay)
-			w01 := (1 - ax) * ay
+			w00 := (256 - ax) * (256 - ay)
+			w10 := ax * (256 - ay)
+			w01 := (256 - ax) * ay
 			w11 := ax * ay
-			for c := 0; c < 3; c++ {
-				v := w00*float64(c00[c]) + w10*float64(c10[c]) + w01*float64(c01[c]) + w11*float64(c11[c])
-				o[c] = uint8(v + 0.5)
-			}
+			o[0] = uint8((w00*uint32(c00[0]) + w10*uint32(c10[0]) + w01*uint32(c01[0]) + w11*uint32(c11[0]) + 32768) >> 16)
+			o[1] = uint8((w00*uint32(c00[1]) + w10*uint32(c10[1]) + w01*uint32(c01[1]) + w11*uint32(c11[1]) + 32768) >> 16)
+			o[2] = uint8((w00*uint32(c00[2]) + w10*uint32(c10[2]) + w01*uint32(c01[2]) + w11*uint32(c11[2]) + 32768) >> 16)
 			o[3] = 255
 		}
 	}
