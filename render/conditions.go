@@ -56,18 +56,30 @@ func ConditionOptions(name string, seed uint64) (*Options, error) {
 		o.Layout = pick([]string{Layout3x4R1, Layout3x4R3})
 		o.Grid.Kind = GridLines
 	}
-	preset := name
-	if name == "overlap" {
-		preset = "scan"
+	so, err := ConditionScan(name, o.DPI, rng.Uint64())
+	if err != nil {
+		return nil, err
 	}
-	if name != "clean" {
-		so, err := scansim.Preset(preset, o.DPI, rng.Uint64())
-		if err != nil {
-			return nil, fmt.Errorf("render: condition %s: %w", name, err)
-		}
-		o.Scan = &so
-	}
+	o.Scan = so
 	return o, nil
+}
+
+// ConditionScan returns the scan simulation of a named condition for a
+// page rendered at dpi (the scansim preset of the same name; "overlap"
+// uses "scan"), or nil for "clean". Use it when changing the DPI of
+// options from ConditionOptions, whose presets are drawn for 300 dpi.
+func ConditionScan(name string, dpi float64, seed uint64) (*scansim.Options, error) {
+	switch name {
+	case "clean":
+		return nil, nil
+	case "overlap":
+		name = "scan"
+	}
+	so, err := scansim.Preset(name, dpi, seed)
+	if err != nil {
+		return nil, fmt.Errorf("render: condition %s: %w: %w", name, ErrOption, err)
+	}
+	return &so, nil
 }
 
 // CorpusRecord returns a synthetic 10 s 12-lead record with heart rate,

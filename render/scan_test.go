@@ -26,7 +26,7 @@ func TestScanGeometry(t *testing.T) {
 		{RotationDeg: -1.2, ScaleX: 0.68, ScaleY: 0.5},
 		{Perspective: 0.08, RotationDeg: 4, Seed: 3},
 	} {
-		p, err := Render(rec, &Options{Layout: Layout12x1, DPI: 300, Grid: Grid{Kind: GridNone}, Header: hidden(), Scan: &sc})
+		p, err := Render(rec, &Options{Layout: Layout12x1, DPI: 200, Grid: Grid{Kind: GridNone}, Header: hidden(), Scan: &sc})
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -35,10 +35,10 @@ func TestScanGeometry(t *testing.T) {
 			if math.Abs(tr.RotationDeg-sc.RotationDeg) > 1e-6 {
 				t.Errorf("rotation %g°, want %g°", tr.RotationDeg, sc.RotationDeg)
 			}
-			if w := 300 / 25.4 * sc.ScaleX; math.Abs(tr.PxPerMMX-w) > 1e-6 {
+			if w := 200 / 25.4 * sc.ScaleX; math.Abs(tr.PxPerMMX-w) > 1e-6 {
 				t.Errorf("px/mm x %g, want %g", tr.PxPerMMX, w)
 			}
-			if w := 300 / 25.4 * sc.ScaleY; math.Abs(tr.PxPerMMY-w) > 1e-6 {
+			if w := 200 / 25.4 * sc.ScaleY; math.Abs(tr.PxPerMMY-w) > 1e-6 {
 				t.Errorf("px/mm y %g, want %g", tr.PxPerMMY, w)
 			}
 		}

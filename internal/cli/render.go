@@ -51,8 +51,9 @@ synthetic 12-lead ECG.
 JSON sidecar saying exactly where every lead, time window and pulse was
 printed (the ground truth for testing a digitiser; see README).
 
---condition adds a simulated scan, fax or phone photo (` + strings.Join(render.ConditionNames(), ", ") + `);
-it changes the PNG only. "overlap" also sets 20 mm/mV unless --gain is given.
+--condition adds a simulated scan, fax or phone photo to the PNG:
+` + strings.Join(render.ConditionNames(), ", ") + `.
+"overlap" also sets 20 mm/mV unless --gain is given.
 
 Layouts: ` + strings.Join(render.LayoutNames(), ", ") + `.
 Synthetic records and demo headers describe fictional patients.`,
@@ -193,11 +194,11 @@ func (o *renderOptions) options(rec *ecg.Record) (*render.Options, error) {
 	h.Hidden = o.NoHeader
 	ro.Header = &h
 	if o.Condition != "" {
-		co, err := render.ConditionOptions(o.Condition, o.Seed)
+		sc, err := render.ConditionScan(o.Condition, o.DPI, o.Seed)
 		if err != nil {
 			return nil, &FlagError{Err: err}
 		}
-		ro.Scan = co.Scan
+		ro.Scan = sc
 	}
 	return ro, nil
 }
