@@ -125,16 +125,24 @@ func Render(src image.Image, segs []Segment, opt *Options) *image.RGBA {
 	dst := image.NewRGBA(image.Rect(0, 0, b.Dx(), b.Dy()))
 	draw.Draw(dst, dst.Bounds(), src, b.Min, draw.Src)
 	off := [2]float64{float64(b.Min.X), float64(b.Min.Y)}
-	z := vector.NewRasterizer(b.Dx(), b.Dy())
+	outW := o.LineWidth + 2*math.Max(1, o.LineWidth/2)
+	var z vector.Rasterizer
 	for pass := 0; pass < 2; pass++ {
 		for i := range segs {
 			s := &segs[i]
 			w, c := o.LineWidth, o.colorFor(s)
 			if pass == 0 {
-				w, c = o.LineWidth+2*math.Max(1, o.LineWidth/2), o.OutlineColor
+				w, c = outW, o.OutlineColor
 			}
-			z.Reset(b.Dx(), b.Dy())
-			if !strokePolyline(z, s.Points, w, off) {
+			// Rasterise only the segment's bounding box: a full-page mask
+			// per segment would cost a page of work each.
+			box, ok := bbox(s.Points, off, outW/2+2)
+			if box = box.Intersect(dst.Bounds()); !ok || box.Empty() {
+				continue
+			}
+			z.Reset(box.Dx(), box.Dy())
+			o2 := [2]float64{off[0] + float64(box.Min.X), off[1] + float64(box.Min.Y)}
+			if !strokePolyline(&z, s.Points, w, o2) {
 				continue
 			}
 			a := o.Opacity
@@ -142,7 +150,7 @@ func Render(src image.Image, segs []Segment, opt *Options) *image.RGBA {
 				a *= 0.6
 			}
 			c.A = uint8(math.Round(float64(c.A) * a))
-			z.Draw(dst, dst.Bounds(), image.NewUniform(c), image.Point{})
+			z.Draw(dst, box, image.NewUniform(c), image.Point{})
 		}
 	}
 	face := labelFace(o.FontSize)
@@ -160,6 +168,25 @@ func Render(src image.Image, segs []Segment, opt *Options) *image.RGBA {
 		}
 	}
 	return dst
+}
+
+// bbox returns the integer box around the finite points (shifted by
+// -off) grown by pad pixels, and false when there is no finite point.
+func bbox(pts [][2]float64, off [2]float64, pad float64) (image.Rectangle, bool) {
+	x0, y0, x1, y1 := math.Inf(1), math.Inf(1), math.Inf(-1), math.Inf(-1)
+	for _, p := range pts {
+		if math.IsNaN(p[0]) || math.IsNaN(p[1]) || math.IsInf(p[0], 0) || math.IsInf(p[1], 0) {
+			continue
+		}
+		x0, y0 = math.Min(x0, p[0]), math.Min(y0, p[1])
+		x1, y1 = math.Max(x1, p[0]), math.Max(y1, p[1])
+	}
+	if x0 > x1 {
+		return image.Rectangle{}, false
+	}
+	clamp := func(v float64) int { return int(math.Max(-1<<30, math.Min(1<<30, v))) }
+	return image.Rect(clamp(math.Floor(x0-off[0]-pad)), clamp(math.Floor(y0-off[1]-pad)),
+		clamp(math.Ceil(x1-off[0]+pad)), clamp(math.Ceil(y1-off[1]+pad))), true
 }
 
 // strokePolyline adds a stroke of width w (px) along pts to z as filled
