@@ -129,6 +129,20 @@ func TestRenderRun(t *testing.T) {
 	assert.Contains(t, errOut.String(), "nope.hea")
 	assert.Equal(t, 1, strings.Count(strings.TrimSpace(errOut.String()), "\n")+1, "one-line error")
 
+	// A fax of a 100 dpi page has the fax's resolution along the scan line:
+	// 1728 pels over 215 mm ≈ 204 dpi (ITU-T T.4; standards.md §6.1),
+	// whatever the render dpi.
+	fax := filepath.Join(dir, "fax.json")
+	code = Main([]string{"render", "--synthetic", "--dpi", "100", "--condition", "fax", "--truth", fax, "-q"}, nil, &out, &errOut)
+	require.Equal(t, ExitOK, code, "stderr: %s", errOut.String())
+	ff, err := os.Open(fax)
+	require.NoError(t, err)
+	ft, err := render.ReadTruth(ff)
+	ff.Close()
+	require.NoError(t, err)
+	assert.InDelta(t, 204/25.4, ft.PxPerMMX, 0.01)
+	assert.Equal(t, "fax", ft.Condition)
+
 	// Unwritable output folder: exit 6.
 	code = Main([]string{"render", "--synthetic", "--dpi", "60", "-o", filepath.Join(dir, "missing", "z.png")}, nil, &out, &errOut)
 	assert.Equal(t, ExitOutput, code)
