@@ -435,6 +435,11 @@ func TestPDFRawImages(t *testing.T) {
 		// 30 dpi from the placement, not from the page size.
 		{mediaW: 612, mediaH: 792, imageDict: "/Width 30 /Height 20 /ColorSpace /DeviceGray /BitsPerComponent 8", stream: g.Pix, content: "q 1 0 0 1 100 100 cm q 72 0 0 48 0 0 cm /Im0 Do Q Q"},
 		{mediaW: 72, mediaH: 72, imageDict: "/Width 30 /Height 20 /ColorSpace /DeviceGray /BitsPerComponent 1 /Filter /JBIG2Decode", stream: []byte{0, 1, 2}},
+		// Placed turned: (s, t) → (48t, 72 − 36s). Stored columns run down
+		// the page and rows leftwards: row 0 right, column 0 top, i.e.
+		// orientation 6; 20 px across 48 pt = 30 dpi horizontally, 30 px
+		// down 36 pt = 60 dpi vertically.
+		{mediaW: 72, mediaH: 72, imageDict: "/Width 30 /Height 20 /ColorSpace /DeviceGray /BitsPerComponent 8", stream: g.Pix, content: "q 0 -36 48 0 0 72 cm /Im0 Do Q"},
 	}
 	b := rawPDF(pages)
 	ps, err := Reader(bytes.NewReader(b), int64(len(b)), "mixed.pdf", &Options{Pages: []int{1, 2, 3, 4, 5, 6}})
@@ -468,6 +473,11 @@ func TestPDFRawImages(t *testing.T) {
 	}
 	if !near(ps[5].DPIX, 30, 1e-9) || !near(ps[5].DPIY, 30, 1e-9) {
 		t.Errorf("placed image dpi %g × %g, want 30 × 30", ps[5].DPIX, ps[5].DPIY)
+	}
+	turned := readerPages(t, b, "mixed.pdf", &Options{Pages: []int{8}})[0]
+	sameGray(t, turned.Image, Orient(g, 6).(*image.Gray))
+	if turned.Orientation != 6 || !near(turned.DPIX, 30, 1e-9) || !near(turned.DPIY, 60, 1e-9) {
+		t.Errorf("turned placement: orientation %d dpi %g × %g, want 6, 30 × 60", turned.Orientation, turned.DPIX, turned.DPIY)
 	}
 	_, err = Reader(bytes.NewReader(b), int64(len(b)), "mixed.pdf", &Options{Pages: []int{7}})
 	if !errors.Is(err, ErrUnsupported) || !errors.Is(err, ecg.ErrUnreadable) || !strings.Contains(err.Error(), "JBIG2") {

@@ -3,11 +3,21 @@
 // (first frame), WebP and the raster images embedded in PDF files.
 //
 // The format is sniffed from the file's content, never from its name. Every
-// page is checked against a pixel budget from its header before any pixel
-// memory is allocated, so hostile or absurd headers are refused cheaply.
-// All failures are returned as *Error values that match ecg.ErrUnreadable
-// with errors.Is; panics inside third-party decoders are recovered and
-// reported the same way.
+// page is checked against a pixel budget (Options.MaxPixels, default
+// DefaultMaxPixels) using the size the underlying decoder will allocate,
+// read from the header before any pixel memory is allocated, so hostile or
+// absurd headers are refused cheaply. All failures are *Error values (or,
+// for several failed pages, a one-line list of them) that match
+// ecg.ErrUnreadable with errors.Is, plus ErrUnsupported, ErrTooLarge or
+// ErrNoRaster where that applies; panics inside third-party decoders are
+// recovered and reported the same way. A page that fails does not stop the
+// other pages of the file: they are delivered and the failures reported
+// at the end, so a caller that has produced some output can report the
+// file as partial.
+//
+// Use Pages (or ReaderPages) for long documents: it hands over one decoded
+// page at a time. File and Reader collect all pages; Config and
+// ReaderConfig read headers only.
 //
 // Orientation. Photos and some scans record how the stored raster must be
 // turned to be viewed upright: the Orientation tag 274 (0x0112) of TIFF 6.0
@@ -26,7 +36,11 @@
 // 282/283/296 (2 = inch, the default; 3 = centimetre) kept separate per axis
 // because fax files are 204 × 98 or 204 × 196 dpi (ITU-T T.4), BMP
 // biXPelsPerMeter/biYPelsPerMeter, and for PDF the image's pixel size over
-// the page MediaBox size in inches (1/72 inch units, ISO 32000-1 8.3.2.3).
+// the size it is drawn at, in inches (1/72 inch units, ISO 32000-1 8.3.2.3):
+// the transformation matrix in force at its Do operator in the page content
+// stream (8.3.4, 8.9.4), or the page MediaBox when the image is inside a
+// form XObject or the content cannot be read. The same matrix gives the
+// PDF orientation when a scan is placed turned or mirrored.
 // Cameras and some software write placeholder densities (72 or 96 dpi);
 // callers should treat the values as a prior, not as a calibration.
 //
