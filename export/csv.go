@@ -8,6 +8,7 @@ import (
 	"io"
 	"math"
 	"os"
+	"path/filepath"
 	"sort"
 	"strconv"
 	"strings"
@@ -249,7 +250,7 @@ func ReadCSVFile(path string, opt *CSVOptions) (ecg.Record, error) {
 	if err != nil {
 		return rec, fmt.Errorf("export: %s: %w", path, err)
 	}
-	rec.Meta.Source = path
+	rec.Meta.Source = filepath.Base(path)
 	return rec, nil
 }
 
