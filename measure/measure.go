@@ -114,6 +114,15 @@ func Measure(rec ecg.Record, opt *Options) (*Report, error) {
 	if len(groups) > 1 {
 		rep.Warnings = append(rep.Warnings, fmt.Sprintf("the leads form %d groups that were not recorded at the same time and no lead runs alongside all of them; QRS and QT are the longest of the groups', P and PR their median", len(groups)))
 	}
+	if why := atrialCheck(cond, dom, tmpl, lw, pre, rrDom); why != "" {
+		for i := range gs {
+			gs[i].pOn, gs[i].pOff, gs[i].pPeak = math.NaN(), math.NaN(), math.NaN()
+		}
+		for k := range gl {
+			gl[k].pOn, gl[k].pOff, gl[k].pPeak = math.NaN(), math.NaN(), math.NaN()
+		}
+		rep.Warnings = append(rep.Warnings, "P waves not reported: "+why)
+	}
 	rel := func(i float64) Num { return round(ms(i-float64(pre)), 1) }
 	p, pr, qrs, qt := globalIntervals(gs)
 	rep.PMS, rep.PRMS, rep.QRSMS, rep.QTMS = round(ms(p), 1), round(ms(pr), 1), round(ms(qrs), 1), round(ms(qt), 1)
@@ -704,3 +713,68 @@ func round(v float64, dec int) Num {
 }
 
 func round6(v float64) float64 { return math.Round(v*1e6) / 1e6 }
+
+// atrialCheck tests whether the P waves found on the median beats behave
+// like sinus (or ectopic atrial) P waves, and returns why not, or "". It
+// looks at the lead with the most prominent P wave (|P| / QRS
+// peak-to-peak): (1) in atrial fibrillation the "P wave" of the median beat
+// is an average of unrelated fibrillatory waves, so the beats' own
+// segments correlate poorly with it (median Pearson r < 0.8 over at least
+// three beats; sinus P waves of the reference records gave 0.89–0.998); (2) in atrial flutter with a fixed conduction ratio the
+// flutter waves are locked to the QRS and survive in the median beat, but
+// then further atrial waves fill the T–P segment, which is flat in sinus
+// rhythm (peak-to-peak there ≥ half that of the P wave). Criteria chosen
+// for this package on the LUDB and QT Database records, not from a
+// standard.
+func atrialCheck(cond *frame, dom []int, tmpl [][]float64, lw []waves, pre int, rr float64) string {
+	fs := cond.fs
+	S := func(s float64) int { return int(math.Round(s * fs)) }
+	k, best := -1, 0.0
+	for i, w := range lw {
+		if w.ok && !math.IsNaN(w.pOn) && w.qrsPP > 0 {
+			if v := math.Abs(w.pAmp) / w.qrsPP; v > best {
+				k, best = i, v
+			}
+		}
+	}
+	if k < 0 {
+		return ""
+	}
+	w, x := lw[k], tmpl[k]
+	a, b := max(0, int(w.pOn)-S(0.02)), min(len(x)-1, int(w.pOff)+S(0.02))
+	seg := x[a : b+1]
+	var cs []float64
+	for _, r := range dom {
+		i0 := r - pre + a
+		i1 := i0 + len(seg)
+		if i0 < 0 || i1 > cond.n {
+			continue
+		}
+		if c := pearson(cond.x[k][i0:i1], seg); !math.IsNaN(c) {
+			cs = append(cs, c)
+		}
+	}
+	if len(cs) >= 3 {
+		if m := median(cs); m < 0.8 {
+			return fmt.Sprintf("they differ from beat to beat (median correlation %.2f in lead %v; atrial fibrillation?)", m, cond.leads[k])
+		}
+	}
+	if !math.IsNaN(w.tEnd) && rr > 0 {
+		start := max(0, int(w.tEnd)-S(rr)+S(0.04))
+		end := int(w.pOn) - S(0.04)
+		if end-start >= S(0.12) {
+			lo, hi := math.Inf(1), math.Inf(-1)
+			for i := start; i < end; i++ {
+				lo, hi = math.Min(lo, x[i]), math.Max(hi, x[i])
+			}
+			plo, phi := math.Inf(1), math.Inf(-1)
+			for i := int(w.pOn); i <= int(w.pOff); i++ {
+				plo, phi = math.Min(plo, x[i]), math.Max(phi, x[i])
+			}
+			if hi-lo >= 0.5*(phi-plo) {
+				return fmt.Sprintf("atrial waves also fill the T–P segment (lead %v; atrial flutter?)", cond.leads[k])
+			}
+		}
+	}
+	return ""
+}
