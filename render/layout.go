@@ -133,8 +133,8 @@ func plan(rec *ecg.Record, o resolved) (*sheet, error) {
 		sh.hMM = headerH + rowH + footerH + 2
 	}
 	if px := sh.wMM * sh.hMM * pxPerMM(o.dpi) * pxPerMM(o.dpi); px > maxPixels {
-		return nil, fmt.Errorf("render: page of %.0f × %.0f mm at %g dpi is too large (%.0f Mpx, limit %d Mpx): %w",
-			sh.wMM, sh.hMM, o.dpi, px/1e6, maxPixels/1_000_000, ErrOption)
+		return nil, fmt.Errorf("%w: page of %.0f × %.0f mm at %g dpi is too large (%.0f Mpx, limit %d Mpx; lower the dpi or print less)",
+			ErrOption, sh.wMM, sh.hMM, o.dpi, px/1e6, maxPixels/1_000_000)
 	}
 	// Grid: whole 5 mm squares, centred horizontally, between header and footer.
 	sh.gw = math.Floor((sh.wMM-8)/5) * 5
@@ -144,7 +144,7 @@ func plan(rec *ecg.Record, o resolved) (*sheet, error) {
 	sh.headerTop = 4
 	sh.footerY = sh.gy0 + sh.gh + footerH*0.62
 	if sh.gw <= 0 || sh.gh <= 0 {
-		return nil, fmt.Errorf("render: page too small: %w", ErrOption)
+		return nil, fmt.Errorf("%w: page too small", ErrOption)
 	}
 	// Row start (the pulse's flat lead-in): the rows are centred in the
 	// grid, on a whole millimetre.
