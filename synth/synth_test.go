@@ -240,7 +240,7 @@ func netQRS(rec ecg.Record, l ecg.Lead, b ecg.Beat) (net, pos, neg float64) {
 // Frontal axis θ = atan2(2·aVF, √3·I) from net QRS amplitudes
 // (standards.md §2.3) within 10° of the request.
 func TestAxis(t *testing.T) {
-	for _, ax := range []float64{-60, -30, 0, 30, 60, 75, 90, 120, 160} {
+	for _, ax := range []float64{-150, -90, -60, -30, 0, 30, 60, 75, 90, 120, 160, 180} {
 		p := Default()
 		p.AxisDeg = ax
 		rec := gen(t, p, 4)
