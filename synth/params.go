@@ -91,6 +91,8 @@ func resolve(p Params) (resolved, error) {
 		return resolved{}, bad("duration %g s outside (0, 3600]", p.DurationS)
 	case p.SampleRate < 50 || p.SampleRate > 20000:
 		return resolved{}, bad("sample rate %g Hz outside [50, 20000]", p.SampleRate)
+	case p.DurationS*p.SampleRate < 1:
+		return resolved{}, bad("duration %g s holds no sample at %g Hz", p.DurationS, p.SampleRate)
 	case p.HeartRateBPM < 20 || p.HeartRateBPM > 220:
 		return resolved{}, bad("heart rate %g bpm outside [20, 220]", p.HeartRateBPM)
 	case p.AmplitudeScale < 0 || p.AmplitudeScale > 20:

@@ -447,6 +447,7 @@ func TestBadParams(t *testing.T) {
 		"mains > Nyquist": mod(func(p *Params) { p.SampleRate = 80; p.PowerlineMV = 0.1; p.PowerlineHz = 60 }),
 		"sample rate":     mod(func(p *Params) { p.SampleRate = 10 }),
 		"HRV too large":   mod(func(p *Params) { p.HRVStdMS = 500 }),
+		"no samples":      mod(func(p *Params) { p.DurationS = 0.001 }),
 	}
 	for name, p := range cases {
 		if _, err := Generate(p, 1); !errors.Is(err, ErrParams) {
