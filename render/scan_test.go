@@ -42,6 +42,14 @@ func TestScanGeometry(t *testing.T) {
 				t.Errorf("px/mm y %g, want %g", tr.PxPerMMY, w)
 			}
 		}
+		// PxToPaper inverts PaperToPx.
+		for _, q := range [][2]float64{{0, 0}, {150, 100}, {297, 210}} {
+			u, v := tr.PaperToPx(q[0], q[1])
+			x, y, ok := tr.PxToPaper(u, v)
+			if !ok || math.Abs(x-q[0]) > 1e-9 || math.Abs(y-q[1]) > 1e-9 {
+				t.Errorf("PxToPaper(PaperToPx(%v)) = %g, %g", q, x, y)
+			}
+		}
 		if b := p.Image.Bounds(); b.Dx() != tr.WidthPx || b.Dy() != tr.HeightPx {
 			t.Errorf("truth size %d×%d, image %v", tr.WidthPx, tr.HeightPx, b)
 		}

@@ -259,6 +259,32 @@ func (t *Truth) Record() ecg.Record {
 // homography.
 func (t *Truth) PaperToPx(xMM, yMM float64) (u, v float64) { return applyH(t.PaperToImage, xMM, yMM) }
 
+// PxToPaper maps a final image pixel back to paper mm with the inverse of
+// the truth's homography (ok=false if it is singular).
+func (t *Truth) PxToPaper(u, v float64) (xMM, yMM float64, ok bool) {
+	inv, ok := invertH(t.PaperToImage)
+	if !ok {
+		return 0, 0, false
+	}
+	x, y := applyH(inv, u, v)
+	return x, y, true
+}
+
+func invertH(m [9]float64) ([9]float64, bool) {
+	a, b, c, d, e, f, g, h, i := m[0], m[1], m[2], m[3], m[4], m[5], m[6], m[7], m[8]
+	A, B, C := e*i-f*h, -(d*i - f*g), d*h-e*g
+	det := a*A + b*B + c*C
+	if det == 0 || !finite(det) {
+		return [9]float64{}, false
+	}
+	r := 1 / det
+	return [9]float64{
+		A * r, -(b*i - c*h) * r, (b*f - c*e) * r,
+		B * r, (a*i - c*g) * r, -(a*f - c*d) * r,
+		C * r, -(a*h - b*g) * r, (a*e - b*d) * r,
+	}, true
+}
+
 // PanelPoint returns the paper position (mm) of value vMV at time tS on
 // panel p (honouring the inverted "-aVR" panel).
 func (t *Truth) PanelPoint(p TruthPanel, tS, vMV float64) (xMM, yMM float64) {
