@@ -21,11 +21,13 @@ func BenchmarkMeasure12Lead10s(b *testing.B) {
 	}
 	rec.Beats = nil
 	b.ReportAllocs()
+	c0 := processCPU()
 	for b.Loop() {
 		if _, err := Measure(rec, nil); err != nil {
 			b.Fatal(err)
 		}
 	}
+	b.ReportMetric(float64(processCPU()-c0)/1e6/float64(b.N), "cpu-ms/op")
 }
 
 // BenchmarkDetectMITBIH100: beat detection on MIT-BIH record 100 (30 min,
@@ -34,11 +36,13 @@ func BenchmarkDetectMITBIH100(b *testing.B) {
 	dir := refdataDir(b, "mitdb")
 	rec, _ := readWFDB(b, filepath.Join(dir, "100.hea"))
 	b.ReportAllocs()
+	c0 := processCPU()
 	for b.Loop() {
 		if _, err := DetectBeats(rec, nil); err != nil {
 			b.Fatal(err)
 		}
 	}
+	b.ReportMetric(float64(processCPU()-c0)/1e6/float64(b.N), "cpu-ms/op")
 }
 
 // BenchmarkMeasure24h: a 24-hour single-lead recording at 250 Hz (21.6 M
@@ -80,6 +84,7 @@ func BenchmarkMeasure24h(b *testing.B) {
 		}
 	}()
 	var beats int
+	c0 := processCPU()
 	for b.Loop() {
 		rep, err := Measure(rec, nil)
 		if err != nil {
@@ -87,8 +92,10 @@ func BenchmarkMeasure24h(b *testing.B) {
 		}
 		beats = rep.BeatCount
 	}
+	cpu := processCPU() - c0
 	close(stop)
 	wg.Wait()
+	b.ReportMetric(cpu.Seconds()/float64(b.N), "cpu-s/op")
 	b.ReportMetric(float64(peak)/1e6, "peak-MB")
 	b.ReportMetric(float64(beats), "beats")
 }
