@@ -9,6 +9,7 @@ import (
 	"regexp"
 	"strconv"
 	"strings"
+	"unicode/utf8"
 
 	"tracelift/ecg"
 	"tracelift/export/internal/atomicfile"
@@ -176,6 +177,13 @@ func EncodeHeader(w io.Writer, h *Header) error {
 			s.InitVal, s.Checksum, s.BlockSize, s.Description)
 	}
 	for _, c := range h.Comments {
+		// header(5): lines of at most 255 characters.
+		if len(c) > 254 {
+			c = c[:254]
+			for !utf8.ValidString(c) {
+				c = c[:len(c)-1]
+			}
+		}
 		fmt.Fprintf(&b, "#%s\n", c)
 	}
 	_, err := w.Write(b.Bytes())

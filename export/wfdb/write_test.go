@@ -362,3 +362,21 @@ func TestBiosigReadsAnnotations(t *testing.T) {
 		}
 	}
 }
+
+// Header lines stay within the 255 characters of header(5), even for a
+// long source name.
+func TestHeaderLineLength(t *testing.T) {
+	rec := testRecord(2, 1)
+	rec.Meta.Source = strings.Repeat("Lakeside Demo Clinic scan ", 20) + ".png"
+	var b bytes.Buffer
+	h, err := WriteRecord(t.TempDir(), "long", rec, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	EncodeHeader(&b, h)
+	for i, line := range strings.Split(b.String(), "\n") {
+		if len(line) > 255 {
+			t.Errorf("line %d has %d characters", i+1, len(line))
+		}
+	}
+}
