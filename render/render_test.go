@@ -308,6 +308,36 @@ func TestLayouts(t *testing.T) {
 	}
 }
 
+// TestPaperSizes: A4 is 297 × 210 mm (ISO 216) and US Letter 11 × 8.5 in,
+// both landscape; the image is the paper at the chosen dpi.
+func TestPaperSizes(t *testing.T) {
+	rec := sineRecord(500, 10, 1, 1, 0)
+	for _, c := range []struct {
+		paper string
+		dpi   float64
+		w, h  int
+	}{
+		{PaperA4, 100, 1169, 827},
+		{PaperA4, 300, 3508, 2480},
+		{PaperLetter, 100, 1100, 850},
+		{PaperLetter, 300, 3300, 2550},
+	} {
+		p, err := Render(rec, &Options{Paper: c.paper, DPI: c.dpi, Grid: Grid{Kind: GridNone}})
+		if err != nil {
+			t.Fatal(err)
+		}
+		if b := p.Image.Bounds(); b.Dx() != c.w || b.Dy() != c.h {
+			t.Errorf("%s at %g dpi: %v, want %d × %d", c.paper, c.dpi, b.Size(), c.w, c.h)
+		}
+		// All printed trace lies on the paper, right of the pulses.
+		for _, pn := range p.Truth.Panels {
+			if pn.X0MM < 10 || pn.X1MM > p.Truth.PaperWidthMM-5 {
+				t.Errorf("%s: panel %s spans %g–%g mm", c.paper, pn.Lead, pn.X0MM, pn.X1MM)
+			}
+		}
+	}
+}
+
 // TestRhythmLayout prints a 95 s record as continuous rows; each row
 // continues where the previous one stopped.
 func TestRhythmLayout(t *testing.T) {
