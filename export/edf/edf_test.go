@@ -373,3 +373,46 @@ func TestPrefilter(t *testing.T) {
 		}
 	}
 }
+
+// EDF+D: records are placed at their time-keeping TAL; the time between
+// records reads as NaN. Built from our EDF+C file by switching the
+// reserved field to EDF+D and moving the third record's TAL from +2 to +4.
+func TestReadEDFPlusD(t *testing.T) {
+	rec := demoRecord(8, 3)
+	rec.Signals = rec.Signals[:2]
+	rec.Beats = nil
+	b := encode(t, rec, nil)
+	copy(b[192:], "EDF+D")
+	ns := 3
+	annSpr, _ := strconv.Atoi(strings.TrimSpace(string(b[256+ns*(16+80+8+8+8+8+8+80)+2*8 : 256+ns*(16+80+8+8+8+8+8+80)+3*8])))
+	recBytes := 2*500*2 + 2*annSpr
+	third := 256*(ns+1) + 2*recBytes + 2*500*2
+	if !bytes.HasPrefix(b[third:], []byte("+2\x14\x14")) {
+		t.Fatalf("third record TAL % x", b[third:third+6])
+	}
+	b[third+1] = '4'
+	f, err := Decode(b)
+	if err != nil {
+		t.Fatal(err)
+	}
+	back := f.Record()
+	s := back.Signal(rec.Signals[0].Lead)
+	if len(s.Samples) != 2500 {
+		t.Fatalf("%d samples, want 2500 (5 s)", len(s.Samples))
+	}
+	orig := rec.Signals[0].Samples
+	for k := 0; k < 2500; k++ {
+		var want float64
+		switch {
+		case k < 1000:
+			want = orig[k]
+		case k < 2000:
+			want = math.NaN()
+		default:
+			want = orig[k-1000]
+		}
+		if math.IsNaN(want) != math.IsNaN(s.Samples[k]) || (!math.IsNaN(want) && math.Abs(want-s.Samples[k]) > 0.0005) {
+			t.Fatalf("sample %d: %g, want %g", k, s.Samples[k], want)
+		}
+	}
+}
