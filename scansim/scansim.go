@@ -118,10 +118,6 @@ func Apply(src image.Image, opt Options) (image.Image, [9]float64, error) {
 	}
 	rng := rand.New(rand.NewPCG(opt.Seed, opt.Seed^0x5ca55ca55ca55ca5))
 	sb := src.Bounds()
-	// The page is made opaque (composited over white), so its pixels read
-	// the same as NRGBA or RGBA.
-	page := opaqueCopy(src)
-
 	// Draws happen in a fixed order so each stage's randomness is stable
 	// whether or not earlier stages are enabled.
 	penRng := rand.New(rand.NewPCG(rng.Uint64(), 1))
@@ -129,15 +125,18 @@ func Apply(src image.Image, opt Options) (image.Image, [9]float64, error) {
 	lightRng := rand.New(rand.NewPCG(rng.Uint64(), 3))
 	noiseRng := rand.New(rand.NewPCG(rng.Uint64(), 4))
 
+	H, w, h := homography(sb.Dx(), sb.Dy(), opt, geoRng)
+	if w*h > maxPixels || sb.Dx()*sb.Dy() > maxPixels {
+		return nil, H, fmt.Errorf("%w: output canvas %d × %d px too large", ErrOptions, w, h)
+	}
+	// The page is made opaque (composited over white), so its pixels read
+	// the same as NRGBA or RGBA.
+	page := opaqueCopy(src)
 	if opt.PenMarks > 0 {
 		drawPenMarks(page, opt.PenMarks, penRng)
 	}
 	if opt.PaperTint != (color.RGBA{}) {
 		tint(page, opt.PaperTint)
-	}
-	H, w, h := homography(sb.Dx(), sb.Dy(), opt, geoRng)
-	if w*h > maxPixels {
-		return nil, H, fmt.Errorf("%w: output canvas %d × %d px too large", ErrOptions, w, h)
 	}
 	bg := opt.Background
 	if bg == (color.RGBA{}) {

@@ -532,3 +532,36 @@ func TestPresetRanges(t *testing.T) {
 		}
 	}
 }
+
+// Grey conversion uses the ITU-R BT.601 luma weights 0.299, 0.587, 0.114.
+func TestGreyLuma(t *testing.T) {
+	cases := []struct {
+		c    color.NRGBA
+		want uint8
+	}{
+		{color.NRGBA{255, 0, 0, 255}, 76},  // 0.299·255 = 76.2
+		{color.NRGBA{0, 255, 0, 255}, 150}, // 0.587·255 = 149.7
+		{color.NRGBA{0, 0, 255, 255}, 29},  // 0.114·255 = 29.1
+		{color.NRGBA{240, 150, 150, 255}, 177},
+		{color.NRGBA{255, 255, 255, 255}, 255},
+	}
+	for _, c := range cases {
+		src := image.NewNRGBA(image.Rect(0, 0, 1, 1))
+		src.SetNRGBA(0, 0, c.c)
+		out, _, err := Apply(src, Options{Grayscale: true})
+		if err != nil {
+			t.Fatal(err)
+		}
+		if got := out.(*image.Gray).Pix[0]; got != c.want {
+			t.Errorf("%v → %d, want %d", c.c, got, c.want)
+		}
+	}
+}
+
+// An output canvas beyond the pixel budget is refused before allocation.
+func TestCanvasBudget(t *testing.T) {
+	src := image.NewGray(image.Rect(0, 0, 4000, 4000))
+	if _, _, err := Apply(src, Options{ScaleX: 4, ScaleY: 4}); !errors.Is(err, ErrOptions) {
+		t.Errorf("16 000 × 16 000 px canvas: err = %v, want ErrOptions", err)
+	}
+}
