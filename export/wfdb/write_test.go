@@ -380,3 +380,30 @@ func TestHeaderLineLength(t *testing.T) {
 		}
 	}
 }
+
+// QT Database delineation "(p)(N)t)": sel100.q1c's first beat, from the
+// data README's worked facts: PR = (150316 − 150272) × 4 ms = 176 ms,
+// QRS = (150334 − 150316) × 4 ms = 72 ms, QT = (150419 − 150316) × 4 ms
+// = 412 ms; 30 beats in all.
+func TestBeatsFromQTDBq1c(t *testing.T) {
+	dir := refdata.Dir(t, "qtdb")
+	anns, err := ReadAnnotations(filepath.Join(dir, "sel100.q1c"), 250)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(anns) != 240 {
+		t.Errorf("%d marks, want 240", len(anns))
+	}
+	beats := Beats(anns, 250)
+	if len(beats) != 30 {
+		t.Fatalf("%d beats, want 30", len(beats))
+	}
+	b := beats[0]
+	ms := func(a, z float64) float64 { return math.Round((z - a) * 1000) }
+	if pr, qrs, qt := ms(b.POn, b.QRSOn), ms(b.QRSOn, b.QRSOff), ms(b.QRSOn, b.TEnd); pr != 176 || qrs != 72 || qt != 412 {
+		t.Errorf("first beat PR %g QRS %g QT %g ms, want 176 72 412", pr, qrs, qt)
+	}
+	if math.Abs(b.R*250-150330) > 1e-6 || math.Abs(b.TPeak*250-150394) > 1e-6 {
+		t.Errorf("first beat R %g T peak %g (samples)", b.R*250, b.TPeak*250)
+	}
+}
