@@ -46,6 +46,13 @@ func Generate(p Params, seed uint64) (ecg.Record, error) {
 
 	rTimes := rhythm(r, rng)
 	classes := ectopics(r, rng, rTimes)
+	// Breathing moves the heart against the electrodes: each beat's
+	// amplitude follows a slow sine (drawn only when asked for, so records
+	// without it are unchanged).
+	respF, respPh := 0.0, 0.0
+	if r.RespirationPct > 0 {
+		respF, respPh = 0.2+0.13*rng.Float64(), 2*math.Pi*rng.Float64()
+	}
 
 	n := int(math.Round(r.DurationS * r.SampleRate))
 	var h [3][]float64
@@ -59,9 +66,10 @@ func Generate(p Params, seed uint64) (ecg.Record, error) {
 			rrPrev = tr - rTimes[k-1]
 		}
 		b, pl := beat(r, &m, classes[k], tr, rrPrev)
+		amp := r.AmplitudeScale * (1 + r.RespirationPct/100*math.Sin(2*math.Pi*respF*tr+respPh))
 		for _, q := range pl {
 			if q.g != nil {
-				add(h, q, r.SampleRate, r.AmplitudeScale)
+				add(h, q, r.SampleRate, amp)
 			}
 		}
 		if tr >= 0 && tr < r.DurationS {

@@ -34,6 +34,10 @@ type Params struct {
 	// EctopicRate is the fraction (0–0.3) of beats replaced by premature
 	// ectopic beats, about half ventricular and half atrial.
 	EctopicRate float64
+	// RespirationPct modulates each beat's amplitude by breathing: a sine
+	// of this many per cent at a rate drawn from 0.2–0.33 Hz (12–20
+	// breaths/min); 0–30, 0 = none.
+	RespirationPct float64
 	// BaselineWanderMV is the peak amplitude, mV, of slow baseline wander
 	// (a sum of sines between 0.05 and 0.5 Hz, independent per recorded lead).
 	BaselineWanderMV float64
@@ -65,7 +69,7 @@ func bad(format string, a ...any) error {
 // resolve applies defaults and validates p.
 func resolve(p Params) (resolved, error) {
 	finite := []float64{p.DurationS, p.SampleRate, p.HeartRateBPM, p.HRVStdMS, p.PRMS, p.QRSMS, p.QTMS,
-		p.PDurMS, p.AxisDeg, p.AmplitudeScale, p.EctopicRate, p.BaselineWanderMV, p.NoiseMV, p.PowerlineMV, p.PowerlineHz}
+		p.PDurMS, p.AxisDeg, p.AmplitudeScale, p.EctopicRate, p.RespirationPct, p.BaselineWanderMV, p.NoiseMV, p.PowerlineMV, p.PowerlineHz}
 	for _, v := range finite {
 		if math.IsNaN(v) || math.IsInf(v, 0) {
 			return resolved{}, bad("non-finite value")
@@ -97,6 +101,8 @@ func resolve(p Params) (resolved, error) {
 		return resolved{}, bad("heart rate %g bpm outside [20, 220]", p.HeartRateBPM)
 	case p.AmplitudeScale < 0 || p.AmplitudeScale > 20:
 		return resolved{}, bad("amplitude scale %g outside (0, 20]", p.AmplitudeScale)
+	case p.RespirationPct < 0 || p.RespirationPct > 30:
+		return resolved{}, bad("respiratory modulation %g %% outside [0, 30]", p.RespirationPct)
 	case p.EctopicRate < 0 || p.EctopicRate > 0.3:
 		return resolved{}, bad("ectopic rate %g outside [0, 0.3]", p.EctopicRate)
 	case p.HRVStdMS < 0, p.BaselineWanderMV < 0, p.NoiseMV < 0, p.PowerlineMV < 0, p.PowerlineHz < 0,

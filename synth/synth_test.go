@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"math"
 	"math/rand/v2"
+	"slices"
 	"testing"
 
 	"tracelift/ecg"
@@ -433,6 +434,49 @@ func TestWanderAndMains(t *testing.T) {
 	}
 }
 
+// Respiratory modulation: R amplitude in II swings by the requested
+// fraction at a breathing rate of 12–20 per minute; without it every beat
+// is the same.
+func TestRespiration(t *testing.T) {
+	p := Default()
+	p.DurationS = 30
+	flat := gen(t, p, 14)
+	p.RespirationPct = 10
+	resp := gen(t, p, 14)
+	rAmp := func(rec ecg.Record) []float64 {
+		var out []float64
+		for _, b := range rec.Beats {
+			if !math.IsNaN(b.QRSOn) && !math.IsNaN(b.QRSOff) {
+				_, r, _ := netQRS(rec, ecg.LeadII, b)
+				out = append(out, r)
+			}
+		}
+		return out
+	}
+	f, m := rAmp(flat), rAmp(resp)
+	lo, hi := slices.Min(f), slices.Max(f)
+	if hi-lo > 0.005*hi {
+		t.Errorf("unmodulated R amplitudes vary %.3f–%.3f mV", lo, hi)
+	}
+	mlo, mhi := slices.Min(m), slices.Max(m)
+	swing := (mhi - mlo) / (mhi + mlo) // ≈ modulation depth
+	t.Logf("R in II %.3f–%.3f mV, depth %.3f", mlo, mhi, swing)
+	if swing < 0.07 || swing > 0.105 {
+		t.Errorf("modulation depth %.3f, want about 0.10", swing)
+	}
+	// Sign changes of (R − mean) give the breathing rate.
+	mean, _ := meanSD(m)
+	cross := 0
+	for k := 1; k < len(m); k++ {
+		if (m[k]-mean)*(m[k-1]-mean) < 0 {
+			cross++
+		}
+	}
+	if rate := float64(cross) / 2 / p.DurationS * 60; rate < 10 || rate > 22 {
+		t.Errorf("breathing rate %.1f/min from %d crossings, want 12–20", rate, cross)
+	}
+}
+
 func TestBadParams(t *testing.T) {
 	mod := func(f func(*Params)) Params { p := Default(); f(&p); return p }
 	cases := map[string]Params{
@@ -448,6 +492,7 @@ func TestBadParams(t *testing.T) {
 		"sample rate":     mod(func(p *Params) { p.SampleRate = 10 }),
 		"HRV too large":   mod(func(p *Params) { p.HRVStdMS = 500 }),
 		"no samples":      mod(func(p *Params) { p.DurationS = 0.001 }),
+		"respiration":     mod(func(p *Params) { p.RespirationPct = 50 }),
 	}
 	for name, p := range cases {
 		if _, err := Generate(p, 1); !errors.Is(err, ErrParams) {
