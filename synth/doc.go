@@ -56,6 +56,10 @@
 // with the strength of the scaling taken from the QT literature; the
 // default QT is that of a QTc of 400 ms at the requested rate.
 //
+// Optional respiratory modulation scales each beat's amplitude by a slow
+// sine at a breathing rate of 12–20 per minute (common practice: breathing
+// shifts the heart against the electrodes).
+//
 // Premature ventricular beats are wide, have no P wave and a T wave opposite
 // to the QRS, and are followed by a compensatory pause; premature atrial
 // beats come early with an ectopic P wave and reset the sinus rhythm.

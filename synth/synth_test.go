@@ -644,7 +644,7 @@ func TestRandomParamsRobust(t *testing.T) {
 		p := Params{
 			DurationS: u(0.5, 12), SampleRate: u(50, 1000), HeartRateBPM: u(20, 220),
 			HRVStdMS: u(0, 60), PRMS: u(0, 300), QRSMS: u(0, 200), QTMS: u(0, 600) * float64(rng.IntN(2)),
-			AxisDeg: u(-180, 180), AmplitudeScale: u(0.1, 5), EctopicRate: u(0, 0.3),
+			AxisDeg: u(-180, 180), AmplitudeScale: u(0.1, 5), EctopicRate: u(0, 0.3), RespirationPct: u(0, 30),
 			BaselineWanderMV: u(0, 1), NoiseMV: u(0, 0.1), PowerlineMV: u(0, 0.1), PowerlineHz: 50,
 		}
 		rec, err := Generate(p, uint64(i))
