@@ -503,8 +503,17 @@ func sampleRow(pts []Point, xStart, t0, t1 float64, cal grid.Calibration, zeroY,
 	return out
 }
 
-// flagLeads lists leads whose quality is poor or whose limb residual is
-// far above the others'.
+// limbFlagUV is the Einthoven/Goldberger residual above which the limb
+// leads are suspected, µV: several times the residual of good extractions
+// of clean pages (≈ 10–30 µV on this project's corpus; a project choice,
+// not a published value).
+const limbFlagUV = 60
+
+// flagLeads lists leads whose quality is poor or that break the limb-lead
+// identities: when the residual is high, the lead whose removal brings it
+// down the most (leave one out, needs four simultaneous limb leads) is
+// flagged; failing that, the leads whose own residual is far above the
+// others'.
 func flagLeads(res *Result, limbOK bool) []ecg.Lead {
 	flag := map[ecg.Lead]bool{}
 	for l, q := range res.Quality {
@@ -512,17 +521,37 @@ func flagLeads(res *Result, limbOK bool) []ecg.Lead {
 			flag[l] = true
 		}
 	}
-	if limbOK && len(res.Limb.PerLeadUV) >= 3 {
-		var vs []float64
-		for _, v := range res.Limb.PerLeadUV {
-			vs = append(vs, v)
+	if limbOK && res.Limb.ResidualUV > limbFlagUV {
+		best, bestR := ecg.LeadUnknown, res.Limb.ResidualUV
+		for _, l := range ecg.LimbLeads {
+			if res.Record.Signal(l) == nil {
+				continue
+			}
+			var r ecg.Record
+			for _, s := range res.Record.Signals {
+				if s.Lead != l {
+					r.Signals = append(r.Signals, s)
+				}
+			}
+			if c, ok := ecg.CheckLimb(&r); ok && c.Seconds > 0.5*res.Limb.Seconds && c.ResidualUV < bestR {
+				best, bestR = l, c.ResidualUV
+			}
 		}
-		sort.Float64s(vs)
-		med := vs[len(vs)/2]
-		for l, v := range res.Limb.PerLeadUV {
-			if v > 3*med && v > 60 {
-				flag[l] = true
-				res.Warnings = append(res.Warnings, fmt.Sprintf("lead %v: limb-lead residual %.0f µV, %.1f× the median", l, v, v/med))
+		if best != ecg.LeadUnknown && bestR < 0.5*res.Limb.ResidualUV {
+			flag[best] = true
+			res.Warnings = append(res.Warnings, fmt.Sprintf("lead %v breaks the Einthoven/Goldberger identities (residual %.0f µV, %.0f µV without it)", best, res.Limb.ResidualUV, bestR))
+		} else {
+			var vs []float64
+			for _, v := range res.Limb.PerLeadUV {
+				vs = append(vs, v)
+			}
+			sort.Float64s(vs)
+			med := vs[len(vs)/2]
+			for l, v := range res.Limb.PerLeadUV {
+				if v > 2*med && v > limbFlagUV {
+					flag[l] = true
+					res.Warnings = append(res.Warnings, fmt.Sprintf("lead %v: limb-lead residual %.0f µV, %.1f× the median", l, v, v/med))
+				}
 			}
 		}
 	}

@@ -139,7 +139,7 @@ func TestFollowGapAndIntrusion(t *testing.T) {
 	stroke(m, []Point{{0, 100}, {120, 100}}, 1.5)
 	stroke(m, []Point{{132, 100}, {300, 100}}, 1.5)
 	stroke(m, []Point{{196, 0}, {200, 90}, {204, 0}}, 1.5) // intruding spike
-	for y := 60; y < 75; y++ {                                // text blob
+	for y := 60; y < 75; y++ {                             // text blob
 		for x := 40; x < 70; x++ {
 			if (x/3+y/3)%2 == 0 {
 				m.Pix[y*m.Stride+x] = 255

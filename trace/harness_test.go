@@ -157,3 +157,9 @@ func writeOverlay(t testing.TB, name string, img image.Image, res *Result) {
 	defer f.Close()
 	png.Encode(f, out)
 }
+
+func renderBlank() image.Image {
+	return image.NewGray(image.Rect(0, 0, 400, 300))
+}
+
+func renderOptions(layout string) render.Options { return render.Options{Layout: layout} }

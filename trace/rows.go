@@ -15,7 +15,7 @@ type rowInfo struct {
 	x0, x1   int     // horizontal extent of the row's ink, px
 	traceX0  float64 // left edge of the trace (after the calibration pulse), px
 	hasPulse bool
-	pulseMM  float64 // height of a pulse found here by findPulse, mm (0 if none or from grid)
+	pulseMM  float64   // height of a pulse found here by findPulse, mm (0 if none or from grid)
 	score    float64   // coverage of the row's extent by ink near the baseline, 0..1
 	ticks    []float64 // x of tall isolated strokes (column separators), px
 }

@@ -1,0 +1,135 @@
+package trace
+
+import (
+	"math"
+	"testing"
+
+	"tracelift/ecg"
+)
+
+func TestParseLayoutStandard(t *testing.T) {
+	// Arrangements from standards.md §1.2 (common practice): 3 × 4 rows
+	// I/aVR/V1/V4, II/aVL/V2/V5, III/aVF/V3/V6 over consecutive 2.5 s
+	// windows; 6 × 2 with 5 s columns; Cabrera aVL, I, −aVR, II, aVF, III.
+	tests := []struct {
+		name     string
+		rows     int
+		dur      float64
+		row, col int
+		lead     ecg.Lead
+		neg      bool
+		t0, t1   float64
+	}{
+		{"3x4", 3, 10, 0, 1, ecg.LeadAVR, false, 2.5, 5},
+		{"3x4", 3, 10, 2, 3, ecg.LeadV6, false, 7.5, 10},
+		{"3x4+1", 4, 10, 3, 0, ecg.LeadII, false, 0, 10},
+		{"3x4+3", 6, 10, 4, 0, ecg.LeadV1, false, 0, 10},
+		{"6x2", 6, 10, 5, 1, ecg.LeadV6, false, 5, 10},
+		{"12x1", 12, 10, 11, 0, ecg.LeadV6, false, 0, 10},
+		{"cabrera-3x4", 3, 10, 2, 0, ecg.LeadAVR, true, 0, 2.5},
+		{"cabrera-3x4", 3, 10, 0, 1, ecg.LeadII, false, 2.5, 5},
+		{"rhythm", 1, 10, 0, 0, ecg.LeadII, false, 0, 10},
+	}
+	for _, tc := range tests {
+		t.Run(tc.name, func(t *testing.T) {
+			l, err := ParseLayout(tc.name)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if len(l.Rows) != tc.rows || l.DurationS() != tc.dur {
+				t.Fatalf("rows %d dur %g, want %d %g", len(l.Rows), l.DurationS(), tc.rows, tc.dur)
+			}
+			c := l.Rows[tc.row].Cells[tc.col]
+			if c.Lead != tc.lead || c.Negated != tc.neg || c.T0S != tc.t0 || c.T1S != tc.t1 {
+				t.Errorf("cell (%d,%d) = %+v, want %v neg=%v %g–%g s", tc.row, tc.col, c, tc.lead, tc.neg, tc.t0, tc.t1)
+			}
+		})
+	}
+}
+
+func TestParseLayoutDescription(t *testing.T) {
+	l, err := ParseLayout("rows=4;cols=4;sec=2.5;cells=I,aVR,V1,V4/II,aVL,V2,V5/III,aVF,V3,V6/II*")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if l.Name != "custom" || len(l.Rows) != 4 || !l.Rows[3].Rhythm || l.Rows[3].Cells[0].T1S != 10 {
+		t.Fatalf("got %+v", l)
+	}
+	// A 30 s rhythm of II over three rows.
+	l, err = ParseLayout("sec=10;cells=II/II~/II~")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if got := l.Rows[2].Cells[0]; got.T0S != 20 || got.T1S != 30 {
+		t.Errorf("third row window %g–%g, want 20–30", got.T0S, got.T1S)
+	}
+	// String renders a description that parses back to the same cells.
+	std, _ := ParseLayout("cabrera-3x4")
+	back, err := ParseLayout(std.String())
+	if err != nil {
+		t.Fatalf("%q: %v", std.String(), err)
+	}
+	for r := range std.Rows {
+		for c := range std.Rows[r].Cells {
+			if std.Rows[r].Cells[c] != back.Rows[r].Cells[c] {
+				t.Errorf("round trip cell (%d,%d): %+v vs %+v", r, c, std.Rows[r].Cells[c], back.Rows[r].Cells[c])
+			}
+		}
+	}
+}
+
+func TestParseLayoutErrors(t *testing.T) {
+	for _, s := range []string{
+		"", "4x3", "sec=0;cells=I", "sec=x;cells=I", "cells=I,Q9", "cells=I,II*",
+		"rows=2;cells=I", "cols=1;cells=I,II", "colour=red;cells=I", "sec=2.5",
+	} {
+		if _, err := ParseLayout(s); err == nil {
+			t.Errorf("ParseLayout(%q): want an error", s)
+		}
+	}
+}
+
+func TestSNR(t *testing.T) {
+	const fs = 500.0
+	n := 5000
+	sine := func(amp, off, shift float64) ecg.Signal {
+		s := ecg.Signal{Lead: ecg.LeadII, SampleRate: fs, Samples: make([]float64, n)}
+		for i := range s.Samples {
+			t := float64(i)/fs - shift
+			s.Samples[i] = amp*math.Sin(2*math.Pi*1.3*t) + off
+		}
+		return s
+	}
+	truth := ecg.Record{Signals: []ecg.Signal{sine(1, 0, 0)}}
+	// Estimate = truth + 0.1 mV offset: strict SNR = 10·log10((A²/2)/c²)
+	// = 10·log10(0.5/0.01) = 16.99 dB; the lenient one removes the offset.
+	est := ecg.Record{Signals: []ecg.Signal{sine(1, 0.1, 0)}}
+	if got := SNR(truth, est, SNROptions{}).PerLead[ecg.LeadII]; math.Abs(got-16.99) > 0.05 {
+		t.Errorf("strict SNR = %.3f dB, want 16.99", got)
+	}
+	if got := SNR(truth, est, Lenient).PerLead[ecg.LeadII]; got < 60 {
+		t.Errorf("lenient SNR with offset = %.1f dB, want ≥ 60", got)
+	}
+	// A missing lead counts as zero: 0 dB.
+	if got := SNR(truth, ecg.Record{}, SNROptions{}).PerLead[ecg.LeadII]; got != 0 {
+		t.Errorf("missing lead SNR = %g, want 0", got)
+	}
+	// A 20 ms delay is found by the lenient search within ±60 ms.
+	late := ecg.Record{Signals: []ecg.Signal{sine(1, 0, 0.020)}}
+	sc := SNR(truth, late, Lenient)
+	if math.Abs(sc.ShiftS-0.020) > 1e-9 || sc.PerLead[ecg.LeadII] < 40 {
+		t.Errorf("shift %.4f s SNR %.1f dB, want 0.020 s and ≥ 40 dB", sc.ShiftS, sc.PerLead[ecg.LeadII])
+	}
+	// NaN in the truth marks unprinted time: those samples are ignored.
+	tr := truth.Clone()
+	for i := 0; i < n/2; i++ {
+		tr.Signals[0].Samples[i] = math.NaN()
+	}
+	half := est.Clone()
+	for i := n / 2; i < n; i++ {
+		half.Signals[0].Samples[i] = math.NaN()
+	}
+	if got := SNR(tr, half, SNROptions{}).PerLead[ecg.LeadII]; math.Abs(got) > 1e-9 {
+		t.Errorf("estimate only where the truth is unprinted: %g dB, want 0", got)
+	}
+}
