@@ -42,16 +42,17 @@ type delinParams struct {
 	tWinRR                 float64 // T search ends at this fraction of RR after the fiducial (0.3–0.65 s)
 	combFrac               float64 // global QRS onset = value at this rank fraction from the earliest (0: earliest); offset alike
 	combFracP, combFracT   float64 // the same for P and T end
+	qrsTol                 float64 // s, leads further than this from the median lead's QRS onset/offset are left out
 	tKeep                  float64 // T end only from leads with relative T amplitude ≥ tKeep × the largest
 	tEndMethod             float64 // 0: Zhang area indicator; 1: slope threshold xiTEnd
 	xiTEnd                 float64
 }
 
 var defaultDelin = delinParams{
-	sigmaQ: 0.006, sigmaP: 0.014, sigmaT: 0.024,
+	sigmaQ: 0.004, sigmaP: 0.014, sigmaT: 0.024,
 	gammaQ: 0.15, qrsGap: 0.045,
-	envTheta: 0.02, envGap: 0.02, envMargin: 0.015,
-	xiQOn: 0.1, xiQOff: 0.1,
+	envTheta: 0.02, envGap: 0.02, envMargin: 0.015, qrsTol: 0.04,
+	xiQOn: 0.07, xiQOff: 0.07,
 	xiPOn: 0.4, xiPOff: 0.5, combFracP: 0.15,
 	pMinRatio: 0.03, tMinRatio: 0.03,
 	zhangW: 0.10, tWinRR: 0.62, tKeep: 0.6, tEndMethod: 1, xiTEnd: 0.15,

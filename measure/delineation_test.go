@@ -198,11 +198,11 @@ func TestIntervalsLUDB(t *testing.T) {
 		t.Logf("LUDB %s", s)
 	}
 	checkBounds(t, "LUDB", st, ludbBounds)
-	// P presence: found in 20 of the 22 records whose experts marked P;
+	// P presence: found in all 22 records whose experts marked P;
 	// reported in 1 of the 7 without (record 45, atrial and ventricular
 	// pacing).
-	if st[0].foundP < 20 || st[0].falseP > 1 {
-		t.Errorf("LUDB P found in %d of %d (want ≥ 20), reported in %d of %d without (want ≤ 1)", st[0].foundP, st[0].refP, st[0].falseP, st[0].noRefP)
+	if st[0].foundP < 22 || st[0].falseP > 1 {
+		t.Errorf("LUDB P found in %d of %d (want 22), reported in %d of %d without (want ≤ 1)", st[0].foundP, st[0].refP, st[0].falseP, st[0].noRefP)
 	}
 }
 
@@ -234,15 +234,16 @@ func evalLUDB(t *testing.T, opt *Options, verbose bool) []*diffStats {
 }
 
 // Bounds asserted on |mean| and SD (ms), set just above the performance
-// measured when these tests were written (LUDB: P −5.0±10.8, PR −2.2±9.9,
-// QRS −6.2±20.4, QT −11.4±28.9; QTDB: P +12.3±9.7, PR +2.6±8.8,
-// QRS +2.4±11.0, QT +3.6±21.2). Against the IEC 60601-2-25 targets (from
-// memory) P and PR meet them, QRS misses the SD (±10 ms) and LUDB QT is at
-// the SD limit (±30 ms). The delineation thresholds were chosen while
-// looking at these same two datasets, so these are not independent
-// validation figures.
-var ludbBounds = map[string][2]float64{"P": {7, 13}, "PR": {5, 12}, "QRS": {9, 23}, "QT": {14, 32}}
-var qtdbBounds = map[string][2]float64{"P": {15, 12}, "PR": {5, 11}, "QRS": {5, 13}, "QT": {7, 24}}
+// measured when these tests were written (LUDB: P −4.0±10.9, PR +0.5±10.9,
+// QRS −7.7±16.2, QT −11.4±28.4; QTDB: P +12.9±9.5, PR +5.4±8.7,
+// QRS −0.6±11.9, QT +1.2±21.9). Against the IEC 60601-2-25 targets (from
+// memory: P ±10/15, PR ±10/10, QRS ±6/10, QT ±25/30) P, PR (LUDB SD 10.9)
+// and QT are at or within them; QRS misses the SD (16 and 12 ms against
+// 10) and LUDB its mean (−7.7 against ±6). The delineation thresholds
+// were chosen while looking at these same two datasets, so these are not
+// independent validation figures.
+var ludbBounds = map[string][2]float64{"P": {6, 13}, "PR": {3, 13}, "QRS": {10, 18}, "QT": {14, 31}}
+var qtdbBounds = map[string][2]float64{"P": {15, 12}, "PR": {7, 11}, "QRS": {3, 14}, "QT": {4, 24}}
 
 func checkBounds(t *testing.T, set string, st []*diffStats, b map[string][2]float64) {
 	t.Helper()

@@ -342,8 +342,8 @@ func combineLeads(ws []waves, fs float64, p *delinParams) waves {
 		}
 		return kept[len(kept)-1-k]
 	}
-	g.qrsOn = pick(func(w waves) float64 { return w.qrsOn }, 0.04, true, 1, p.combFrac)
-	g.qrsOff = pick(func(w waves) float64 { return w.qrsOff }, 0.04, false, 1, p.combFrac)
+	g.qrsOn = pick(func(w waves) float64 { return w.qrsOn }, p.qrsTol, true, 1, p.combFrac)
+	g.qrsOff = pick(func(w waves) float64 { return w.qrsOff }, p.qrsTol, false, 1, p.combFrac)
 	// T end only from leads whose T wave is at least tKeep × the largest
 	// relative T amplitude (|T| / QRS peak-to-peak): a flat T gives no
 	// reliable end and tends to merge with a U wave.
