@@ -540,3 +540,44 @@ func BenchmarkRenderA4(b *testing.B) {
 		}
 	}
 }
+
+// TestDeterministic: the same record and options give the same pixels
+// and truth (the evaluation corpus relies on it), also with a scan.
+func TestDeterministic(t *testing.T) {
+	rec := testRecord(500, 10)
+	o, err := ConditionOptions("scan", 11)
+	if err != nil {
+		t.Fatal(err)
+	}
+	o.DPI = 80
+	o.Scan, err = ConditionScan("scan", 80, 11)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var a, b [2]bytes.Buffer
+	for _, buf := range []*[2]bytes.Buffer{&a, &b} {
+		p, err := Render(rec, o)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if err := p.WritePNG(&buf[0]); err != nil {
+			t.Fatal(err)
+		}
+		if err := p.WriteTruth(&buf[1]); err != nil {
+			t.Fatal(err)
+		}
+	}
+	if !bytes.Equal(a[0].Bytes(), b[0].Bytes()) || !bytes.Equal(a[1].Bytes(), b[1].Bytes()) {
+		t.Error("two renders of the same input differ")
+	}
+}
+
+func BenchmarkWritePDF(b *testing.B) {
+	rec := testRecord(500, 10)
+	opt := &Options{Layout: Layout3x4R1}
+	for b.Loop() {
+		if err := WritePDF(io.Discard, rec, opt); err != nil {
+			b.Fatal(err)
+		}
+	}
+}
