@@ -3,7 +3,10 @@ package decode
 import (
 	"bytes"
 	"encoding/binary"
+	"image"
+	"image/jpeg"
 	"image/png"
+	"math/rand/v2"
 	"testing"
 )
 
@@ -36,6 +39,25 @@ func BenchmarkDecodePNG(b *testing.B) {
 	benchDecode(b, data, "page.png")
 }
 
+// BenchmarkDecodePNGNoisy adds seeded ±4-level noise to every pixel, as a
+// scanner sensor does, which makes the PNG far less compressible (closer
+// to a real scan's file size).
+func BenchmarkDecodePNGNoisy(b *testing.B) {
+	page := ecgPage(benchW, benchH, 300/25.4)
+	rng := rand.New(rand.NewPCG(1, 1))
+	for i := 0; i < len(page.Pix); i += 4 {
+		for c := 0; c < 3; c++ {
+			v := int(page.Pix[i+c]) + rng.IntN(9) - 4
+			page.Pix[i+c] = uint8(min(max(v, 0), 255))
+		}
+	}
+	var buf bytes.Buffer
+	if err := png.Encode(&buf, page); err != nil {
+		b.Fatal(err)
+	}
+	benchDecode(b, buf.Bytes(), "noisy.png")
+}
+
 // BenchmarkDecodeJPEG decodes the same page as a quality-90 JPEG with a
 // JFIF density segment.
 func BenchmarkDecodeJPEG(b *testing.B) {
@@ -54,4 +76,28 @@ func BenchmarkDecodeJPEGRotated(b *testing.B) {
 func BenchmarkDecodePDF(b *testing.B) {
 	j := jpegBytes(b, ecgPage(benchW, benchH, 300/25.4), 90)
 	benchDecode(b, pdfFromJPEGs(b, [][]byte{j}, 300), "scan.pdf")
+}
+
+// BenchmarkOrient turns a decoded 3508 × 2480 page by 90° (orientation 6).
+func BenchmarkOrient(b *testing.B) {
+	var buf bytes.Buffer
+	if err := jpeg.Encode(&buf, ecgPage(benchW, benchH, 300/25.4), &jpeg.Options{Quality: 90}); err != nil {
+		b.Fatal(err)
+	}
+	ycc, err := jpeg.Decode(&buf)
+	if err != nil {
+		b.Fatal(err)
+	}
+	gray := image.NewGray(image.Rect(0, 0, benchW, benchH))
+	for _, tc := range []struct {
+		name string
+		img  image.Image
+	}{{"YCbCr", ycc}, {"Gray", gray}} {
+		b.Run(tc.name, func(b *testing.B) {
+			b.ReportAllocs()
+			for b.Loop() {
+				Orient(tc.img, 6)
+			}
+		})
+	}
 }

@@ -67,6 +67,9 @@ func Orient(img image.Image, o int) image.Image {
 		remap(d.Pix, d.Stride, s.Pix[s.PixOffset(b.Min.X, b.Min.Y):], s.Stride, 8, dw, dh, m)
 		return d
 	case *image.YCbCr:
+		if b.Min.X < 0 || b.Min.Y < 0 {
+			break // the fast converter assumes non-negative coordinates
+		}
 		d := image.NewNRGBA(dr)
 		orientYCbCr(d, s, m)
 		return d
@@ -121,6 +124,14 @@ func remap(dst []byte, dstStride int, src []byte, srcStride, bpp, dw, dh int, m 
 			}
 			continue
 		}
+		if bpp == 4 {
+			for do := 0; do < len(row); do += 4 {
+				d, s := row[do:do+4:do+4], src[so:so+4:so+4]
+				d[0], d[1], d[2], d[3] = s[0], s[1], s[2], s[3]
+				so += stepX
+			}
+			continue
+		}
 		for do := 0; do < len(row); do += bpp {
 			copy(row[do:do+bpp], src[so:so+bpp])
 			so += stepX
@@ -128,23 +139,46 @@ func remap(dst []byte, dstStride int, src []byte, srcStride, bpp, dw, dh int, m 
 	}
 }
 
-// orientYCbCr converts s to RGB while remapping it through m.
+// orientYCbCr converts s to RGB row by row (sequential reads), then
+// remaps the RGB pixels through m.
 func orientYCbCr(d *image.NRGBA, s *image.YCbCr, m affine) {
+	n := ycbcrToNRGBA(s)
+	remap(d.Pix, d.Stride, n.Pix, n.Stride, 4, d.Rect.Dx(), d.Rect.Dy(), m)
+}
+
+// ycbcrToNRGBA converts s to an opaque *image.NRGBA with bounds at (0, 0)
+// (JFIF YCbCr → RGB as in color.YCbCrToRGB).
+func ycbcrToNRGBA(s *image.YCbCr) *image.NRGBA {
 	b := s.Rect
-	dw, dh := d.Rect.Dx(), d.Rect.Dy()
-	for dy := 0; dy < dh; dy++ {
-		row := d.Pix[dy*d.Stride : dy*d.Stride+dw*4]
-		sx := m.bx*dy + m.cx
-		sy := m.by*dy + m.cy
-		for dx := 0; dx < dw; dx++ {
-			x, y := b.Min.X+sx, b.Min.Y+sy
-			yi := s.YOffset(x, y)
-			ci := s.COffset(x, y)
-			r, g, bb := color.YCbCrToRGB(s.Y[yi], s.Cb[ci], s.Cr[ci])
-			p := row[dx*4 : dx*4+4 : dx*4+4]
-			p[0], p[1], p[2], p[3] = r, g, bb, 0xFF
-			sx += m.ax
-			sy += m.ay
+	w, h := b.Dx(), b.Dy()
+	n := image.NewNRGBA(image.Rect(0, 0, w, h))
+	var hx, hy int // chroma subsampling shifts
+	switch s.SubsampleRatio {
+	case image.YCbCrSubsampleRatio422:
+		hx = 1
+	case image.YCbCrSubsampleRatio420:
+		hx, hy = 1, 1
+	case image.YCbCrSubsampleRatio440:
+		hy = 1
+	case image.YCbCrSubsampleRatio411:
+		hx = 2
+	case image.YCbCrSubsampleRatio410:
+		hx, hy = 2, 1
+	}
+	for y := 0; y < h; y++ {
+		sy := b.Min.Y + y
+		yrow := s.Y[(sy-s.Rect.Min.Y)*s.YStride:]
+		crow := (sy>>hy - s.Rect.Min.Y>>hy) * s.CStride
+		cb, cr := s.Cb[crow:], s.Cr[crow:]
+		dst := n.Pix[y*n.Stride : y*n.Stride+4*w]
+		cx0 := s.Rect.Min.X >> hx
+		for x := 0; x < w; x++ {
+			sx := b.Min.X + x
+			ci := sx>>hx - cx0
+			r, g, bl := color.YCbCrToRGB(yrow[sx-s.Rect.Min.X], cb[ci], cr[ci])
+			p := dst[4*x : 4*x+4 : 4*x+4]
+			p[0], p[1], p[2], p[3] = r, g, bl, 0xFF
 		}
 	}
+	return n
 }
