@@ -720,3 +720,57 @@ func TestPartialFiles(t *testing.T) {
 		t.Errorf("joined: %q", m.Error())
 	}
 }
+
+// TestWebPExif wraps x/image's lossless test WebP in the extended format
+// (a VP8X header with the Exif flag, then the VP8L chunk, then an EXIF
+// chunk holding orientation 6; WebP container specification, Google) and
+// checks the orientation is applied.
+func TestWebPExif(t *testing.T) {
+	simple := modCacheFile(t, "testdata/gopher-doc.8bpp.lossless.webp")
+	plain := readerPages(t, simple, "plain.webp", nil)[0]
+	w, h := plain.Image.Bounds().Dx(), plain.Image.Bounds().Dy()
+	chunk := func(fcc string, data []byte) []byte {
+		out := append([]byte(fcc), 0, 0, 0, 0)
+		binary.LittleEndian.PutUint32(out[4:], uint32(len(data)))
+		out = append(out, data...)
+		if len(data)%2 == 1 {
+			out = append(out, 0)
+		}
+		return out
+	}
+	vp8x := []byte{0x08, 0, 0, 0, byte(w - 1), byte((w - 1) >> 8), byte((w - 1) >> 16), byte(h - 1), byte((h - 1) >> 8), byte((h - 1) >> 16)}
+	body := append([]byte("WEBP"), chunk("VP8X", vp8x)...)
+	body = append(body, simple[12:]...) // the VP8L chunk as stored
+	body = append(body, chunk("EXIF", exifBlock(binary.LittleEndian, 6))...)
+	file := append([]byte("RIFF\x00\x00\x00\x00"), body...)
+	binary.LittleEndian.PutUint32(file[4:], uint32(len(body)))
+
+	p := readerPages(t, file, "turned.webp", nil)[0]
+	if p.Orientation != 6 || p.Image.Bounds().Dx() != h || p.Image.Bounds().Dy() != w {
+		t.Fatalf("orientation %d size %v", p.Orientation, p.Image.Bounds())
+	}
+	want := Orient(plain.Image, 6)
+	for y := 0; y < w; y += 3 {
+		for x := 0; x < h; x += 3 {
+			if color.NRGBAModel.Convert(p.Image.At(x, y)) != color.NRGBAModel.Convert(want.At(x, y)) {
+				t.Fatalf("pixel (%d,%d)", x, y)
+			}
+		}
+	}
+}
+
+// TestPNGExif: an eXIf chunk (PNG Extensions 1.5.0 / PNG 3rd edition;
+// Exif without the "Exif\0\0" prefix) with orientation 3 turns the page
+// 180°, and pHYs still gives 300 dpi.
+func TestPNGExif(t *testing.T) {
+	g := grayPattern(13, 7)
+	b := pngBytes(t, g, pHYs(11811, 11811), pngChunk("eXIf", exifBlock(binary.BigEndian, 3)))
+	p := readerPages(t, b, "turned.png", nil)[0]
+	if p.Orientation != 3 || !near(p.DPIX, 300, 0.01) {
+		t.Fatalf("orientation %d dpi %g", p.Orientation, p.DPIX)
+	}
+	sameGray(t, p.Image, Orient(g, 3).(*image.Gray))
+	if v := p.Image.(*image.Gray).GrayAt(12, 6).Y; v != g.GrayAt(0, 0).Y {
+		t.Errorf("bottom-right %d, want the stored top-left %d", v, g.GrayAt(0, 0).Y)
+	}
+}
