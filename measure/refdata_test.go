@@ -114,6 +114,11 @@ func TestDetectMITBIH100(t *testing.T) {
 	}
 	det := beatTimes(beats)
 	end := float64(len(rec.Signals[0].Samples)) / h.Fs
+	// Classes against the reference labels (2239 N, 33 A, 1 V).
+	conf := classAgreement(t, filepath.Join(dir, "100.atr"), h.Fs, beats)
+	if conf[[2]string{"A", "A"}] < 30 || conf[[2]string{"V", "V"}] < 1 || conf[[2]string{"N", "N"}] < 2228 {
+		t.Errorf("mitdb 100 classes: want ≥ 30/33 A, 1/1 V, ≥ 2228/2239 N (99.5 %%), got %v", conf)
+	}
 	for _, c := range []struct {
 		name string
 		from float64
@@ -151,6 +156,9 @@ func TestDetectQTDB(t *testing.T) {
 		if filepath.Ext(ann) == ".man" {
 			from, to = ref[0]-0.2, ref[len(ref)-1]+0.2
 		}
+		if filepath.Ext(ann) == ".atr" {
+			classAgreement(t, filepath.Join(dir, ann), h.Fs, beats)
+		}
 		tp, fn, fp := score(ref, beatTimes(beats), from, to)
 		se := float64(tp) / float64(tp+fn)
 		pp := float64(tp) / float64(tp+fp)
@@ -159,4 +167,30 @@ func TestDetectQTDB(t *testing.T) {
 			t.Errorf("qtdb %s: Se %.4f +P %.4f, want ≥ 0.995 (task target)", name, se, pp)
 		}
 	}
+}
+
+// classAgreement logs a confusion table of reference beat labels (N, A, V
+// and others) against detected classes, for matched beats.
+func classAgreement(t *testing.T, atr string, fs float64, beats []ecg.Beat) map[[2]string]int {
+	t.Helper()
+	anns, err := wfdb.ReadAnnotations(atr, fs)
+	if err != nil {
+		t.Fatal(err)
+	}
+	conf := map[[2]string]int{}
+	j := 0
+	for _, a := range anns {
+		if !isBeat(a.Code) {
+			continue
+		}
+		r := float64(a.Sample) / fs
+		for j < len(beats) && beats[j].R < r-0.15 {
+			j++
+		}
+		if j < len(beats) && math.Abs(beats[j].R-r) <= 0.15 {
+			conf[[2]string{a.Symbol, string(rune(beats[j].Class))}]++
+		}
+	}
+	t.Logf("beat classes (reference, detected): %v", conf)
+	return conf
 }
