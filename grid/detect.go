@@ -68,6 +68,14 @@ func Detect(p *imageproc.Page, opt *Options) (*Result, error) {
 		// show up as a 5:1 disagreement.
 		px, py = reconcile(px, py)
 	}
+	// A resolution prior (the user's, else metadata) settles a 5:1
+	// mix-up of minor and major lines on each axis.
+	if okx {
+		px.pitch = settle5(px.pitch, orOther(o.DPIX, p.DPIX), &r.Warnings, "x")
+	}
+	if oky {
+		py.pitch = settle5(py.pitch, orOther(o.DPIY, p.DPIY), &r.Warnings, "y")
+	}
 	if okx {
 		r.Calibration.PxPerMMX = Value{px.pitch, FromGrid}
 		r.MinorPitchX = px.pitch
@@ -252,4 +260,26 @@ func darkness(g, ink *image.Gray) *image.Gray {
 		}
 	}
 	return d
+}
+
+// settle5 compares a grid pitch (px/mm) with a resolution prior (dpi, 0
+// for none): a ratio near 5 or 1/5 means major lines were taken for minor
+// ones or the reverse, and is corrected; any other large disagreement is
+// reported (the page may have been printed or scanned at another scale).
+func settle5(pitch, dpi float64, warn *[]string, axis string) float64 {
+	if dpi <= 0 {
+		return pitch
+	}
+	prior := dpi / 25.4
+	switch ratio := pitch / prior; {
+	case math.Abs(ratio/5-1) < 0.12:
+		*warn = append(*warn, fmt.Sprintf("grid: %s pitch %.3g px looked like 1 mm but the resolution says 5 mm; using %.4g px/mm", axis, pitch, pitch/5))
+		return pitch / 5
+	case math.Abs(ratio*5-1) < 0.12:
+		*warn = append(*warn, fmt.Sprintf("grid: %s pitch %.3g px looked like 5 mm but the resolution says 1 mm; using %.4g px/mm", axis, pitch, pitch*5))
+		return pitch * 5
+	case math.Abs(ratio-1) > 0.15:
+		*warn = append(*warn, fmt.Sprintf("grid: %s grid gives %.4g px/mm but the resolution says %.4g; trusting the grid", axis, pitch, prior))
+	}
+	return pitch
 }

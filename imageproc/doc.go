@@ -7,15 +7,18 @@
 //     upper envelope of the page (a high percentile per block on a
 //     downscaled copy, bilinearly interpolated), which removes paper tint
 //     and uneven lighting (common practice);
+//   - photos: blocks whose paper level is far below the brightest blocks'
+//     (the table around the sheet) are masked out;
 //   - grid colour detection: a hue histogram of the chromatic pixels picks
 //     the grid's colour family; each pixel's absorption (255 − channel) is
 //     then split by least squares into a grid-colour component and a
 //     neutral (dark ink) component. Grey and 1-bit pages are separated by
 //     structure instead: grid lines are thin, long, axis-aligned runs found
 //     from row and column darkness profiles per strip (common practice);
-//   - orientation (quarter turns) from the ink's banding (trace rows run
-//     along x) and the upward skew of the traces (calibration pulses and
-//     most QRS complexes point up);
+//   - orientation (quarter turns) from the ink of the deskewed page: empty
+//     rows between rows of leads (traces run along x), and the upward skew
+//     of the traces around their baselines (calibration pulses, most QRS
+//     complexes, P and T waves point up; common practice);
 //   - skew from the sharpness (sum of squares) of projection profiles over
 //     candidate angles, coarse to fine on downscaled copies (Postl 1986,
 //     ICPR; projection profiles after Radon 1917);

@@ -2,13 +2,12 @@ package imageproc
 
 import (
 	"image"
-	"math"
 )
 
 // orientation decides how many quarter turns counter-clockwise make the
-// page upright, from an ink map of the page as given: traces run along x,
-// so an upright page's ink forms horizontal bands (rows of leads) and its
-// column profile is flat; the traces' calibration pulses and most QRS
+// page upright, from an ink map of the deskewed page: traces run along x,
+// so an upright page has empty rows between its rows of leads while
+// almost no column is empty; the traces' calibration pulses and most QRS
 // complexes, P and T waves point up from the baseline (common practice).
 func orientation(ink *image.Gray) int {
 	w, h := ink.Rect.Dx(), ink.Rect.Dy()
@@ -38,39 +37,6 @@ func orientation(ink *image.Gray) int {
 		q += 2
 	}
 	return q
-}
-
-// bandContrast returns the coefficient of variation of prof after a box
-// smoothing of width k (which hides the grid's period).
-func bandContrast(prof []float64, k int) float64 {
-	n := len(prof)
-	if n < 2*k {
-		return 0
-	}
-	sm := make([]float64, 0, n)
-	acc := 0.0
-	for i := 0; i < n; i++ {
-		acc += prof[i]
-		if i >= k {
-			acc -= prof[i-k]
-		}
-		if i >= k-1 {
-			sm = append(sm, acc/float64(k))
-		}
-	}
-	mean, sd := 0.0, 0.0
-	for _, v := range sm {
-		mean += v
-	}
-	mean /= float64(len(sm))
-	for _, v := range sm {
-		sd += (v - mean) * (v - mean)
-	}
-	sd = math.Sqrt(sd / float64(len(sm)))
-	if mean == 0 {
-		return 0
-	}
-	return sd / mean
 }
 
 // upwardSkew is positive when the ink around each trace baseline lies more

@@ -27,8 +27,9 @@ type tileAngle struct {
 // projective correction that sends both families' vanishing points to
 // infinity and aligns the families with the axes (affine rectification
 // from the line at infinity; Hartley & Zisserman 2004, §2.7, from memory).
+// photo says a sheet edge was seen (paperMask): the image is a photo.
 // It returns nil when a rotation suffices or the estimate is unreliable.
-func estimatePerspective(lineMap *image.Gray, theta float64) *perspective {
+func estimatePerspective(lineMap *image.Gray, theta float64, photo bool) *perspective {
 	w, h := lineMap.Rect.Dx(), lineMap.Rect.Dy()
 	nx, ny := 4, 3
 	if h > w {
@@ -68,7 +69,16 @@ func estimatePerspective(lineMap *image.Gray, theta float64) *perspective {
 	}
 	hl, hh, hm := spread(hs)
 	vl, vh, vm := spread(vs)
-	const flat = 0.25 * math.Pi / 180
+	// A perspective tilts both families across the page. On a scan the
+	// spread comes from noise (traces, text), so without a sheet edge seen
+	// (photo) demand a clear tilt in both.
+	flat := 0.25 * math.Pi / 180
+	if !photo {
+		flat = 0.5 * math.Pi / 180
+		if hh-hl < flat || vh-vl < flat || len(hs) < 6 || len(vs) < 6 {
+			return nil
+		}
+	}
 	if hh-hl < flat && vh-vl < flat && math.Abs(hm-vm) < flat {
 		return nil
 	}

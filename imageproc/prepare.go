@@ -112,7 +112,7 @@ func Prepare(img image.Image, opt *Options) (*Page, error) {
 	ww, wh := work.Rect.Dx(), work.Rect.Dy()
 	var persp *perspective
 	if !o.NoRectify && !o.NoDeskew {
-		persp = estimatePerspective(lineMap, theta)
+		persp = estimatePerspective(lineMap, theta, mask != nil)
 	}
 	s := float64(f)
 	// Work coordinates → full: x_full = f·x + (f−1)/2.
