@@ -104,8 +104,11 @@ func TestConditions(t *testing.T) {
 		if (name == "clean") != (o.Scan == nil) {
 			t.Errorf("%s: scan options %v", name, o.Scan)
 		}
-		if name != "fax" && name != "lowres" {
-			o.DPI = 100 // keep the test light; geometry presets need 300 dpi
+		// Keep the test light: 100 dpi, with the condition's scan
+		// simulation drawn for that resolution.
+		o.DPI = 100
+		if o.Scan, err = ConditionScan(name, o.DPI, uint64(i+1)); err != nil {
+			t.Fatal(err)
 		}
 		o.Grid.Color = "red" // grid ink stays lighter than 40 in darkness
 		rec, err := CorpusRecord(uint64(i), name == "overlap")
