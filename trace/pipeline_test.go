@@ -23,7 +23,11 @@ import (
 // digitise runs the real front end (imageproc.Prepare, grid.Detect) and
 // Extract on a rendered page.
 func digitise(img image.Image) (*trace.Result, *imageproc.Page, error) {
-	pg, err := imageproc.Prepare(img, nil)
+	return digitiseWith(img, nil)
+}
+
+func digitiseWith(img image.Image, po *imageproc.Options) (*trace.Result, *imageproc.Page, error) {
+	pg, err := imageproc.Prepare(img, po)
 	if err != nil {
 		return nil, nil, fmt.Errorf("prepare: %w", err)
 	}
