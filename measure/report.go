@@ -8,6 +8,8 @@ import (
 	"strconv"
 	"strings"
 	"text/tabwriter"
+
+	"tracelift/ecg"
 )
 
 // Caution is the sentence every measurement output carries.
@@ -221,4 +223,22 @@ func (r *Report) WriteSummary(w io.Writer) error {
 	}
 	_, err := fmt.Fprintf(w, "Caution: %s\n", r.Caution)
 	return err
+}
+
+// ECGBeats returns the per-beat table as ecg.Beat values — R, class, QRS
+// onset and offset and T end in seconds on the record's time base, NaN
+// where not measured; P points and T peak are NaN (they are measured on
+// the median beats only) — for the annotation exports.
+func (r *Report) ECGBeats() []ecg.Beat {
+	out := make([]ecg.Beat, len(r.Beats))
+	for i, b := range r.Beats {
+		c := ecg.BeatUnknown
+		if len(b.Class) == 1 {
+			c = ecg.BeatClass(b.Class[0])
+		}
+		e := ecg.NewBeat(c, b.RS)
+		e.QRSOn, e.QRSOff, e.TEnd = float64(b.QRSOnS), float64(b.QRSOffS), float64(b.TEndS)
+		out[i] = e
+	}
+	return out
 }

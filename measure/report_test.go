@@ -112,6 +112,15 @@ func TestReportJSONAndSummary(t *testing.T) {
 	if back.PMS.Valid() || back.QRSMS != rep.QRSMS || len(back.Leads) != 12 {
 		t.Errorf("round trip: P %v QRS %v/%v leads %d", back.PMS, back.QRSMS, rep.QRSMS, len(back.Leads))
 	}
+	eb := rep.ECGBeats()
+	if len(eb) != len(rep.Beats) || len(eb) < 10 {
+		t.Fatalf("ECGBeats: %d beats, report %d", len(eb), len(rep.Beats))
+	}
+	for i, b := range eb {
+		if b.R != rep.Beats[i].RS || !(b.QRSOn < b.R && b.R < b.QRSOff) || string(rune(b.Class)) != rep.Beats[i].Class {
+			t.Errorf("ECGBeats[%d] = %+v, report beat %+v", i, b, rep.Beats[i])
+		}
+	}
 	var buf bytes.Buffer
 	if err := rep.WriteSummary(&buf); err != nil {
 		t.Fatal(err)
