@@ -7,6 +7,7 @@ import (
 	"os"
 	"path/filepath"
 	"runtime"
+	"sort"
 	"strings"
 	"sync"
 	"time"
@@ -85,7 +86,9 @@ its truth sidecar <name>.truth.json (as written by the renderer).`,
 			if opts.Conditions, err = pickNames("condition", conds, render.ConditionNames()); err != nil {
 				return err
 			}
-			if opts.Layouts, err = pickNames("layout", layouts, evalLayouts()); err != nil {
+			if layouts == "any" {
+				opts.Layouts = nil // each condition draws its own layout per page
+			} else if opts.Layouts, err = pickNames("layout", layouts, evalLayouts()); err != nil {
 				return err
 			}
 			if runF != nil {
@@ -96,7 +99,7 @@ its truth sidecar <name>.truth.json (as written by the renderer).`,
 	}
 	f := cmd.Flags()
 	f.StringVar(&conds, "conditions", "all", "comma list of conditions ("+strings.Join(render.ConditionNames(), ", ")+") or all")
-	f.StringVar(&layouts, "layouts", "all", "comma list of layouts ("+strings.Join(evalLayouts(), ", ")+") or all")
+	f.StringVar(&layouts, "layouts", "all", "comma list of layouts ("+strings.Join(evalLayouts(), ", ")+"), all, or any (each page's layout drawn by its condition)")
 	f.IntVarP(&opts.N, "n", "n", 3, "records per condition and layout")
 	f.Uint64Var(&opts.Seed, "seed", 1, "first seed of the corpus")
 	f.StringVar(&opts.Dir, "dir", "", "evaluate the images in this folder (with <name>.truth.json sidecars) instead")
@@ -209,6 +212,10 @@ feed:
 
 	byCond := accuracy.Summarize(pages, func(p accuracy.Page) string { return p.Condition })
 	byLayout := accuracy.Summarize(pages, func(p accuracy.Page) string { return p.Layout })
+	sort.SliceStable(byLayout, func(i, j int) bool {
+		a, b := byLayout[i].Condition, byLayout[j].Condition
+		return a != "all" && (b == "all" || a < b)
+	})
 	write := accuracy.WriteTable
 	if opts.Markdown {
 		write = accuracy.WriteMarkdown

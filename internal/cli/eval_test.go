@@ -46,6 +46,9 @@ func TestEvalFlags(t *testing.T) {
 			assert.Equal(t, uint64(7), o.Seed)
 			assert.Equal(t, 2, o.Workers)
 		}},
+		{"any layout", []string{"--layouts", "any"}, ExitOK, func(t *testing.T, o *evalOptions) {
+			assert.Nil(t, o.Layouts)
+		}},
 		{"unknown condition", []string{"--conditions", "coffee-stain"}, ExitUsage, nil},
 		{"unknown layout", []string{"--layouts", "5x5"}, ExitUsage, nil},
 		{"zero n", []string{"-n", "0"}, ExitUsage, nil},
