@@ -305,6 +305,11 @@ func TestTIFFCCITT(t *testing.T) {
 			}
 		})
 	}
+	// Two-dimensional Group 3 (T4Options bit 0) is refused by name.
+	b := tiffBytes(binary.LittleEndian, []tiffPageSpec{{w: 153, h: 55, compression: 3, photometric: 0, bits: 1, data: g3, t4opts: 1}})
+	if _, err := Reader(bytes.NewReader(b), int64(len(b)), "mr.tif", nil); !errors.Is(err, ErrUnsupported) || !strings.Contains(err.Error(), "two-dimensional") {
+		t.Errorf("2-D Group 3: %v", err)
+	}
 	// The library's own G4 TIFF file decodes too.
 	pages := readerPages(t, modCacheFile(t, "testdata/bw-gopher_ccittGroup4.tiff"), "g4.tiff", nil)
 	if len(pages) != 1 || pages[0].Image.Bounds().Dx() != 153 {

@@ -200,6 +200,7 @@ type tiffPageSpec struct {
 	unit        uint32 // 2 inch, 3 cm; 0 = no tag
 	orientation uint32 // 0 = no tag
 	subfile     uint32 // NewSubfileType; 1 = reduced resolution
+	t4opts      uint32 // T4Options; 0 = no tag
 }
 
 // tiffBytes assembles a multi-page TIFF: header, then per page the strip
@@ -245,6 +246,9 @@ func tiffBytes(bo byteOrder, pages []tiffPageSpec) []byte {
 			fields = append(fields,
 				ifdField{tagXResolution, typeRational, []uint32{p.xres, 1}},
 				ifdField{tagYResolution, typeRational, []uint32{p.yres, 1}})
+		}
+		if p.t4opts != 0 {
+			fields = append(fields, ifdField{tagT4Options, typeLong, []uint32{p.t4opts}})
 		}
 		if p.unit != 0 {
 			fields = append(fields, ifdField{tagResolutionUnit, typeShort, []uint32{p.unit}})

@@ -18,10 +18,12 @@ const (
 	tagNewSubfileType = 254
 	tagImageWidth     = 256
 	tagImageLength    = 257
+	tagCompression    = 259
 	tagOrientation    = 274
 	tagXResolution    = 282
 	tagYResolution    = 283
 	tagResolutionUnit = 296
+	tagT4Options      = 292
 )
 
 // TIFF field types.

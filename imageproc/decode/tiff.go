@@ -13,9 +13,11 @@ const maxTIFFPages = 100000
 
 // tiffPage is one page directory of a TIFF file.
 type tiffPage struct {
-	off  int64 // offset of the IFD
-	w, h int   // stored size
-	m    meta
+	off    int64 // offset of the IFD
+	w, h   int   // stored size
+	m      meta
+	comp   uint32 // Compression (259)
+	t4opts uint32 // T4Options (292)
 }
 
 // tiffFile is a possibly multi-page TIFF. golang.org/x/image/tiff decodes
@@ -72,6 +74,8 @@ func openTIFF(src source) (container, error) {
 			return nil, src.fail(0, "corrupt tiff: first directory has no image size", nil)
 		}
 		p := tiffPage{off: off, w: int(min(w, 1<<30)), h: int(min(h, 1<<30)), m: t.readMeta(es)}
+		p.comp, _ = t.uint(es, tagCompression)
+		p.t4opts, _ = t.uint(es, tagT4Options)
 		// The size that counts against the budget is the one the decoder
 		// will allocate: ask it (it parses the directory only). Malformed
 		// directories can read differently to this walk and to it.
@@ -107,6 +111,13 @@ func (f *tiffFile) decode(i int, check func(w, h int) error) (Page, error) {
 	p := f.pages[i-1]
 	if err := check(p.w, p.h); err != nil {
 		return Page{}, err
+	}
+	if p.comp == 3 && p.t4opts&1 != 0 {
+		// T4Options bit 0: two-dimensional (MR) coding (TIFF 6.0 section
+		// 11). golang.org/x/image/ccitt decodes one-dimensional Group 3
+		// and Group 4 only.
+		return Page{}, &Error{Name: f.src.name, Page: i, Kind: ErrUnsupported,
+			Reason: "two-dimensional Group 3 fax coding (TIFF T4Options 2-D) is not supported; Group 4 and one-dimensional Group 3 are"}
 	}
 	v := &patchedTIFF{src: f.src, t: f.t, ifd: uint32(p.off)}
 	img, err := tiff.Decode(v)
