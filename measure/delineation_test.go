@@ -313,3 +313,45 @@ func cutRecord(rec ecg.Record, from, to float64) ecg.Record {
 	}
 	return out
 }
+
+// TestBeatTableQTDB compares the per-beat QRS and QT of the beat table
+// with the QT Database manual marks (q1c) beat by beat, over all ten
+// records: mean ± SD of measured − reference.
+func TestBeatTableQTDB(t *testing.T) {
+	dir := refdataDir(t, "qtdb")
+	qrs, qt := &diffStats{name: "QRS"}, &diffStats{name: "QT"}
+	for _, name := range qtdbRecords {
+		rec, h := readWFDB(t, filepath.Join(dir, name+".hea"))
+		ws := readWaves(t, filepath.Join(dir, name+".q1c"), h.Fs)
+		cut := cutRecord(rec, ws[0].pk-3, ws[len(ws)-1].pk+3)
+		rep, err := Measure(cut, nil)
+		if err != nil {
+			t.Fatalf("qtdb %s: %v", name, err)
+		}
+		for i, w := range ws {
+			if w.sym != "N" || math.IsNaN(w.on) {
+				continue
+			}
+			var b *Beat
+			for k := range rep.Beats {
+				if math.Abs(rep.Beats[k].RS-w.pk) < 0.1 {
+					b = &rep.Beats[k]
+				}
+			}
+			if b == nil {
+				continue
+			}
+			if !math.IsNaN(w.off) {
+				qrs.add(b.QRSMS, 1000*(w.off-w.on))
+			}
+			if i+1 < len(ws) && ws[i+1].sym == "t" && !math.IsNaN(ws[i+1].off) {
+				qt.add(b.QTMS, 1000*(ws[i+1].off-w.on))
+			}
+		}
+	}
+	t.Logf("QTDB per beat %s", qrs)
+	t.Logf("QTDB per beat %s", qt)
+	// Bounds just above the measured performance: QRS +2.7 ± 17.1 ms
+	// (341 beats), QT +3.7 ± 29.6 ms (336 beats).
+	checkBounds(t, "QTDB per beat", []*diffStats{qrs, qt}, map[string][2]float64{"QRS": {4, 19}, "QT": {5, 32}})
+}
