@@ -93,15 +93,9 @@ func drawnXObjects(content []byte) map[string][6]float64 {
 				}
 			case "cm":
 				if n := len(nums); n >= 6 {
-					m := nums[n-6:]
-					ctm = [6]float64{
-						m[0]*ctm[0] + m[1]*ctm[2],
-						m[0]*ctm[1] + m[1]*ctm[3],
-						m[2]*ctm[0] + m[3]*ctm[2],
-						m[2]*ctm[1] + m[3]*ctm[3],
-						m[4]*ctm[0] + m[5]*ctm[2] + ctm[4],
-						m[4]*ctm[1] + m[5]*ctm[3] + ctm[5],
-					}
+					var m [6]float64
+					copy(m[:], nums[n-6:])
+					ctm = concat(m, ctm)
 				}
 			case "Do":
 				if _, seen := out[lastName]; lastName != "" && !seen {

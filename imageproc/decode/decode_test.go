@@ -445,6 +445,12 @@ func TestPDFRawImages(t *testing.T) {
 		// orientation 6; 20 px across 48 pt = 30 dpi horizontally, 30 px
 		// down 36 pt = 60 dpi vertically.
 		{mediaW: 72, mediaH: 72, imageDict: "/Width 30 /Height 20 /ColorSpace /DeviceGray /BitsPerComponent 8", stream: g.Pix, content: "q 0 -36 48 0 0 72 cm /Im0 Do Q"},
+		// Inside a form XObject: page cm scale 2, form /Matrix scale 0.5
+		// and a translation, form content 36 × 24 → 36 × 24 pt overall:
+		// 30 px / 0.5 in = 60 dpi, 20 px / (1/3 in) = 60 dpi, on a letter
+		// page whose MediaBox would have said 3.5 dpi.
+		{mediaW: 612, mediaH: 792, imageDict: "/Width 30 /Height 20 /ColorSpace /DeviceGray /BitsPerComponent 8", stream: g.Pix,
+			content: "q 2 0 0 2 0 0 cm /Fm0 Do Q", formMatrix: "[0.5 0 0 0.5 10 10]", formContent: "q 36 0 0 24 0 0 cm /Im0 Do Q"},
 	}
 	b := rawPDF(pages)
 	ps, err := Reader(bytes.NewReader(b), int64(len(b)), "mixed.pdf", &Options{Pages: []int{1, 2, 3, 4, 5, 6}})
@@ -483,6 +489,11 @@ func TestPDFRawImages(t *testing.T) {
 	sameGray(t, turned.Image, Orient(g, 6).(*image.Gray))
 	if turned.Orientation != 6 || !near(turned.DPIX, 30, 1e-9) || !near(turned.DPIY, 60, 1e-9) {
 		t.Errorf("turned placement: orientation %d dpi %g × %g, want 6, 30 × 60", turned.Orientation, turned.DPIX, turned.DPIY)
+	}
+	inForm := readerPages(t, b, "mixed.pdf", &Options{Pages: []int{9}})[0]
+	sameGray(t, inForm.Image, g)
+	if inForm.Orientation != 1 || !near(inForm.DPIX, 60, 1e-9) || !near(inForm.DPIY, 60, 1e-9) {
+		t.Errorf("image in a form: orientation %d dpi %g × %g, want 1, 60 × 60", inForm.Orientation, inForm.DPIX, inForm.DPIY)
 	}
 	_, err = Reader(bytes.NewReader(b), int64(len(b)), "mixed.pdf", &Options{Pages: []int{7}})
 	if !errors.Is(err, ErrUnsupported) || !errors.Is(err, ecg.ErrUnreadable) || !strings.Contains(err.Error(), "JBIG2") {

@@ -399,6 +399,10 @@ type rawPDFPage struct {
 	imageDict      string // entries inside << >> except Length
 	stream         []byte
 	content        string // content stream; default fills the MediaBox
+	// formContent, when set, wraps the image in a form XObject /Fm0 with
+	// this content and formMatrix as its /Matrix (ISO 32000-1 8.10); the
+	// page content then paints /Fm0.
+	formContent, formMatrix string
 }
 
 func rawPDF(pages []rawPDFPage) []byte {
@@ -419,12 +423,23 @@ func rawPDF(pages []rawPDFPage) []byte {
 			content = fmt.Sprintf("q %g 0 0 %g 0 0 cm /Im0 Do Q", p.mediaW, p.mediaH)
 		}
 		cs := add(fmt.Sprintf("<< /Length %d >>", len(content)), []byte(content))
+		xobj := fmt.Sprintf("/Im0 %d 0 R", img)
+		if p.formContent != "" {
+			form := add(fmt.Sprintf("<< /Type /XObject /Subtype /Form /BBox [0 0 1000 1000] /Matrix %s /Resources << /XObject << /Im0 %d 0 R >> >> /Length %d >>",
+				p.formMatrix, img, len(p.formContent)), []byte(p.formContent))
+			xobj = fmt.Sprintf("/Fm0 %d 0 R", form)
+			if p.content == "" {
+				content = "/Fm0 Do"
+				objs[cs-1] = fmt.Sprintf("<< /Length %d >>", len(content))
+				streams[cs-1] = []byte(content)
+			}
+		}
 		rot := ""
 		if p.rotate != 0 {
 			rot = fmt.Sprintf(" /Rotate %d", p.rotate)
 		}
-		page := add(fmt.Sprintf("<< /Type /Page /Parent %d 0 R /MediaBox [0 0 %g %g]%s /Resources << /XObject << /Im0 %d 0 R >> >> /Contents %d 0 R >>",
-			tree, p.mediaW, p.mediaH, rot, img, cs), nil)
+		page := add(fmt.Sprintf("<< /Type /Page /Parent %d 0 R /MediaBox [0 0 %g %g]%s /Resources << /XObject << %s >> >> /Contents %d 0 R >>",
+			tree, p.mediaW, p.mediaH, rot, xobj, cs), nil)
 		kids = append(kids, fmt.Sprintf("%d 0 R", page))
 	}
 	objs[catalog-1] = fmt.Sprintf("<< /Type /Catalog /Pages %d 0 R >>", tree)

@@ -66,7 +66,15 @@ type pdfImage struct {
 	name string // resource name, as used by the Do operator
 	sd   *types.StreamDict
 	w, h int
-	top  bool // in the page's own resources (placement known from its content)
+	// forms lists the form XObjects (outermost first) through which the
+	// image is painted; empty when it is in the page's own resources.
+	forms []pdfForm
+}
+
+// pdfForm is one form XObject on the way to an image.
+type pdfForm struct {
+	name string
+	sd   *types.StreamDict
 }
 
 // pdfPlacement is where the chosen image lies on the page.
@@ -122,7 +130,7 @@ func (f *pdfFile) find(i int) (pdfImage, pdfPlacement, error) {
 		drawn = nil // unknown: consider every image in the resources
 	}
 	var ims []pdfImage
-	f.collect(inh.Resources, 0, drawn, &ims)
+	f.collect(inh.Resources, nil, drawn, &ims)
 	if len(ims) == 0 {
 		return pdfImage{}, pdfPlacement{}, &Error{Name: f.src.name, Page: i, Kind: ErrNoRaster,
 			Reason: fmt.Sprintf("PDF page %d has no raster image (vector PDFs are not supported yet)", i)}
@@ -141,7 +149,7 @@ func (f *pdfFile) find(i int) (pdfImage, pdfPlacement, error) {
 		pageW, pageH = mb.Width(), mb.Height()
 	}
 	ctm := [6]float64{pageW, 0, 0, pageH, 0, 0}
-	if m, ok := drawn[best.name]; ok && best.top {
+	if m, ok := f.imageCTM(best, drawn); ok {
 		ctm = m
 	}
 	pl := placement(ctm, inh.Rotate, best.w, best.h)
@@ -154,7 +162,8 @@ const maxFormDepth = 4
 // collect appends the image XObjects of a resource dictionary, searching
 // form XObjects too. At the top level (depth 0) only the names in drawn
 // are taken, unless drawn is nil.
-func (f *pdfFile) collect(res types.Dict, depth int, drawn map[string][6]float64, out *[]pdfImage) {
+func (f *pdfFile) collect(res types.Dict, forms []pdfForm, drawn map[string][6]float64, out *[]pdfImage) {
+	depth := len(forms)
 	if res == nil || depth > maxFormDepth {
 		return
 	}
@@ -192,15 +201,72 @@ func (f *pdfFile) collect(res types.Dict, depth int, drawn map[string][6]float64
 				}
 			}
 			if w > 0 && h > 0 {
-				*out = append(*out, pdfImage{name: name, sd: sd, w: w, h: h, top: depth == 0})
+				*out = append(*out, pdfImage{name: name, sd: sd, w: w, h: h, forms: forms})
 			}
 		case st != nil && *st == "Form":
 			if o, ok := sd.Find("Resources"); ok {
 				if rd, err := xr.DereferenceDict(o); err == nil {
-					f.collect(rd, depth+1, nil, out)
+					f.collect(rd, append(forms[:depth:depth], pdfForm{name: name, sd: sd}), nil, out)
 				}
 			}
 		}
+	}
+}
+
+// imageCTM composes the transformation matrix in force where im is
+// painted: the page content's matrix at the outermost Do, then for each
+// form its /Matrix and the matrix at the next Do inside its own content
+// (ISO 32000-1 8.10.1: a form is painted with Matrix × CTM). It reports
+// false when any step is unknown.
+func (f *pdfFile) imageCTM(im pdfImage, drawn map[string][6]float64) ([6]float64, bool) {
+	first := im.name
+	if len(im.forms) > 0 {
+		first = im.forms[0].name
+	}
+	ctm, ok := drawn[first]
+	if !ok {
+		return ctm, false
+	}
+	xr := f.ctx.XRefTable
+	for k, fm := range im.forms {
+		matrix := [6]float64{1, 0, 0, 1, 0, 0}
+		if o, ok := fm.sd.Find("Matrix"); ok {
+			if a, err := xr.DereferenceArray(o); err == nil && len(a) == 6 {
+				for j := range matrix {
+					if v, err := xr.DereferenceNumber(a[j]); err == nil {
+						matrix[j] = v
+					}
+				}
+			}
+		}
+		ctm = concat(matrix, ctm)
+		sd := *fm.sd // decode a copy; the shared object keeps its raw bytes only
+		if err := sd.Decode(); err != nil {
+			return ctm, false
+		}
+		next := im.name
+		if k+1 < len(im.forms) {
+			next = im.forms[k+1].name
+		}
+		local, ok := drawnXObjects(sd.Content)[next]
+		if !ok {
+			return ctm, false
+		}
+		ctm = concat(local, ctm)
+	}
+	return ctm, true
+}
+
+// concat returns m × c for PDF matrices [a b c d e f] (row-vector
+// convention, ISO 32000-1 8.3.4).
+func concat(m, c [6]float64) [6]float64 {
+	return [6]float64{
+		m[0]*c[0] + m[1]*c[2],
+		m[0]*c[1] + m[1]*c[3],
+		m[2]*c[0] + m[3]*c[2],
+		m[2]*c[1] + m[3]*c[3],
+		m[4]*c[0] + m[5]*c[2] + c[4],
+		m[4]*c[1] + m[5]*c[3] + c[5],
 	}
 }
 
