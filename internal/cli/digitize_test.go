@@ -258,3 +258,28 @@ func TestDigitizeSeveralFilesWorstClass(t *testing.T) {
 	assert.FileExists(t, filepath.Join(out, "good.json"))
 	assert.ElementsMatch(t, []string{"good.csv", "good.json"}, listDir(t, out))
 }
+
+// TestBatchRealPipeline runs batch with the real pipeline over a small
+// archive with a good page and two bad files: the good one is digitised,
+// the bad ones are catalogued with their reasons.
+func TestBatchRealPipeline(t *testing.T) {
+	in, out := t.TempDir(), t.TempDir()
+	require.NoError(t, os.MkdirAll(filepath.Join(in, "ward"), 0o755))
+	writeFile(t, in, "ward/good.png", cleanPagePNG(t))
+	writeFile(t, in, "ward/letter.png", []byte("Dear colleague"))
+	writeFile(t, in, "empty.jpg", nil)
+	code, stdout, stderr := run("batch", in, "-o", out, "-j", "2")
+	assert.Equal(t, ExitPartial, code, stderr)
+	assert.Contains(t, stdout, "1 done, 0 partial, 2 failed")
+	rows := catalogRows(t, filepath.Join(out, "catalog.sqlite"))
+	require.Len(t, rows, 3)
+	g := rows["ward/good.png"]
+	assert.Equal(t, "done", string(g.Status))
+	assert.Len(t, g.Leads, 12)
+	assert.InDelta(t, 70, g.HeartBPM, 5, "synth.Default() beats at 70/min")
+	assert.ElementsMatch(t, []string{"ward/good.csv", "ward/good.json"}, g.Outputs)
+	assert.Equal(t, "unreadable", rows["ward/letter.png"].Class)
+	assert.Contains(t, rows["empty.jpg"].Error, "empty.jpg")
+	assert.FileExists(t, filepath.Join(out, "ward", "good.csv"))
+	assert.FileExists(t, filepath.Join(out, "catalog.csv"))
+}
