@@ -132,7 +132,8 @@ func (f *pdfFile) find(i int) (pdfImage, pdfPlacement, error) {
 	var ims []pdfImage
 	f.collect(inh.Resources, nil, drawn, &ims)
 	if len(ims) == 0 {
-		return pdfImage{}, pdfPlacement{}, &Error{Name: f.src.name, Page: i, Kind: ErrNoRaster,
+		// Page left 0: the reason names the page already.
+		return pdfImage{}, pdfPlacement{}, &Error{Name: f.src.name, Kind: ErrNoRaster,
 			Reason: fmt.Sprintf("PDF page %d has no raster image (vector PDFs are not supported yet)", i)}
 	}
 	best := ims[0]
@@ -364,7 +365,7 @@ func (f *pdfFile) decodeImage(page int, im pdfImage, check func(w, h int) error)
 	fail := func(reason string, err error) error { return f.src.fail(page, reason, err) }
 	unsupported := func(what string) error {
 		return &Error{Name: f.src.name, Page: page, Kind: ErrUnsupported,
-			Reason: fmt.Sprintf("PDF page %d image uses %s, which is not supported", page, what)}
+			Reason: fmt.Sprintf("image uses %s, which is not supported", what)}
 	}
 
 	pipe := sd.FilterPipeline
@@ -476,7 +477,7 @@ func (f *pdfFile) decodeCCITT(page int, im pdfImage, parms types.Dict, data []by
 	switch {
 	case k > 0:
 		return nil, &Error{Name: f.src.name, Page: page, Kind: ErrUnsupported,
-			Reason: fmt.Sprintf("PDF page %d image uses two-dimensional Group 3 fax coding (K > 0), which is not supported", page)}
+			Reason: "image uses two-dimensional Group 3 fax coding (K > 0), which is not supported"}
 	case k == 0:
 		sf = ccitt.Group3
 	}
