@@ -57,6 +57,14 @@ func Render(rec ecg.Record, opt *Options) (*Page, error) {
 		}
 		page.Image = out
 		composeScan(&page.Truth, h, out.Bounds())
+		if k1 := o.scan.LensK1; k1 != 0 {
+			// scansim warps about the canvas centre (w/2, h/2) in its
+			// coordinates (pixel centres at +0.5), normalised by the
+			// half-diagonal.
+			b := out.Bounds()
+			cx, cy := float64(b.Dx())/2, float64(b.Dy())/2
+			page.Truth.Lens = &TruthLens{K1: k1, CenterX: cx - 0.5, CenterY: cy - 0.5, R2: cx*cx + cy*cy}
+		}
 	}
 	return page, nil
 }

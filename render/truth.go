@@ -56,6 +56,50 @@ type Truth struct {
 	// Texts are the printed texts (header, footer, lead labels) with their
 	// boxes, so tests can tell text ink from trace ink.
 	Texts []TruthText `json:"texts,omitempty"`
+	// Lens is the radial lens warp the scan simulation applied after the
+	// homography (photos), nil if none. PaperToPx and PxToPaper include
+	// it; PaperToImage alone does not.
+	Lens *TruthLens `json:"lens,omitempty"`
+}
+
+// TruthLens is a radial warp of the final image about a centre: a pixel q
+// shows what the homography puts at q' = c + (q − c)(1 + K1·|q − c|²/R2).
+type TruthLens struct {
+	K1      float64 `json:"k1"`
+	CenterX float64 `json:"center_x_px"`
+	CenterY float64 `json:"center_y_px"`
+	R2      float64 `json:"r2_px2"` // normalising squared radius, px²
+}
+
+// distort maps an image point q to the homography's point q'.
+func (l *TruthLens) distort(u, v float64) (float64, float64) {
+	dx, dy := u-l.CenterX, v-l.CenterY
+	f := 1 + l.K1*(dx*dx+dy*dy)/l.R2
+	return l.CenterX + dx*f, l.CenterY + dy*f
+}
+
+// undistort inverts distort by Newton's method on the radius.
+func (l *TruthLens) undistort(u, v float64) (float64, float64) {
+	dx, dy := u-l.CenterX, v-l.CenterY
+	dp := math.Hypot(dx, dy)
+	if dp == 0 {
+		return u, v
+	}
+	d := dp
+	for range 20 {
+		f := d + l.K1*d*d*d/l.R2 - dp
+		fp := 1 + 3*l.K1*d*d/l.R2
+		if fp <= 0 {
+			break
+		}
+		step := f / fp
+		d -= step
+		if math.Abs(step) < 1e-10 {
+			break
+		}
+	}
+	r := d / dp
+	return l.CenterX + dx*r, l.CenterY + dy*r
 }
 
 // TruthText is one printed text and its box [x0, y0, x1, y1] in paper mm
@@ -256,15 +300,25 @@ func (t *Truth) Record() ecg.Record {
 }
 
 // PaperToPx maps a paper point (mm) to final image pixels with the truth's
-// homography.
-func (t *Truth) PaperToPx(xMM, yMM float64) (u, v float64) { return applyH(t.PaperToImage, xMM, yMM) }
+// homography and, if present, its lens warp.
+func (t *Truth) PaperToPx(xMM, yMM float64) (u, v float64) {
+	u, v = applyH(t.PaperToImage, xMM, yMM)
+	if t.Lens != nil && t.Lens.K1 != 0 {
+		u, v = t.Lens.undistort(u, v)
+	}
+	return u, v
+}
 
-// PxToPaper maps a final image pixel back to paper mm with the inverse of
-// the truth's homography (ok=false if it is singular).
+// PxToPaper maps a final image pixel back to paper mm through the lens
+// warp (if any) and the inverse of the truth's homography (ok=false if it
+// is singular).
 func (t *Truth) PxToPaper(u, v float64) (xMM, yMM float64, ok bool) {
 	inv, ok := invertH(t.PaperToImage)
 	if !ok {
 		return 0, 0, false
+	}
+	if t.Lens != nil && t.Lens.K1 != 0 {
+		u, v = t.Lens.distort(u, v)
 	}
 	x, y := applyH(inv, u, v)
 	return x, y, true
