@@ -55,7 +55,7 @@ var defaultDelin = delinParams{
 	xiQOn: 0.07, xiQOff: 0.07,
 	xiPOn: 0.4, xiPOff: 0.5, combFracP: 0.15,
 	pMinRatio: 0.03, tMinRatio: 0.03,
-	zhangW: 0.10, tWinRR: 0.62, tKeep: 0.6, tEndMethod: 1, xiTEnd: 0.15,
+	zhangW: 0.10, tWinRR: 0.62, tKeep: 0.3, tEndMethod: 1, xiTEnd: 0.15,
 }
 
 // delineator holds the smoothing-derivative kernels for one sample rate and

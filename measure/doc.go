@@ -58,8 +58,10 @@
 // strip — and each lead's median beat is their sample-wise median. Global
 // onsets are the earliest and offsets the latest over the leads (CSE
 // convention), after dropping leads further than 40–80 ms from the median
-// lead; the T end comes only from leads whose T wave is at least 0.6 × the
-// largest relative T amplitude. When no lead runs alongside all others (a
+// lead; the T end comes only from leads whose T wave is at least 0.3 × the
+// largest relative T amplitude, and the latest T end must be confirmed by
+// a second lead within 80 ms (else the lead with the smaller T is dropped:
+// a U wave merged into a low T). When no lead runs alongside all others (a
 // 3 × 4 page without rhythm strip), each group of simultaneous leads is
 // delineated on its own and the global QRS and QT are the longest over
 // the groups, P and PR their median.
