@@ -109,11 +109,15 @@ func findPulses(ink *image.Gray, ppmX, ppmY float64) []Pulse {
 			}
 			// Flat top: ink along the top between the strokes.
 			top := (a.y0 + b.y0) / 2
-			thick := topThickness(ink, a.x1+1, b.x0-1, top, on)
+			thick, topY := topThickness(ink, a.x1+1, b.x0-1, top, on)
+			top = topY
 			if thick == 0 || coverage(ink, a.x1+1, b.x0-1, top, thick, on) < 0.9 {
 				continue
 			}
 			base := (a.y1 + b.y1) / 2
+			if base-top < minRun/2 {
+				continue
+			}
 			// Foot: the baseline leaves the pulse on at least one side,
 			// and the top does not continue outside (a box or a table).
 			left := coverage(ink, max(0, a.x0-minGap), a.x0-1, base-thick+1, thick, on)
@@ -144,14 +148,28 @@ func findPulses(ink *image.Gray, ppmX, ppmY float64) []Pulse {
 }
 
 // topThickness returns how many rows from y down are inked at the middle
-// of [x0, x1] (the pen width of the pulse's top), 0 if none.
-func topThickness(ink *image.Gray, x0, x1, y int, on uint8) int {
+// of [x0, x1] (the pen width of the pulse's top), 0 if none, and the
+// first inked row.
+func topThickness(ink *image.Gray, x0, x1, y int, on uint8) (int, int) {
 	if x1 < x0 {
-		return 0
+		return 0, y
 	}
 	h := ink.Rect.Dy()
 	xm := (x0 + x1) / 2
-	// Find the ink near the top row first.
+	// Find the ink near the top row first (the strokes' ends may overshoot
+	// the top line by a pixel or two).
+	found := false
+	for d := 0; d <= 4 && !found; d++ {
+		for _, yy := range []int{y + d, y - d} {
+			if yy >= 0 && yy < h && ink.Pix[yy*ink.Stride+xm] >= on {
+				y, found = yy, true
+				break
+			}
+		}
+	}
+	if !found {
+		return 0, y
+	}
 	for y > 0 && ink.Pix[(y-1)*ink.Stride+xm] >= on {
 		y--
 	}
@@ -159,7 +177,7 @@ func topThickness(ink *image.Gray, x0, x1, y int, on uint8) int {
 	for yy := y; yy < h && ink.Pix[yy*ink.Stride+xm] >= on; yy++ {
 		n++
 	}
-	return n
+	return n, y
 }
 
 // coverage returns the fraction of columns in [x0, x1] with ink in rows

@@ -245,7 +245,9 @@ func structureSplit(gray, ink, grd *image.Gray) {
 		markLines(prof[:h], rowLine[s*h:(s+1)*h])
 		for y := 0; y < h; y++ {
 			if rowLine[s*h+y] {
-				rowLevel[s*h+y] = onLevel(gray.Pix[y*gray.Stride+x0:y*gray.Stride+x1], 1)
+				seg := gray.Pix[y*gray.Stride+x0 : y*gray.Stride+x1]
+				rowLevel[s*h+y] = onLevel(seg, 1)
+				rowLine[s*h+y] = !isStroke(seg, 1)
 			}
 		}
 	}
@@ -264,7 +266,9 @@ func structureSplit(gray, ink, grd *image.Gray) {
 		markLines(prof[:w], colLine[b*w:(b+1)*w])
 		for x := 0; x < w; x++ {
 			if colLine[b*w+x] {
-				colLevel[b*w+x] = onLevel(gray.Pix[y0*gray.Stride+x:y1*gray.Stride], gray.Stride)
+				seg := gray.Pix[y0*gray.Stride+x : (y1-1)*gray.Stride+x+1]
+				colLevel[b*w+x] = onLevel(seg, gray.Stride)
+				colLine[b*w+x] = !isStroke(seg, gray.Stride)
 			}
 		}
 	}
@@ -426,4 +430,24 @@ func spread(m *image.NRGBA, mask []bool, block, bk, bins int) bool {
 		}
 	}
 	return paper > 0 && 2*with >= paper
+}
+
+// isStroke reports whether a row or column segment flagged as a grid line
+// is rather a pen stroke: one long dark run (a fifth of the segment or
+// more) without the near-full coverage of a printed line. Grid lines are
+// either solid across the segment or broken into short dashes or dots;
+// trace baselines and calibration-pulse edges are long partial runs.
+func isStroke(pix []uint8, step int) bool {
+	n, dark, run, longest := 0, 0, 0, 0
+	for i := 0; i < len(pix); i += step {
+		n++
+		if 255-int(pix[i]) > 30 {
+			dark++
+			run++
+			longest = max(longest, run)
+		} else {
+			run = 0
+		}
+	}
+	return longest*5 >= n && dark*4 <= 3*n
 }
