@@ -52,7 +52,8 @@
 // # Truth sidecar
 //
 // Truth (JSON) records the page geometry (size, dpi, px per mm, the
-// paper-to-image homography including any scan simulation), speed and
+// paper-to-image homography including any scan simulation, and a photo's
+// lens warp), speed and
 // gain, the grid (kind, colour, origin), every printed panel (lead, row,
 // column, time window, x extent, baseline), every calibration pulse, the
 // printed signals themselves (NaN written as null) and the record's beat
