@@ -2,6 +2,7 @@ package render
 
 import (
 	"fmt"
+	"iter"
 	"math/rand/v2"
 
 	"tracelift/ecg"
@@ -126,4 +127,18 @@ func CorpusPage(seed uint64, condition string, i int) (*Page, error) {
 		return nil, err
 	}
 	return Render(rec, o)
+}
+
+// Corpus yields corpus pages 0 … n−1 of a condition (CorpusPage(seed,
+// condition, i)) one at a time, so a caller never holds more than one
+// 300-dpi page; it stops early if the caller stops or after an error.
+func Corpus(seed uint64, condition string, n int) iter.Seq2[*Page, error] {
+	return func(yield func(*Page, error) bool) {
+		for i := range n {
+			p, err := CorpusPage(seed, condition, i)
+			if !yield(p, err) || err != nil {
+				return
+			}
+		}
+	}
 }

@@ -151,3 +151,37 @@ func TestConditions(t *testing.T) {
 		t.Error("ConditionOptions is not deterministic")
 	}
 }
+
+// TestCorpus: the iterator yields CorpusPage's pages and stops on errors.
+func TestCorpus(t *testing.T) {
+	if testing.Short() {
+		t.Skip("renders two 300-dpi pages")
+	}
+	var got []Truth
+	for p, err := range Corpus(5, "clean", 2) {
+		if err != nil {
+			t.Fatal(err)
+		}
+		got = append(got, p.Truth)
+	}
+	if len(got) != 2 {
+		t.Fatalf("%d pages, want 2", len(got))
+	}
+	p1, err := CorpusPage(5, "clean", 1)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if p1.Truth.Layout != got[1].Layout || p1.Truth.Grid != got[1].Grid || len(p1.Truth.Beats) != len(got[1].Beats) {
+		t.Error("Corpus and CorpusPage disagree")
+	}
+	n := 0
+	for _, err := range Corpus(5, "mud", 3) {
+		if err == nil {
+			t.Error("unknown condition accepted")
+		}
+		n++
+	}
+	if n != 1 {
+		t.Errorf("iterator went on after an error (%d yields)", n)
+	}
+}
