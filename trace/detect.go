@@ -56,17 +56,19 @@ func detectLayout(rows []rowInfo, cal grid.Calibration) *Layout {
 	case n == 12:
 		return named("12x1")
 	case n == 6:
-		if breakFraction(rows, 0, 3, 0.25, pxX)+breakFraction(rows, 0, 3, 0.75, pxX) > 0.6 {
-			return named("3x4+3")
-		}
-		if half(0, 6) > 0.3 {
+		// 6 × 2: separators at 1/2 in every row; 3 × 4 + 3: at 1/4, 1/2,
+		// 3/4 in the first three rows and none in the rhythm strips.
+		s3x4 := (breakFraction(rows, 0, 3, 0.25, pxX) + breakFraction(rows, 0, 3, 0.75, pxX)) / 2
+		if half(3, 6) > s3x4 {
 			return named("6x2")
 		}
 		return named("3x4+3")
 	case n == 3:
 		return named("3x4")
 	case n == 4:
-		if quarter(0, 3) > 0.3 || quarter(3, 4) < quarter(0, 3) {
+		// Four rows of one lead need a 40 s record; 3 × 4 + 1 is the
+		// common page, so any separator in the first three rows decides.
+		if quarter(0, 3) > 0 || quarter(3, 4) < quarter(0, 3) {
 			return named("3x4+1")
 		}
 	}

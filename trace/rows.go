@@ -172,7 +172,7 @@ func findRows(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse) []rowI
 			np++
 		}
 	}
-	if np >= 2 && 2*np >= len(rows) {
+	if np >= 2 {
 		// Keep rows without a pulse (one may be crossed by tall complexes)
 		// when they span the same stretch of paper as the pulse rows.
 		var x0s, x1s []float64
@@ -185,9 +185,30 @@ func findRows(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse) []rowI
 		sort.Float64s(x0s)
 		sort.Float64s(x1s)
 		refX0, refX1 := x0s[len(x0s)/2], x1s[len(x1s)/2]
-		out := rows[:0]
+		// Rows are at least 0.75 of the smallest pulse-row spacing apart:
+		// profile peaks inside a tangle of tall complexes are not rows.
+		pitch := math.Inf(1)
+		prev := math.NaN()
 		for _, r := range rows {
-			if r.hasPulse || math.Abs(float64(r.x1)-refX1) <= 5*pxX && float64(r.x0) < refX0+5*pxX && float64(r.x0) > refX0-25*pxX {
+			if r.hasPulse {
+				if !math.IsNaN(prev) {
+					pitch = math.Min(pitch, r.baseY-prev)
+				}
+				prev = r.baseY
+			}
+		}
+		var out []rowInfo
+		for _, r := range rows {
+			keep := r.hasPulse
+			if !keep && math.Abs(float64(r.x1)-refX1) <= 5*pxX && float64(r.x0) < refX0+5*pxX && float64(r.x0) > refX0-25*pxX {
+				keep = true
+				for _, q := range rows {
+					if q.hasPulse && math.Abs(q.baseY-r.baseY) < 0.75*pitch {
+						keep = false
+					}
+				}
+			}
+			if keep {
 				out = append(out, r)
 			}
 		}
