@@ -61,6 +61,8 @@ func hidden() *Header { return &Header{Hidden: true} }
 // squares; standards.md §1.1, common practice). The fitted line must also
 // put line k at (x0+k)·dpi/25.4 − 0.5 px, the truth's pixel convention.
 func TestGridPitch(t *testing.T) {
+	worstPitch := 0.0
+	defer func() { t.Logf("worst pitch error %.5f px/mm", worstPitch) }()
 	for _, dpi := range []float64{100, 150, 200, 300, 600} {
 		for _, kind := range []string{GridLines, GridMajor, GridDots} {
 			r := newRaster(80, 50, dpi)
@@ -112,6 +114,7 @@ func TestGridPitch(t *testing.T) {
 				ks = append(ks, float64(k))
 			}
 			slope, icpt := fitLine(ks, xs)
+			worstPitch = math.Max(worstPitch, math.Abs(slope-s))
 			if math.Abs(slope-s) > 0.1 {
 				t.Errorf("dpi %g %s: pitch %.4f px/mm, want %.4f ± 0.1", dpi, kind, slope, s)
 			}
@@ -141,6 +144,8 @@ func fitLine(x, y []float64) (slope, icpt float64) {
 // of the baseline stroke before it, measured in the image, divided by px
 // per mm, must equal the gain in mm within half a pixel.
 func TestPulseHeight(t *testing.T) {
+	worstMM := 0.0
+	defer func() { t.Logf("worst pulse height error %.4f mm", worstMM) }()
 	for _, gain := range []float64{5, 10, 20} {
 		for _, dpi := range []float64{150, 300} {
 			p, err := Render(sineRecord(500, 10, 0.5, 0.2, 0), &Options{GainMMPerMV: gain, DPI: dpi, Header: hidden()})
@@ -162,7 +167,9 @@ func TestPulseHeight(t *testing.T) {
 				if !ok1 || !ok2 {
 					t.Fatalf("gain %g dpi %g row %d: pulse not found", gain, dpi, pu.Row)
 				}
-				if got := (base - top) / s; math.Abs(got-gain) > 0.5/s {
+				got := (base - top) / s
+				worstMM = math.Max(worstMM, math.Abs(got-gain))
+				if math.Abs(got-gain) > 0.5/s {
 					t.Errorf("gain %g dpi %g row %d: pulse %.3f mm tall, want %g", gain, dpi, pu.Row, got, gain)
 				}
 				if pu.HeightMM != gain {
