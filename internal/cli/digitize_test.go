@@ -283,3 +283,22 @@ func TestBatchRealPipeline(t *testing.T) {
 	assert.FileExists(t, filepath.Join(out, "ward", "good.csv"))
 	assert.FileExists(t, filepath.Join(out, "catalog.csv"))
 }
+
+// TestDigitizeMultiPagePDF: a scanned PDF of two pages gives name.csv and
+// name-p2.csv.
+func TestDigitizeMultiPagePDF(t *testing.T) {
+	pdf := fpdf.New("L", "mm", "A4", "")
+	pdf.RegisterImageOptionsReader("page", fpdf.ImageOptions{ImageType: "PNG"}, bytes.NewReader(cleanPagePNG(t)))
+	for range 2 {
+		pdf.AddPage()
+		pdf.ImageOptions("page", 0, 0, 297, 210, false, fpdf.ImageOptions{ImageType: "PNG"}, 0, "")
+	}
+	var buf bytes.Buffer
+	require.NoError(t, pdf.Output(&buf))
+	in, out := t.TempDir(), t.TempDir()
+	f := writeFile(t, in, "two.pdf", buf.Bytes())
+	code, stdout, stderr := run("digitize", f, "-o", out)
+	require.Equal(t, ExitOK, code, stderr)
+	assert.Contains(t, stdout, "two.pdf page 2")
+	assert.ElementsMatch(t, []string{"two.csv", "two.json", "two-p2.csv", "two-p2.json"}, listDir(t, out))
+}
