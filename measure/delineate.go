@@ -31,6 +31,8 @@ type delinParams struct {
 	sigmaQ, sigmaP, sigmaT float64 // s
 	gammaQ                 float64 // significant QRS maxima: > gammaQ × the largest
 	qrsGap                 float64 // s, largest gap between consecutive QRS maxima
+	gammaQ2                float64 // a weaker slope maximum (q wave) this close to the onset ends the P search before it
+	qGap                   float64 // s, how close to the onset such a maximum must be
 	envTheta               float64 // multi-lead envelope threshold (mean squared normalised slope)
 	envGap                 float64 // s, gap tolerated inside the envelope
 	envMargin              float64 // s, per-lead search margin beyond the envelope
@@ -50,7 +52,7 @@ type delinParams struct {
 
 var defaultDelin = delinParams{
 	sigmaQ: 0.004, sigmaP: 0.014, sigmaT: 0.024,
-	gammaQ: 0.15, qrsGap: 0.045,
+	gammaQ: 0.15, qrsGap: 0.045, gammaQ2: 0.05, qGap: 0.02,
 	envTheta: 0.02, envGap: 0.02, envMargin: 0.015, qrsTol: 0.04,
 	xiQOn: 0.07, xiQOff: 0.07,
 	xiPOn: 0.4, xiPOff: 0.5, combFracP: 0.15,
@@ -192,6 +194,26 @@ func (d *delineator) delineate(x []float64, r int, rr float64, env [2]int, wantP
 			break
 		}
 	}
+	// A small initial q wave may fall under the significance threshold.
+	// It does not move the QRS onset (on 12 leads that cost accuracy
+	// against the reference marks) but it must not be taken for the end
+	// of a P wave: when a weaker slope maximum (≥ gammaQ2 of the main one)
+	// sits within qGap before the onset, the P search ends before it.
+	onP := on
+	if p.gammaQ2 > 0 {
+		weak := p.gammaQ2 * mainMax
+		for i := on - 1; i >= max(lo+1, on-S(p.qGap)); i-- {
+			if v := at(i); v > weak && v >= at(i-1) && v >= at(i+1) {
+				onP = i
+				for lim := p.xiQOn * at(i); onP > lo+1; onP-- {
+					if at(onP) < lim || at(onP-1) > at(onP) {
+						break
+					}
+				}
+				break
+			}
+		}
+	}
 	out.qrsOn, out.qrsOff, out.ok = float64(on), float64(off), true
 	// Isoelectric level: mean of 16 ms ending 4 ms before QRS onset.
 	b0, b1 := max(0, on-S(0.020)), max(0, on-S(0.004))
@@ -216,7 +238,14 @@ func (d *delineator) delineate(x []float64, r int, rr float64, env [2]int, wantP
 		d.findT(x, r, on, off, rr, base, &out)
 	}
 	if wantP {
-		d.findP(x, on, rr, base, &out)
+		// P is sought before the earliest QRS activity in any lead (the
+		// multi-lead envelope), so that a QRS onset found late in this
+		// lead does not leave the start of the QRS in the P window.
+		pc := onP
+		if env[0] >= 0 {
+			pc = min(onP, env[0])
+		}
+		d.findP(x, pc, rr, base, &out)
 	}
 	return out
 }
