@@ -790,3 +790,37 @@ func TestPNGExif(t *testing.T) {
 		t.Errorf("bottom-right %d, want the stored top-left %d", v, g.GrayAt(0, 0).Y)
 	}
 }
+
+// TestOrientYCbCr checks the fused YCbCr path against the standard
+// library's own YCbCr.At for every chroma subsampling and orientation,
+// including a sub-image with an odd origin.
+func TestOrientYCbCr(t *testing.T) {
+	ratios := []image.YCbCrSubsampleRatio{
+		image.YCbCrSubsampleRatio444, image.YCbCrSubsampleRatio422, image.YCbCrSubsampleRatio420,
+		image.YCbCrSubsampleRatio440, image.YCbCrSubsampleRatio411, image.YCbCrSubsampleRatio410,
+	}
+	for _, r := range ratios {
+		full := image.NewYCbCr(image.Rect(0, 0, 23, 17), r)
+		for i := range full.Y {
+			full.Y[i] = uint8(i*37 + 11)
+		}
+		for i := range full.Cb {
+			full.Cb[i], full.Cr[i] = uint8(i*53+7), uint8(i*29+101)
+		}
+		for _, src := range []*image.YCbCr{full, full.SubImage(image.Rect(3, 5, 20, 14)).(*image.YCbCr)} {
+			b := src.Bounds()
+			for o := 2; o <= 8; o++ {
+				d := Orient(src, o).(*image.NRGBA)
+				for y := 0; y < b.Dy(); y++ {
+					for x := 0; x < b.Dx(); x++ {
+						dx, dy := displayed(o, x, y, b.Dx(), b.Dy())
+						want := color.NRGBAModel.Convert(src.At(b.Min.X+x, b.Min.Y+y))
+						if got := d.NRGBAAt(dx, dy); got != want {
+							t.Fatalf("%v %v o=%d: (%d,%d) → %v, want %v", r, b, o, x, y, got, want)
+						}
+					}
+				}
+			}
+		}
+	}
+}

@@ -139,46 +139,44 @@ func remap(dst []byte, dstStride int, src []byte, srcStride, bpp, dw, dh int, m 
 	}
 }
 
-// orientYCbCr converts s to RGB row by row (sequential reads), then
-// remaps the RGB pixels through m.
+// orientYCbCr converts s to RGB while remapping it through m, in one
+// pass without an intermediate RGB copy (chroma indexed by shifts, valid
+// for non-negative coordinates).
 func orientYCbCr(d *image.NRGBA, s *image.YCbCr, m affine) {
-	n := ycbcrToNRGBA(s)
-	remap(d.Pix, d.Stride, n.Pix, n.Stride, 4, d.Rect.Dx(), d.Rect.Dy(), m)
-}
-
-// ycbcrToNRGBA converts s to an opaque *image.NRGBA with bounds at (0, 0)
-// (JFIF YCbCr → RGB as in color.YCbCrToRGB).
-func ycbcrToNRGBA(s *image.YCbCr) *image.NRGBA {
-	b := s.Rect
-	w, h := b.Dx(), b.Dy()
-	n := image.NewNRGBA(image.Rect(0, 0, w, h))
-	var hx, hy int // chroma subsampling shifts
-	switch s.SubsampleRatio {
-	case image.YCbCrSubsampleRatio422:
-		hx = 1
-	case image.YCbCrSubsampleRatio420:
-		hx, hy = 1, 1
-	case image.YCbCrSubsampleRatio440:
-		hy = 1
-	case image.YCbCrSubsampleRatio411:
-		hx = 2
-	case image.YCbCrSubsampleRatio410:
-		hx, hy = 2, 1
-	}
-	for y := 0; y < h; y++ {
-		sy := b.Min.Y + y
-		yrow := s.Y[(sy-s.Rect.Min.Y)*s.YStride:]
-		crow := (sy>>hy - s.Rect.Min.Y>>hy) * s.CStride
-		cb, cr := s.Cb[crow:], s.Cr[crow:]
-		dst := n.Pix[y*n.Stride : y*n.Stride+4*w]
-		cx0 := s.Rect.Min.X >> hx
-		for x := 0; x < w; x++ {
-			sx := b.Min.X + x
-			ci := sx>>hx - cx0
-			r, g, bl := color.YCbCrToRGB(yrow[sx-s.Rect.Min.X], cb[ci], cr[ci])
-			p := dst[4*x : 4*x+4 : 4*x+4]
-			p[0], p[1], p[2], p[3] = r, g, bl, 0xFF
+	hx, hy := chromaShifts(s.SubsampleRatio)
+	minX, minY := s.Rect.Min.X, s.Rect.Min.Y
+	cx0, cy0 := minX>>hx, minY>>hy
+	dw, dh := d.Rect.Dx(), d.Rect.Dy()
+	for dy := 0; dy < dh; dy++ {
+		row := d.Pix[dy*d.Stride : dy*d.Stride+4*dw]
+		sx := minX + m.bx*dy + m.cx
+		sy := minY + m.by*dy + m.cy
+		for do := 0; do < len(row); do += 4 {
+			yy := s.Y[(sy-minY)*s.YStride+sx-minX]
+			ci := (sy>>hy-cy0)*s.CStride + sx>>hx - cx0
+			r, g, b := color.YCbCrToRGB(yy, s.Cb[ci], s.Cr[ci])
+			p := row[do : do+4 : do+4]
+			p[0], p[1], p[2], p[3] = r, g, b, 0xFF
+			sx += m.ax
+			sy += m.ay
 		}
 	}
-	return n
+}
+
+// chromaShifts returns the horizontal and vertical chroma subsampling of
+// a YCbCr ratio as bit shifts.
+func chromaShifts(r image.YCbCrSubsampleRatio) (hx, hy int) {
+	switch r {
+	case image.YCbCrSubsampleRatio422:
+		return 1, 0
+	case image.YCbCrSubsampleRatio420:
+		return 1, 1
+	case image.YCbCrSubsampleRatio440:
+		return 0, 1
+	case image.YCbCrSubsampleRatio411:
+		return 2, 0
+	case image.YCbCrSubsampleRatio410:
+		return 2, 1
+	}
+	return 0, 0
 }
