@@ -90,10 +90,10 @@ func TestCorpusEvaluation(t *testing.T) {
 	if v, err := strconv.Atoi(os.Getenv("TRACELIFT_EVAL_N")); err == nil && v > 0 {
 		n = v
 	}
-	fmt.Printf("| condition | pages | fail | skew err median / p95 (°) | px/mm err x median / p95 (%%) | y median / p95 (%%) | gain ok | orient ok | residual p95 (mm) | s/page |\n|---|---|---|---|---|---|---|---|---|---|\n")
+	fmt.Printf("| condition | pages | fail | skew err median / p95 (°) | px/mm err x median / p95 (%%) | y median / p95 (%%) | gain ok / read from pulses | orient ok | residual p95 (mm) | s/page |\n|---|---|---|---|---|---|---|---|---|---|\n")
 	for _, cond := range []string{"clean", "scan", "gray", "fax", "photo", "lowres"} {
 		var sk, ex, ey, res []float64
-		fails, gain, orient := 0, 0, 0
+		fails, gain, read, orient := 0, 0, 0, 0
 		t0 := time.Now()
 		for i := 0; i < n; i++ {
 			s, err := corpusScore(t, cond, 1000, i)
@@ -111,10 +111,13 @@ func TestCorpusEvaluation(t *testing.T) {
 			if s.GainOK {
 				gain++
 			}
+			if s.GainRead {
+				read++
+			}
 		}
-		fmt.Printf("| %s | %d | %d | %.3f / %.3f | %.3f / %.3f | %.3f / %.3f | %d%% | %d%% | %.2f | %.1f |\n",
+		fmt.Printf("| %s | %d | %d | %.3f / %.3f | %.3f / %.3f | %.3f / %.3f | %d%% / %d%% | %d%% | %.2f | %.1f |\n",
 			cond, n, fails, quant(sk, 0.5), quant(sk, 0.95), quant(ex, 0.5), quant(ex, 0.95), quant(ey, 0.5), quant(ey, 0.95),
-			100*gain/n, 100*orient/n, quant(res, 0.95), time.Since(t0).Seconds()/float64(n))
+			100*gain/n, 100*read/n, 100*orient/n, quant(res, 0.95), time.Since(t0).Seconds()/float64(n))
 	}
 }
 

@@ -25,8 +25,12 @@ type Score struct {
 	// PxPerMMErrX, PxPerMMErrY are relative errors of the calibration
 	// against the true px/mm of the upright page (0.01 = 1 %).
 	PxPerMMErrX, PxPerMMErrY float64
-	// GainOK reports the gain read equal to the truth (within 2 %).
-	GainOK bool
+	// GainOK reports the calibration's gain equal to the truth (within
+	// 2 %), whatever its origin; GainRead additionally requires that it
+	// was read from the page's pulses (not defaulted).
+	GainOK, GainRead bool
+	// Pulses is the number of calibration pulses found.
+	Pulses int
 	// OrientationOK reports that paper x runs right and paper y down on
 	// the upright page.
 	OrientationOK bool
@@ -83,6 +87,8 @@ func Evaluate(p *imageproc.Page, r *Result, ref Reference) Score {
 		s.PxPerMMErrX, s.PxPerMMErrY, s.ResidualMM = math.NaN(), math.NaN(), math.NaN()
 	}
 	s.GainOK = ref.GainMMPerMV > 0 && math.Abs(r.Calibration.GainMMPerMV.V/ref.GainMMPerMV-1) < 0.02
+	s.GainRead = s.GainOK && r.Calibration.GainMMPerMV.Origin == FromPulse
+	s.Pulses = len(r.Pulses)
 	return s
 }
 

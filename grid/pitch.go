@@ -294,11 +294,13 @@ func majorLines(hp []float64, pxPerMM, phase, latticePitch float64, resolved boo
 	kmin := int(math.Ceil(-phase / latticePitch))
 	kmax := int(math.Floor((float64(n-1) - phase) / latticePitch))
 	if !resolved {
-		var out []float64
+		var out, str []float64
 		for k := kmin; k <= kmax; k++ {
-			out = append(out, phase+float64(k)*latticePitch)
+			x := phase + float64(k)*latticePitch
+			out = append(out, x)
+			str = append(str, at(x))
 		}
-		return out
+		return printed(out, str)
 	}
 	var sums [5]float64
 	for k := kmin; k <= kmax; k++ {
@@ -310,12 +312,32 @@ func majorLines(hp []float64, pxPerMM, phase, latticePitch float64, resolved boo
 			best = i
 		}
 	}
-	var out []float64
+	var out, str []float64
 	for k := kmin; k <= kmax; k++ {
 		if ((k%5)+5)%5 == best {
-			out = append(out, phase+float64(k)*latticePitch)
+			x := phase + float64(k)*latticePitch
+			out = append(out, x)
+			str = append(str, at(x))
 		}
 	}
+	return printed(out, str)
+}
 
+// printed keeps the lattice positions where a line is actually printed
+// (strength at least a quarter of the median), dropping the extrapolated
+// ones in margins and headers.
+func printed(pos, str []float64) []float64 {
+	if len(pos) == 0 {
+		return pos
+	}
+	s := slices.Clone(str)
+	slices.Sort(s)
+	med := s[len(s)/2]
+	var out []float64
+	for i, x := range pos {
+		if str[i] >= 0.25*med {
+			out = append(out, x)
+		}
+	}
 	return out
 }
