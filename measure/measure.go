@@ -114,7 +114,9 @@ func Measure(rec ecg.Record, opt *Options) (*Report, error) {
 	if len(groups) > 1 {
 		rep.Warnings = append(rep.Warnings, fmt.Sprintf("the leads form %d groups that were not recorded at the same time and no lead runs alongside all of them; QRS and QT are the longest of the groups', P and PR their median", len(groups)))
 	}
+	pWithheld := false
 	if why := atrialCheck(cond, dom, tmpl, lw, pre, rrDom); why != "" {
+		pWithheld = true
 		for i := range gs {
 			gs[i].pOn, gs[i].pOff, gs[i].pPeak = math.NaN(), math.NaN(), math.NaN()
 		}
@@ -138,7 +140,7 @@ func Measure(rec ecg.Record, opt *Options) (*Report, error) {
 			rep.QTcMS[k] = float64(round(QTc(k, float64(rep.QTMS), rrDom*1000), 1))
 		}
 	}
-	if anyOK && !rep.PMS.Valid() {
+	if anyOK && !rep.PMS.Valid() && !pWithheld {
 		rep.Warnings = append(rep.Warnings, "no P waves found (atrial fibrillation or flutter, junctional or paced rhythm, or a noisy tracing)")
 	}
 
