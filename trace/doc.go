@@ -14,6 +14,12 @@
 //     common practice). 0 mV is the calibration pulse's foot where there is
 //     one, else the most frequent level of the row's path (the isoelectric
 //     line).
+//   - Pulses: a rectangle rising 3–45 mm from the baseline at the row's
+//     left end; its height replaces a default gain (snapped to 5, 10 or 20
+//     mm/mV within 8 %). A page with no pulse on the left but pulses after
+//     a 180° turn is traced turned (paths are returned in the input's
+//     coordinates). The first trace column starts 2 mm after the pulse's
+//     falling edge unless the printed column separators say otherwise.
 //   - Layout: the number of rows and the printed column separators (tall
 //     isolated strokes at 1/4, 1/2, 3/4 of the row) choose among 3 × 4 with
 //     0, 1 or 3 rhythm strips, 6 × 2, 12 × 1 and a single lead printed as
@@ -42,6 +48,13 @@
 //     in mm); the Einthoven/Goldberger residual flags limb leads far above
 //     the others.
 //   - SNR: the PhysioNet/CinC Challenge 2024 definition (see SNR).
+//
+// # Known limits
+//
+// Where tall complexes of several rows cross (20 mm/mV pages, 12 × 1 on
+// A4) the strokes merge into one run per column and the path cannot tell
+// whose stroke it follows; those leads lose their QRS amplitude. Detail
+// finer than the pen width (high-frequency noise) is not recoverable.
 //
 // # Layout descriptions
 //

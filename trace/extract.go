@@ -87,6 +87,17 @@ func Extract(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse, opt *Op
 	}
 	pxX := cal.PxPerMMX.V
 	rows := findRows(ink, cal, pulses)
+	turned := false
+	if countPulses(rows) == 0 {
+		// No calibration pulse at the left of any row: the page may be
+		// upside down (pulses at the right ends, hanging below the
+		// baseline). Trace the page turned by 180° if that finds pulses.
+		rot := rotate180(ink)
+		if rr := findRows(rot, cal, nil); countPulses(rr) >= 2 {
+			ink, rows, turned = rot, rr, true
+			res.Warnings = append(res.Warnings, "the page appears upside down (calibration pulses on the right); traced turned by 180°")
+		}
+	}
 	if len(rows) == 0 {
 		return nil, fmt.Errorf("trace: extract: no trace rows on the page: %w", ecg.ErrNoECG)
 	}
@@ -289,7 +300,19 @@ func Extract(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse, opt *Op
 	res.Warnings = append(res.Warnings, dupWarn...)
 	res.Record, res.Quality, res.Layout = rec, qual, *lay
 	for _, tp := range all {
-		res.Panels = append(res.Panels, tp.p)
+		p := tp.p
+		if turned {
+			// Back to the input's coordinates.
+			w, h := ink.Rect.Min.X+ink.Rect.Max.X-1, ink.Rect.Min.Y+ink.Rect.Max.Y-1
+			p.Bounds = image.Rect(w+1-p.Bounds.Max.X, h+1-p.Bounds.Max.Y, w+1-p.Bounds.Min.X, h+1-p.Bounds.Min.Y)
+			p.ZeroY = float64(h) - p.ZeroY
+			path := make([]Point, len(p.Path))
+			for i, q := range p.Path {
+				path[len(p.Path)-1-i] = Point{float64(w) - q.X, float64(h) - q.Y}
+			}
+			p.Path = path
+		}
+		res.Panels = append(res.Panels, p)
 	}
 	if limbOK {
 		res.Limb = limb
@@ -630,4 +653,28 @@ func alignToTicks(rows []rowInfo, lay *Layout, cal grid.Calibration) {
 	for i := range rows {
 		rows[i].traceX0 += sum / float64(n)
 	}
+}
+
+func countPulses(rows []rowInfo) int {
+	n := 0
+	for _, r := range rows {
+		if r.hasPulse {
+			n++
+		}
+	}
+	return n
+}
+
+// rotate180 returns a copy of m turned by 180°, with the same bounds.
+func rotate180(m *image.Gray) *image.Gray {
+	out := image.NewGray(m.Rect)
+	w, h := m.Rect.Dx(), m.Rect.Dy()
+	for y := 0; y < h; y++ {
+		src := m.Pix[y*m.Stride : y*m.Stride+w]
+		dst := out.Pix[(h-1-y)*out.Stride : (h-1-y)*out.Stride+w]
+		for x, v := range src {
+			dst[w-1-x] = v
+		}
+	}
+	return out
 }
