@@ -46,7 +46,8 @@ type Page struct {
 	// GridColor is the grid's colour family: "red", "pink", "orange",
 	// "green", "blue", "grey" or "none".
 	GridColor string
-	// DPIX, DPIY are the input's resolution metadata from Options.
+	// DPIX, DPIY are the resolution metadata from Options, for the upright
+	// page: equal when an anisotropic input was resampled to square pixels.
 	DPIX, DPIY float64
 	Warnings   []string
 }
@@ -85,6 +86,22 @@ func Prepare(img image.Image, opt *Options) (*Page, error) {
 		return nil, fmt.Errorf("imageproc: image %d×%d px exceeds %d pixels: %w", W, H, o.MaxPixels, ecg.ErrUnreadable)
 	}
 	src := toNRGBA(img)
+	// Anisotropic resolution (a fax: 204 × 98 or 196 dpi, standards.md
+	// §6.1): resample to square pixels at the x resolution first, so that
+	// a rotation of the paper is a rotation of the image.
+	pre := identity
+	if o.DPIX > 0 && o.DPIY > 0 && math.Abs(o.DPIX/o.DPIY-1) > 0.02 {
+		rx := o.DPIX / o.DPIY
+		nh := int(math.Round(float64(H) * rx))
+		if W*nh > o.MaxPixels {
+			return nil, fmt.Errorf("imageproc: image %d×%d px at %g×%g dpi exceeds %d pixels once made square: %w", W, H, o.DPIX, o.DPIY, o.MaxPixels, ecg.ErrUnreadable)
+		}
+		pre = Homography{1, 0, 0, 0, 1 / rx, 0, 0, 0, 1}
+		sq := image.NewNRGBA(image.Rect(0, 0, W, nh))
+		warpNRGBA(sq, src, pre)
+		src, H = sq, nh
+		o.DPIY = o.DPIX
+	}
 	f := max(1, (max(W, H)+workSide-1)/workSide)
 	work := downscale(src, f)
 	bgw := estimateBackground(work, blockSize(work), 1)
@@ -103,6 +120,9 @@ func Prepare(img image.Image, opt *Options) (*Page, error) {
 		return nil, ErrBlank
 	}
 	p := &Page{GridColor: sep.family, DPIX: o.DPIX, DPIY: o.DPIY}
+	if pre != identity {
+		p.Warnings = append(p.Warnings, fmt.Sprintf("resolution %g×%g dpi: resampled to square pixels at %g dpi", opt.DPIX, opt.DPIY, o.DPIX))
+	}
 	// Geometry on the work image: corrected work px → work px.
 	theta := 0.0
 	if !o.NoDeskew {
@@ -160,12 +180,12 @@ func Prepare(img image.Image, opt *Options) (*Page, error) {
 	if OW*OH > 2*o.MaxPixels {
 		return nil, fmt.Errorf("imageproc: rectified page would be %d×%d px: %w", OW, OH, ecg.ErrNoECG)
 	}
-	p.ToSource = toSrc
-	if p.ToSource == identity {
+	p.ToSource = Mul(pre, toSrc)
+	if toSrc == identity {
 		p.Color = src
 	} else {
 		p.Color = image.NewNRGBA(image.Rect(0, 0, OW, OH))
-		warpNRGBA(p.Color, src, p.ToSource)
+		warpNRGBA(p.Color, src, toSrc)
 	}
 	uw := downscale(p.Color, f)
 	bg := estimateBackground(uw, blockSize(uw), float64(f))
