@@ -215,7 +215,8 @@ func (d *delineator) delineate(x []float64, r int, rr float64, env [2]int, wantP
 		}
 	}
 	out.qrsOn, out.qrsOff, out.ok = float64(on), float64(off), true
-	// Isoelectric level: mean of 16 ms ending 4 ms before QRS onset.
+	// Isoelectric level for wave detection: mean of 16 ms ending 4 ms
+	// before QRS onset. (Amplitudes use their own, see ampTemplates.)
 	b0, b1 := max(0, on-S(0.020)), max(0, on-S(0.004))
 	sum, cnt := 0.0, 0
 	for i := b0; i <= b1; i++ {

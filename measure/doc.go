@@ -71,8 +71,11 @@
 // median dominant RR. Frontal axes use θ = atan2(2·aVF, √3·I) after a
 // least-squares fit of leads I and II to every limb lead present (QRS:
 // net amplitude; P and T: mean level over the wave). Amplitudes are
-// measured on each lead's median beat against the PR-segment level 4–20
-// ms before the QRS onset; ST at J and J + 60 ms. Sokolow–Lyon = |S V1| +
+// measured on separate median beats of the recorded samples, each beat
+// referred to a baseline drawn between consecutive PR-segment levels
+// (isoelectric knots; no 40 Hz low-pass, no median-filter baseline, so
+// sharp R waves and sustained ST shifts keep their size), against the
+// PR-segment level 10–26 ms before the QRS onset; ST at J and J + 60 ms. Sokolow–Lyon = |S V1| +
 // max(R V5, R V6) (Sokolow & Lyon 1949); Cornell = R aVL + |S V3| (Casale
 // et al. 1985). Flags and their sources are listed in flags.go.
 //

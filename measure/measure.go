@@ -144,11 +144,16 @@ func Measure(rec ecg.Record, opt *Options) (*Report, error) {
 		rep.Warnings = append(rep.Warnings, "no P waves found (atrial fibrillation or flutter, junctional or paced rhythm, or a noisy tracing)")
 	}
 
-	// Per-lead amplitudes on the median beats, against the PR-segment level
-	// just before the global QRS onset.
+	// Per-lead amplitudes on amplitude median beats (see ampTemplates),
+	// against the PR-segment level just before the group's QRS onset.
+	atmpl := ampTemplates(f, idx, dom, gl, pre, post, &o)
 	amps := make(map[ecg.Lead]LeadMeasures)
 	for k, l := range f.leads {
-		lm := leadAmplitudes(tmpl[k], gl[k], fs)
+		at := atmpl[k]
+		if at == nil {
+			at = tmpl[k]
+		}
+		lm := leadAmplitudes(at, gl[k], fs)
 		lm.Lead = l.String()
 		lm.Beats = coverage(cond.x[k], dom)
 		w := lw[k]
@@ -158,7 +163,12 @@ func Measure(rec ecg.Record, opt *Options) (*Report, error) {
 		rep.Leads = append(rep.Leads, lm)
 		amps[l] = lm
 	}
-	rep.Axes = axes(f, tmpl, gl, fs)
+	for k := range atmpl {
+		if atmpl[k] == nil {
+			atmpl[k] = tmpl[k]
+		}
+	}
+	rep.Axes = axes(f, atmpl, gl, fs)
 	if v1, ok := amps[ecg.LeadV1]; ok && v1.SMV.Valid() {
 		r5, r6 := amps[ecg.LeadV5].RMV, amps[ecg.LeadV6].RMV
 		_, ok5 := amps[ecg.LeadV5]
@@ -395,7 +405,7 @@ func leadAmplitudes(x []float64, g waves, fs float64) LeadMeasures {
 	}
 	S := func(s float64) int { return int(math.Round(s * fs)) }
 	on, off := int(g.qrsOn), int(g.qrsOff)
-	base := meanRange(x, on-S(0.020), on-S(0.004))
+	base := meanRange(x, on-S(0.026), on-S(0.010))
 	if math.IsNaN(base) || off >= len(x) {
 		return lm
 	}
@@ -452,7 +462,7 @@ func axes(f *frame, tmpl [][]float64, gl []waves, fs float64) Axes {
 			}
 			x := tmpl[k]
 			on := int(g.qrsOn)
-			base := meanRange(x, on-S(0.020), on-S(0.004))
+			base := meanRange(x, on-S(0.026), on-S(0.010))
 			if math.IsNaN(base) {
 				continue
 			}
@@ -779,4 +789,74 @@ func atrialCheck(cond *frame, dom []int, tmpl [][]float64, lw []waves, pre int, 
 		}
 	}
 	return ""
+}
+
+// ampTemplates returns per-lead median beats for amplitude measurement.
+// The delineation signals are low-passed at 40 Hz (which rounds a sharp R
+// peak by 10–15 %) and their median-filter baseline follows a sustained
+// ST shift in part, so amplitudes are taken from the recorded samples
+// instead: each beat's window is referred to a baseline drawn straight
+// between the PR-segment levels (16 ms ending 10 ms before the QRS onset)
+// of consecutive beats — the isoelectric-knot method, common practice —
+// and the median over the dominant beats is taken, with no further
+// filtering (the record's own bandwidth; the median suppresses noise). Leads without a QRS onset fall
+// back to the delineation median beat.
+func ampTemplates(f *frame, all, dom []int, gl []waves, pre, post int, o *Options) [][]float64 {
+	fs := f.fs
+	S := func(s float64) int { return int(math.Round(s * fs)) }
+	out := make([][]float64, len(f.x))
+	step := 1.0
+	if len(dom) > o.MaxTemplateBeats {
+		step = float64(len(dom)) / float64(o.MaxTemplateBeats)
+	}
+	var use []int
+	for k := 0.0; int(k) < len(dom); k += step {
+		use = append(use, dom[int(k)])
+	}
+	m := pre + post + 1
+	for k, x := range f.x {
+		g := gl[k]
+		if !g.ok || math.IsNaN(g.qrsOn) {
+			continue
+		}
+		onRel := int(g.qrsOn) - pre
+		// Knots at every detected beat.
+		var kp []int
+		var kv []float64
+		for _, r := range all {
+			c := r + onRel - S(0.018)
+			if v := meanRange(x, c-S(0.008), c+S(0.008)); !math.IsNaN(v) && c-S(0.008) >= 0 && c+S(0.008) < len(x) {
+				kp, kv = append(kp, c), append(kv, v)
+			}
+		}
+		if len(kp) == 0 {
+			continue
+		}
+		base := func(i int) float64 {
+			j, _ := slices.BinarySearch(kp, i)
+			switch {
+			case j == 0:
+				return kv[0]
+			case j >= len(kp):
+				return kv[len(kv)-1]
+			}
+			a, b := kp[j-1], kp[j]
+			w := float64(i-a) / float64(b-a)
+			return kv[j-1]*(1-w) + kv[j]*w
+		}
+		t := make([]float64, m)
+		col := make([]float64, 0, len(use))
+		for j := 0; j < m; j++ {
+			col = col[:0]
+			for _, r := range use {
+				i := r - pre + j
+				if i >= 0 && i < len(x) && !math.IsNaN(x[i]) {
+					col = append(col, x[i]-base(i))
+				}
+			}
+			t[j] = median(col)
+		}
+		out[k] = t
+	}
+	return out
 }
