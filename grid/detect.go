@@ -114,7 +114,7 @@ func Detect(p *imageproc.Page, opt *Options) (*Result, error) {
 	// rectangular pulse of any size gives the scale (1 mV = gain mm).
 	scaleY := r.Calibration.PxPerMMY.V
 	scaleX := r.Calibration.PxPerMMX.V
-	r.Pulses = findPulses(p.Ink, scaleX, scaleY)
+	r.Pulses = findPulses(p.Ink, p.Gray, scaleX, scaleY)
 	if scaleY == 0 {
 		if len(r.Pulses) == 0 {
 			return nil, ErrNoGrid

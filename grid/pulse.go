@@ -18,7 +18,11 @@ type stroke struct {
 // top by ink (the flat 1 mV level) and with ink at their foot (the
 // baseline). QRS complexes have pointed tops and fail the flat-top test.
 // ppmX, ppmY are px/mm (0 when unknown: then strokes of 8–400 px count).
-func findPulses(ink *image.Gray, ppmX, ppmY float64) []Pulse {
+//
+// gray (luminance, may be nil) backs up the ink map along the pulse's top
+// and foot: on binarised pages a trace drawn exactly along a grid line is
+// removed from the ink with the line.
+func findPulses(ink, gray *image.Gray, ppmX, ppmY float64) []Pulse {
 	w, h := ink.Rect.Dx(), ink.Rect.Dy()
 	const on = 110
 	// Without a scale, a pulse is at least a 60th of the page's short side
@@ -110,8 +114,11 @@ func findPulses(ink *image.Gray, ppmX, ppmY float64) []Pulse {
 			// Flat top: ink along the top between the strokes.
 			top := (a.y0 + b.y0) / 2
 			thick, topY := topThickness(ink, a.x1+1, b.x0-1, top, on)
+			if thick == 0 && gray != nil {
+				thick, topY = topThickness(darkMap(gray), a.x1+1, b.x0-1, top, on)
+			}
 			top = topY
-			if thick == 0 || coverage(ink, a.x1+1, b.x0-1, top, thick, on) < 0.9 {
+			if thick == 0 || max(coverage(ink, a.x1+1, b.x0-1, top, thick, on), coverageGray(gray, a.x1+1, b.x0-1, top, thick)) < 0.9 {
 				continue
 			}
 			base := (a.y1 + b.y1) / 2
@@ -120,8 +127,10 @@ func findPulses(ink *image.Gray, ppmX, ppmY float64) []Pulse {
 			}
 			// Foot: the baseline leaves the pulse on at least one side,
 			// and the top does not continue outside (a box or a table).
-			left := coverage(ink, max(0, a.x0-minGap), a.x0-1, base-thick+1, thick, on)
-			right := coverage(ink, b.x1+1, min(w-1, b.x1+minGap), base-thick+1, thick, on)
+			left := max(coverage(ink, max(0, a.x0-minGap), a.x0-1, base-thick+1, thick, on),
+				coverageGray(gray, max(0, a.x0-minGap), a.x0-1, base-thick+1, thick))
+			right := max(coverage(ink, b.x1+1, min(w-1, b.x1+minGap), base-thick+1, thick, on),
+				coverageGray(gray, b.x1+1, min(w-1, b.x1+minGap), base-thick+1, thick))
 			if max(left, right) < 0.6 {
 				continue
 			}
@@ -227,4 +236,31 @@ func abs(a int) int {
 		return -a
 	}
 	return a
+}
+
+// darkMap returns 255 − g (a luminance map read as ink strength).
+func darkMap(g *image.Gray) *image.Gray {
+	d := image.NewGray(g.Rect)
+	for i, v := range g.Pix {
+		d.Pix[i] = 255 - v
+	}
+	return d
+}
+
+// coverageGray is coverage on a luminance map: dark (< 255−110) counts.
+func coverageGray(g *image.Gray, x0, x1, y, t int) float64 {
+	if g == nil || x1 < x0 {
+		return 0
+	}
+	h := g.Rect.Dy()
+	n := 0
+	for x := x0; x <= x1; x++ {
+		for yy := max(0, y-1); yy <= min(h-1, y+t); yy++ {
+			if g.Pix[yy*g.Stride+x] <= 255-110 {
+				n++
+				break
+			}
+		}
+	}
+	return float64(n) / float64(x1-x0+1)
 }
