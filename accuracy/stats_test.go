@@ -87,11 +87,11 @@ func TestSummarize(t *testing.T) {
 	assert.InDelta(t, 200.0/3, float64(a.GainCorrectPct), 1e-9)
 
 	var buf bytes.Buffer
-	require.NoError(t, WriteTable(&buf, rows))
+	require.NoError(t, WriteTable(&buf, "condition", rows))
 	assert.Contains(t, buf.String(), "clean")
 	assert.Equal(t, 4, strings.Count(buf.String(), "\n"), buf.String())
 	buf.Reset()
-	require.NoError(t, WriteMarkdown(&buf, rows))
+	require.NoError(t, WriteMarkdown(&buf, "condition", rows))
 	assert.Contains(t, buf.String(), "| fax | 1 | 1 | 0.0 |")
 	b, err := json.Marshal(rows)
 	require.NoError(t, err, "NaN statistics must still encode")

@@ -143,10 +143,11 @@ func sortedKeys(m map[string]F) []string {
 	return k
 }
 
-// WriteTable prints rows as an aligned text table with a legend.
-func WriteTable(w io.Writer, rows []Row) error {
+// WriteTable prints rows as an aligned text table; key names the first
+// column (what the rows are grouped by, e.g. "condition" or "layout").
+func WriteTable(w io.Writer, key string, rows []Row) error {
 	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', tabwriter.AlignRight)
-	fmt.Fprintln(tw, "condition\tpages\tfailed\tSNR med dB\tSNR p10 dB\tstrict med dB\tleads %\tswaps\tpx/mm x %\tpx/mm y %\tgain ok %\tskew °\tHR bpm\tPR ms\tQRS ms\tQT ms\ts/page\t")
+	fmt.Fprintln(tw, key+"\tpages\tfailed\tSNR med dB\tSNR p10 dB\tstrict med dB\tleads %\tswaps\tpx/mm x %\tpx/mm y %\tgain ok %\tskew °\tHR bpm\tPR ms\tQRS ms\tQT ms\ts/page\t")
 	for _, r := range rows {
 		fmt.Fprintf(tw, "%s\t%d\t%d\t%s\t%s\t%s\t%s\t%d\t%s\t%s\t%s\t%s\t%s\t%s\t%s\t%s\t%s\t\n",
 			r.Condition, r.Pages, r.Failed, f1(r.SNRMedianDB), f1(r.SNRP10DB), f1(r.StrictMedianDB),
@@ -162,10 +163,11 @@ strict: Challenge 2024, no shift, no mean removal); a lead not returned scores 0
 match another lead better than their own. Calibration, skew and interval columns are medians of absolute errors
 against the truth; gain ok: within 2 %.`
 
-// WriteMarkdown prints rows as a Markdown table (for the README).
-func WriteMarkdown(w io.Writer, rows []Row) error {
+// WriteMarkdown prints rows as a Markdown table (for the README); key
+// names the first column.
+func WriteMarkdown(w io.Writer, key string, rows []Row) error {
 	var b strings.Builder
-	b.WriteString("| condition | pages | failed | SNR median dB | SNR p10 dB | strict SNR median dB | leads found % | swaps | px/mm x err % | px/mm y err % | gain ok % | skew err ° | HR err bpm | PR err ms | QRS err ms | QT err ms | s/page |\n")
+	b.WriteString("| " + key + " | pages | failed | SNR median dB | SNR p10 dB | strict SNR median dB | leads found % | swaps | px/mm x err % | px/mm y err % | gain ok % | skew err ° | HR err bpm | PR err ms | QRS err ms | QT err ms | s/page |\n")
 	b.WriteString("|---|--:|--:|--:|--:|--:|--:|--:|--:|--:|--:|--:|--:|--:|--:|--:|--:|\n")
 	for _, r := range rows {
 		fmt.Fprintf(&b, "| %s | %d | %d | %s | %s | %s | %s | %d | %s | %s | %s | %s | %s | %s | %s | %s | %s |\n",

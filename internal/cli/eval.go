@@ -221,11 +221,11 @@ feed:
 		write = accuracy.WriteMarkdown
 	}
 	fmt.Fprintf(ios.Out, "tracelift %s eval, %s, %d pages\n\nBy condition:\n", Version, time.Now().UTC().Format("2006-01-02"), len(pages))
-	if err := write(ios.Out, byCond); err != nil {
+	if err := write(ios.Out, "condition", byCond); err != nil {
 		return fmt.Errorf("eval: %w", err)
 	}
 	fmt.Fprintf(ios.Out, "\nBy layout:\n")
-	if err := write(ios.Out, byLayout); err != nil {
+	if err := write(ios.Out, "layout", byLayout); err != nil {
 		return fmt.Errorf("eval: %w", err)
 	}
 	fmt.Fprintf(ios.Out, "\n%s\n", accuracy.Legend)
