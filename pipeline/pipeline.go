@@ -86,7 +86,7 @@ func (r *Result) Elapsed() time.Duration {
 // grid, pulse or trace is found; ecg.ErrPartial (with a usable Result)
 // when some leads could not be read or measurement failed; ctx's error
 // when cancelled between stages.
-func Run(ctx context.Context, page decode.Page, cfg Config) (*Result, error) {
+func Run(ctx context.Context, page decode.Page, cfg Config) (res *Result, err error) {
 	c := cfg
 	if c.SampleRate <= 0 {
 		c.SampleRate = 500
@@ -94,21 +94,30 @@ func Run(ctx context.Context, page decode.Page, cfg Config) (*Result, error) {
 	if ctx == nil {
 		ctx = context.Background()
 	}
-	res := &Result{Source: page}
+	res = &Result{Source: page}
+	stage := ""
+	// A panic in a stage is a bug, but one bad page must not bring down a
+	// batch of thousands: report it as an internal error of this page.
+	defer func() {
+		if r := recover(); r != nil {
+			err = fmt.Errorf("pipeline: internal error in the %s stage (a bug, please report it): %v", stage, r)
+		}
+	}()
 	if page.Image == nil {
 		return res, fmt.Errorf("pipeline: %w: page %d has no image", ecg.ErrUnreadable, page.Index)
 	}
-	step := func(stage string, f func() error) error {
+	step := func(name string, f func() error) error {
 		if err := ctx.Err(); err != nil {
 			return err
 		}
+		stage = name
 		t0 := time.Now()
 		err := f()
-		res.Timings = append(res.Timings, Timing{stage, time.Since(t0)})
+		res.Timings = append(res.Timings, Timing{name, time.Since(t0)})
 		return err
 	}
 
-	err := step(StagePrepare, func() error {
+	err = step(StagePrepare, func() error {
 		p, err := imageproc.Prepare(page.Image, &imageproc.Options{DPIX: page.DPIX, DPIY: page.DPIY, MaxPixels: c.MaxPixels})
 		res.Page = p
 		return err

@@ -167,4 +167,18 @@ func BenchmarkDigitizeA4JPEG(b *testing.B) { benchDigitize(b, "jpeg", false) }
 func BenchmarkDecodeA4PNG(b *testing.B)    { benchDigitize(b, "png", true) }
 func BenchmarkDecodeA4JPEG(b *testing.B)   { benchDigitize(b, "jpeg", true) }
 
-var _ = color.White
+
+// panicImage is an image whose pixels cannot be read: a stand-in for a bug
+// deep inside a stage.
+type panicImage struct{}
+
+func (panicImage) ColorModel() color.Model { return color.RGBAModel }
+func (panicImage) Bounds() image.Rectangle { return image.Rect(0, 0, 800, 600) }
+func (panicImage) At(x, y int) color.Color { panic("pixel store unavailable") }
+
+func TestRunRecoversFromPanics(t *testing.T) {
+	res, err := pipeline.Run(context.Background(), decode.Page{Image: panicImage{}, Index: 1}, pipeline.Config{})
+	require.Error(t, err)
+	assert.Contains(t, err.Error(), "internal error in the prepare stage")
+	assert.NotNil(t, res)
+}
