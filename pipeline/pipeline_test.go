@@ -167,7 +167,6 @@ func BenchmarkDigitizeA4JPEG(b *testing.B) { benchDigitize(b, "jpeg", false) }
 func BenchmarkDecodeA4PNG(b *testing.B)    { benchDigitize(b, "png", true) }
 func BenchmarkDecodeA4JPEG(b *testing.B)   { benchDigitize(b, "jpeg", true) }
 
-
 // panicImage is an image whose pixels cannot be read: a stand-in for a bug
 // deep inside a stage.
 type panicImage struct{}
