@@ -270,7 +270,7 @@ func batchOne(ctx context.Context, db *catalog.DB, in catalog.Input, opts *batch
 		if err := os.MkdirAll(filepath.Dir(outBase), 0o755); err != nil {
 			perr = fmt.Errorf("%s: %w: %v", filepath.Dir(outBase), ecg.ErrOutput, err)
 		} else {
-			res, perr = process(ctx, in.Abs, outBase)
+			res, perr = safeProcess(ctx, process, in.Abs, outBase)
 		}
 	}
 	if ctx.Err() != nil {
@@ -303,6 +303,17 @@ func batchOne(ctx context.Context, db *catalog.DB, in catalog.Input, opts *batch
 		return e, false, err
 	}
 	return e, false, nil
+}
+
+// safeProcess calls process, turning a panic (a bug) into an internal
+// error of this input so that the rest of the archive still runs.
+func safeProcess(ctx context.Context, process fileProcessor, in, outBase string) (res fileResult, err error) {
+	defer func() {
+		if r := recover(); r != nil {
+			err = fmt.Errorf("%s: internal error (a bug, please report it): %v", filepath.Base(in), r)
+		}
+	}()
+	return process(ctx, in, outBase)
 }
 
 // outputBases maps each input's relative path to its output base (the

@@ -34,6 +34,8 @@ func fakeProcess(calls *atomic.Int32) fileProcessor {
 		switch {
 		case strings.HasPrefix(s, "bad"):
 			return fileResult{}, fmt.Errorf("%s: %w: not a PNG file", filepath.Base(in), ecg.ErrUnreadable)
+		case strings.HasPrefix(s, "crash"):
+			panic("index out of range")
 		case strings.HasPrefix(s, "blank"):
 			return fileResult{}, fmt.Errorf("%s: %w: blank page", filepath.Base(in), ecg.ErrNoECG)
 		}
@@ -90,6 +92,7 @@ func TestBatchBadFilesDoNotStopTheRun(t *testing.T) {
 		"ward2/deep/c.png": "good c",
 		"ward2/d.png":      "blank d",
 		"e.tif":            "partial e",
+		"f.png":            "crash f",
 		"readme.txt":       "not an image",
 	})
 	ios, stdout, stderr := testIOS()
@@ -98,10 +101,11 @@ func TestBatchBadFilesDoNotStopTheRun(t *testing.T) {
 	err := runBatch(context.Background(), ios, opts)
 	require.Error(t, err)
 	assert.Equal(t, ExitPartial, ExitCode(err), "a batch with failures ends with the partial-result code: %v", err)
-	assert.EqualValues(t, 5, calls.Load())
+	assert.EqualValues(t, 6, calls.Load())
 
 	rows := catalogRows(t, filepath.Join(out, "catalog.sqlite"))
-	require.Len(t, rows, 5)
+	require.Len(t, rows, 6)
+	assert.Equal(t, "internal", rows["f.png"].Class, "a panic is caught and catalogued")
 	assert.Equal(t, catalog.StatusDone, rows["ward1/a.png"].Status)
 	assert.Equal(t, []string{"ward1/a.csv"}, rows["ward1/a.png"].Outputs)
 	assert.Equal(t, 72.0, rows["ward1/a.png"].HeartBPM)
@@ -116,8 +120,8 @@ func TestBatchBadFilesDoNotStopTheRun(t *testing.T) {
 	assert.FileExists(t, filepath.Join(out, "ward2", "deep", "c.csv"))
 	assert.FileExists(t, filepath.Join(out, "catalog.csv"))
 	csv, _ := os.ReadFile(filepath.Join(out, "catalog.csv"))
-	assert.Equal(t, 6, strings.Count(string(csv), "\n"), "header plus one row per input")
-	assert.Contains(t, stdout.String(), "2 done, 1 partial, 2 failed, 0 skipped")
+	assert.Equal(t, 7, strings.Count(string(csv), "\n"), "header plus one row per input")
+	assert.Contains(t, stdout.String(), "2 done, 1 partial, 3 failed, 0 skipped")
 	assert.Contains(t, stdout.String(), "Caution")
 	assert.Contains(t, stderr.String(), "failed  ward1/b.jpg")
 
@@ -126,7 +130,7 @@ func TestBatchBadFilesDoNotStopTheRun(t *testing.T) {
 	ios, stdout, _ = testIOS()
 	err = runBatch(context.Background(), ios, opts)
 	assert.Equal(t, ExitPartial, ExitCode(err))
-	assert.EqualValues(t, 2, calls.Load(), "only the two failed inputs are tried again")
+	assert.EqualValues(t, 3, calls.Load(), "only the three failed inputs are tried again")
 	assert.Contains(t, stdout.String(), "3 skipped")
 
 	// A changed input is redone even though it had finished.
@@ -134,7 +138,7 @@ func TestBatchBadFilesDoNotStopTheRun(t *testing.T) {
 	calls.Store(0)
 	ios, _, _ = testIOS()
 	_ = runBatch(context.Background(), ios, opts)
-	assert.EqualValues(t, 3, calls.Load())
+	assert.EqualValues(t, 4, calls.Load())
 }
 
 func TestBatchShardsAndMerge(t *testing.T) {
