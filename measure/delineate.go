@@ -12,11 +12,12 @@ type waves struct {
 	base              float64 // PR-segment level, mV
 	qrsPP, tAmp, pAmp float64 // QRS peak-to-peak, T and P amplitude vs base, mV
 	ok                bool    // QRS found
+	n                 int     // beats behind a median beat (0: a single beat)
 }
 
 func noWaves() waves {
 	n := math.NaN()
-	return waves{n, n, n, n, n, n, n, n, n, n, n, false}
+	return waves{n, n, n, n, n, n, n, n, n, n, n, false, 0}
 }
 
 // Delineation parameters. The smoothing scales play the part of the dyadic

@@ -355,3 +355,45 @@ func TestBeatTableQTDB(t *testing.T) {
 	// (341 beats), QT +7.4 ± 31.3 ms (336 beats).
 	checkBounds(t, "QTDB per beat", []*diffStats{qrs, qt}, map[string][2]float64{"QRS": {4, 19}, "QT": {9, 33}})
 }
+
+// TestLUDBAsPages measures each LUDB record as it would come off a 3 × 4
+// page — every lead only in its 2.5 s column, with and without a full
+// lead II rhythm strip — and compares the global intervals with the
+// full-record measurement (and the differences' spread over records).
+func TestLUDBAsPages(t *testing.T) {
+	dir := refdataDir(t, "ludb")
+	for _, rhythm := range []bool{true, false} {
+		st := []*diffStats{{name: "P"}, {name: "PR"}, {name: "QRS"}, {name: "QT"}}
+		hr := &diffStats{name: "HR"}
+		for _, n := range ludbRecords {
+			rec, _ := readWFDB(t, filepath.Join(dir, fmt.Sprint(n)+".hea"))
+			full, err := Measure(rec, nil)
+			if err != nil {
+				t.Fatal(err)
+			}
+			page, err := Measure(columnise(rec, rhythm), nil)
+			if err != nil {
+				t.Fatalf("ludb %d as a page: %v", n, err)
+			}
+			st[0].add(page.PMS, float64(full.PMS))
+			st[1].add(page.PRMS, float64(full.PRMS))
+			st[2].add(page.QRSMS, float64(full.QRSMS))
+			st[3].add(page.QTMS, float64(full.QTMS))
+			hr.add(page.HeartRateBPM, float64(full.HeartRateBPM))
+		}
+		name := map[bool]string{true: "3x4+II", false: "3x4"}[rhythm]
+		for _, s := range append(st, hr) {
+			t.Logf("LUDB as %s page − full record: %s", name, s) // HR in bpm
+		}
+		// Bounds just above the measured differences (page − full):
+		// with the rhythm strip P +0.3±9.1, PR −0.6±7.3, QRS +0.5±9.5,
+		// QT −3.5±33.1, HR −0.5±3.4 bpm; 3 × 4 alone P −8.9±15.6,
+		// PR +3.6±8.9, QRS +5.4±22.4, QT +18.7±40.4, HR −0.1±2.3 bpm.
+		// QT from 2.5 s columns is the weak point (see the report).
+		b := map[string][2]float64{"P": {1, 10}, "PR": {1, 8}, "QRS": {1, 10}, "QT": {4, 34}, "HR": {1, 4}}
+		if !rhythm {
+			b = map[string][2]float64{"P": {9, 16}, "PR": {4, 9}, "QRS": {6, 23}, "QT": {19, 41}, "HR": {1, 3}}
+		}
+		checkBounds(t, "LUDB "+name+" vs full", append(st, hr), b)
+	}
+}

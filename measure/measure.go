@@ -103,6 +103,7 @@ func Measure(rec ecg.Record, opt *Options) (*Report, error) {
 		ws := make([]waves, len(grp))
 		for i, k := range grp {
 			lw[k] = d.delineate(tmpl[k], pre, rrDom, env, true, true)
+			lw[k].n = coverage(cond.x[k], dom)
 			ws[i] = lw[k]
 		}
 		g := combineLeads(ws, fs, &d.p)
@@ -359,9 +360,16 @@ func combineLeads(ws []waves, fs float64, p *delinParams) waves {
 	// T end only from leads whose T wave is at least tKeep × the largest
 	// relative T amplitude (|T| / QRS peak-to-peak): a flat T gives no
 	// reliable end and tends to merge with a U wave.
+	// On a 3 × 4 page a short lead's median beat may rest on one or two
+	// beats; when other leads have at least three, only those give T ends.
+	nmax := 0
+	for _, w := range ws {
+		nmax = max(nmax, w.n)
+	}
+	nmin := min(3, nmax)
 	tmax := 0.0
 	for _, w := range ws {
-		if w.ok && !math.IsNaN(w.tEnd) && w.qrsPP > 0 {
+		if w.ok && !math.IsNaN(w.tEnd) && w.qrsPP > 0 && w.n >= nmin {
 			tmax = math.Max(tmax, math.Abs(w.tAmp)/w.qrsPP)
 		}
 	}
@@ -372,7 +380,7 @@ func combineLeads(ws []waves, fs float64, p *delinParams) waves {
 	type tend struct{ at, rel float64 }
 	var tends []tend
 	for _, w := range ws {
-		if w.ok && !math.IsNaN(w.tEnd) && w.qrsPP > 0 && math.Abs(w.tAmp)/w.qrsPP >= p.tKeep*tmax {
+		if w.ok && !math.IsNaN(w.tEnd) && w.qrsPP > 0 && w.n >= nmin && math.Abs(w.tAmp)/w.qrsPP >= p.tKeep*tmax {
 			tends = append(tends, tend{w.tEnd, math.Abs(w.tAmp) / w.qrsPP})
 		}
 	}
