@@ -696,10 +696,50 @@ func TestUnsupportedVariants(t *testing.T) {
 	}
 
 	j := jpegBytes(t, grayPattern(16, 16), 90)
-	tif := tiffBytes(binary.LittleEndian, []tiffPageSpec{{w: 16, h: 16, compression: 7, photometric: 1, bits: 8, data: j}})
-	_, err = Reader(bytes.NewReader(tif), int64(len(tif)), "jpeg.tif", nil)
-	if !errors.Is(err, ErrUnsupported) || !strings.HasPrefix(err.Error(), "jpeg.tif: page 1: ") {
-		t.Errorf("JPEG-in-TIFF: %v", err)
+	tif := tiffBytes(binary.LittleEndian, []tiffPageSpec{{w: 16, h: 16, compression: 6, photometric: 1, bits: 8, data: j}})
+	_, err = Reader(bytes.NewReader(tif), int64(len(tif)), "ojpeg.tif", nil)
+	if !errors.Is(err, ErrUnsupported) || !strings.HasPrefix(err.Error(), "ojpeg.tif: page 1: ") {
+		t.Errorf("old-style JPEG-in-TIFF: %v", err)
+	}
+}
+
+// TestTIFFJPEG: Compression 7 pages (TIFF Technical Note 2) decode here
+// since x/image/tiff does not: a one-strip grey page and a colour page
+// whose strip is an abbreviated JPEG stream with its tables in JPEGTables.
+func TestTIFFJPEG(t *testing.T) {
+	g := grayPattern(32, 24)
+	gj := jpegBytes(t, g, 100)
+	col := blockImage()
+	cj := jpegBytes(t, col, 100)
+	// Split the colour stream: tables (SOI, DQT, DHT… up to SOF) and an
+	// abbreviated image stream (SOI, SOF, SOS…), as TIFF writers store it.
+	sof := bytes.Index(cj, []byte{0xFF, 0xC0})
+	tables := append(append([]byte{}, cj[:sof]...), 0xFF, 0xD9)
+	abbreviated := append([]byte{0xFF, 0xD8}, cj[sof:]...)
+	b := tiffBytes(binary.LittleEndian, []tiffPageSpec{
+		{w: 32, h: 24, compression: 7, photometric: 1, bits: 8, data: gj, xres: 300, yres: 300, unit: 2},
+	})
+	p := readerPages(t, b, "grey-jpeg.tif", nil)[0]
+	gray, ok := p.Image.(*image.Gray)
+	if !ok || p.DPIX != 300 {
+		t.Fatalf("got %T dpi %g", p.Image, p.DPIX)
+	}
+	for i, v := range g.Pix {
+		if !near(float64(gray.Pix[i]), float64(v), 24) { // quality-100 JPEG, fine texture
+			t.Fatalf("grey pixel %d = %d, want ≈ %d", i, gray.Pix[i], v)
+		}
+	}
+
+	c := tiffBytesExtra(binary.LittleEndian, tiffPageSpec{w: 48, h: 32, compression: 7, photometric: 6, bits: 8, data: abbreviated}, 3, tables)
+	p = readerPages(t, c, "colour-jpeg.tif", nil)[0]
+	for by := 0; by < 2; by++ {
+		for bx := 0; bx < 3; bx++ {
+			want := blockColors[by][bx]
+			r, g, bl, _ := p.Image.At(bx*16+8, by*16+8).RGBA()
+			if !near(float64(r>>8), float64(want.R), 12) || !near(float64(g>>8), float64(want.G), 12) || !near(float64(bl>>8), float64(want.B), 12) {
+				t.Errorf("block (%d,%d) = %d,%d,%d, want %v", bx, by, r>>8, g>>8, bl>>8, want)
+			}
+		}
 	}
 }
 

@@ -542,3 +542,58 @@ type byteOrder interface {
 	binary.ByteOrder
 	binary.AppendByteOrder
 }
+
+// tiffBytesExtra writes a one-page TIFF like tiffBytes with
+// SamplesPerPixel spp and a JPEGTables entry (tag 347, UNDEFINED).
+func tiffBytesExtra(bo byteOrder, p tiffPageSpec, spp uint32, tables []byte) []byte {
+	var out []byte
+	if bo == byteOrder(binary.BigEndian) {
+		out = []byte("MM\x00*\x00\x00\x00\x00")
+	} else {
+		out = []byte("II*\x00\x00\x00\x00\x00")
+	}
+	dataOff := uint32(len(out))
+	out = append(out, p.data...)
+	tabOff := uint32(len(out))
+	out = append(out, tables...)
+	if len(out)%2 == 1 {
+		out = append(out, 0)
+	}
+	ifdOff := uint32(len(out))
+	bo.PutUint32(out[4:], ifdOff)
+	bits := make([]uint32, spp)
+	for i := range bits {
+		bits[i] = 8
+	}
+	fields := []ifdField{
+		{tagImageWidth, typeLong, []uint32{uint32(p.w)}},
+		{tagImageLength, typeLong, []uint32{uint32(p.h)}},
+		{258, typeShort, bits},
+		{259, typeShort, []uint32{p.compression}},
+		{262, typeShort, []uint32{p.photometric}},
+		{273, typeLong, []uint32{dataOff}},
+		{277, typeShort, []uint32{spp}},
+		{278, typeLong, []uint32{uint32(p.h)}},
+		{279, typeLong, []uint32{uint32(len(p.data))}},
+	}
+	ifd, _ := tiffIFD(bo, ifdOff, fields)
+	// JPEGTables (347, type 7 UNDEFINED) appended by hand: tiffIFD knows
+	// SHORT, LONG and RATIONAL only. Rebuild with one more entry.
+	n := len(fields) + 1
+	head := make([]byte, 2+12*n+4)
+	bo.PutUint16(head, uint16(n))
+	copy(head[2:], ifd[2:2+12*len(fields)])
+	e := head[2+12*len(fields):]
+	bo.PutUint16(e[0:], tagJPEGTables)
+	bo.PutUint16(e[2:], 7)
+	bo.PutUint32(e[4:], uint32(len(tables)))
+	bo.PutUint32(e[8:], tabOff)
+	// Out-of-line values (the BitsPerSample triple) follow the longer
+	// directory: move them and fix their offset.
+	extra := ifd[2+12*len(fields)+4:]
+	if len(extra) > 0 {
+		bo.PutUint32(head[2+12*2+8:], ifdOff+uint32(len(head)))
+	}
+	out = append(out, head...)
+	return append(out, extra...)
+}

@@ -119,6 +119,17 @@ func (f *tiffFile) decode(i int, check func(w, h int) error) (Page, error) {
 		return Page{}, &Error{Name: f.src.name, Page: i, Kind: ErrUnsupported,
 			Reason: "two-dimensional Group 3 fax coding (TIFF T4Options 2-D) is not supported; Group 4 and one-dimensional Group 3 are"}
 	}
+	switch p.comp {
+	case 6:
+		return Page{}, &Error{Name: f.src.name, Page: i, Kind: ErrUnsupported,
+			Reason: "old-style JPEG compression in TIFF (Compression 6) is not supported"}
+	case 7:
+		img, err := f.decodeJPEGTIFF(i, p)
+		if err != nil {
+			return Page{}, err
+		}
+		return Page{Image: img, DPIX: p.m.dpiX, DPIY: p.m.dpiY, Orientation: p.m.orientation}, nil
+	}
 	v := &patchedTIFF{src: f.src, t: f.t, ifd: uint32(p.off)}
 	img, err := tiff.Decode(v)
 	if err != nil {
