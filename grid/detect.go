@@ -227,17 +227,27 @@ type axisFit struct {
 	major  []float64 // major line positions, px
 	minorR bool      // minor lines resolved
 	period float64   // autocorrelation period used, px
+	lines  float64   // lattice periods spanned by the fitted lines
 }
 
-// reconcile fixes a 5:1 mix-up between the axes: if one axis resolved only
-// major lines and reads 5× the other, believe the resolved one.
+// reconcile fixes a 5:1 mix-up between the axes (pixels are square
+// after Prepare unless the page is a photo): if one axis reads 5× the
+// other, the axis whose fit spanned more lattice periods decides.
 func reconcile(x, y axisFit) (axisFit, axisFit) {
 	ratio := x.pitch / y.pitch
 	switch {
-	case math.Abs(ratio/5-1) < 0.15 && !x.minorR && y.minorR:
-		x.pitch /= 5
-	case math.Abs(ratio*5-1) < 0.15 && !y.minorR && x.minorR:
-		y.pitch /= 5
+	case math.Abs(ratio/5-1) < 0.15: // x looks 5× y
+		if x.lines >= y.lines {
+			y.pitch *= 5
+		} else {
+			x.pitch /= 5
+		}
+	case math.Abs(ratio*5-1) < 0.15: // y looks 5× x
+		if y.lines >= x.lines {
+			x.pitch *= 5
+		} else {
+			y.pitch /= 5
+		}
 	}
 	return x, y
 }

@@ -13,14 +13,15 @@ type Reference struct {
 	PaperToImage [9]float64
 	// GridRectMM is the gridded area [x0, y0, x1, y1], mm.
 	GridRectMM  [4]float64
-	RotationDeg float64 // skew applied to the page, counter-clockwise as seen
+	RotationDeg float64 // skew applied to the page, counter-clockwise as seen (informative)
 	GainMMPerMV float64
 	SpeedMMPerS float64
 }
 
 // Score is the front end's error on one page.
 type Score struct {
-	// SkewErrDeg is |measured − true| skew, degrees, modulo 90°.
+	// SkewErrDeg is the skew left on the upright page, degrees: the angle
+	// of the paper's x axis at the grid's centre, modulo 90°.
 	SkewErrDeg float64
 	// PxPerMMErrX, PxPerMMErrY are relative errors of the calibration
 	// against the true px/mm of the upright page (0.01 = 1 %).
@@ -44,11 +45,6 @@ type Score struct {
 // Evaluate compares a prepared page and its detection with the truth.
 func Evaluate(p *imageproc.Page, r *Result, ref Reference) Score {
 	var s Score
-	d := math.Mod(p.RotationDeg-ref.RotationDeg+45, 90)
-	if d < 0 {
-		d += 90
-	}
-	s.SkewErrDeg = math.Abs(d - 45)
 	inv, ok := imageproc.Invert(p.ToSource)
 	if !ok {
 		return s
@@ -74,6 +70,13 @@ func Evaluate(p *imageproc.Page, r *Result, ref Reference) Score {
 	u0, v0 := imageproc.Apply(toUp, cx, cy)
 	u1, v1 := imageproc.Apply(toUp, cx+1, cy)
 	u2, v2 := imageproc.Apply(toUp, cx, cy+1)
+	// Skew left on the upright page: the angle of the paper's x axis at
+	// the centre (modulo 90°, so a wrong quarter turn does not count here).
+	d := math.Mod(math.Atan2(v1-v0, u1-u0)*180/math.Pi+45, 90)
+	if d < 0 {
+		d += 90
+	}
+	s.SkewErrDeg = math.Abs(d - 45)
 	s.OrientationOK = u1-u0 > 0 && v2-v0 > 0 && math.Abs(v1-v0) < 0.3*(u1-u0) && math.Abs(u2-u0) < 0.3*(v2-v0)
 	if s.OrientationOK {
 		s.PxPerMMErrX = math.Abs(r.Calibration.PxPerMMX.V/a - 1)

@@ -49,6 +49,12 @@ func measureAxis(g *image.Gray, alongX bool) (axisFit, bool) {
 		minor = p1 / 5
 		resolved = false
 	}
+	// An ECG page (or a strip) is at least about 70 mm along an axis: a
+	// "1 mm" period that would make the image shorter is the 5 mm one.
+	if resolved && float64(n)/p1 < 70 && p1/5 >= 1.5 {
+		minor = p1 / 5
+		resolved = false
+	}
 	period := minor
 	if !resolved {
 		period = p1
@@ -62,7 +68,7 @@ func measureAxis(g *image.Gray, alongX bool) (axisFit, bool) {
 	if !ok || (resolved && span < 40) || (!resolved && span < 24) {
 		return axisFit{}, false
 	}
-	fit := axisFit{minorR: resolved, period: period}
+	fit := axisFit{minorR: resolved, period: period, lines: span}
 	if resolved {
 		fit.pitch = pitch
 	} else {
