@@ -1,6 +1,9 @@
 // Package decode reads scanned or photographed ECG pages from image files:
-// PNG, JPEG, TIFF (multi-page, CCITT Group 3/4 fax compression), BMP, GIF
-// (first frame), WebP and the raster images embedded in PDF files.
+// PNG, JPEG, TIFF (multi-page; uncompressed, PackBits, LZW, Deflate and
+// CCITT Group 4 and one-dimensional Group 3 fax through
+// golang.org/x/image/tiff, and JPEG compression 7 per TIFF Technical Note 2
+// decoded here), BMP, GIF (first frame), WebP and the raster images
+// embedded in PDF files.
 //
 // The format is sniffed from the file's content, never from its name. Every
 // page is checked against a pixel budget (Options.MaxPixels, default
@@ -50,7 +53,8 @@
 //	      *image.NRGBA, *image.NRGBA64 or *image.Paletted (1/2/4/8-bit palette)
 //	JPEG  *image.YCbCr, *image.Gray or *image.CMYK
 //	TIFF  *image.Gray (also 1-bit and CCITT fax pages), *image.Gray16,
-//	      *image.Paletted, *image.RGBA, *image.NRGBA, *image.RGBA64, *image.NRGBA64
+//	      *image.Paletted, *image.RGBA, *image.NRGBA, *image.RGBA64, *image.NRGBA64;
+//	      JPEG-compressed pages *image.Gray or *image.RGBA
 //	BMP   *image.Paletted, *image.RGBA or *image.NRGBA
 //	GIF   *image.Paletted (first frame)
 //	WebP  *image.YCbCr, *image.NYCbCrA or *image.NRGBA

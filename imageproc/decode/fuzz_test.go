@@ -35,6 +35,7 @@ func fuzzSeeds(t testing.TB) [][]byte {
 			{w: 12, h: 9, compression: 1, photometric: 1, bits: 8, data: g.Pix, orientation: 3},
 		}),
 		tiffBytes(binary.BigEndian, []tiffPageSpec{{w: 8, h: 8, compression: 1, photometric: 0, bits: 1, data: bytes.Repeat([]byte{0x5A}, 8)}}),
+		tiffBytesExtra(binary.LittleEndian, tiffPageSpec{w: 16, h: 16, compression: 7, photometric: 6, bits: 8, data: jpegBytes(t, small, 70)}, 3, nil),
 		gifBytes(t, pal),
 		bmpBytes(t, g, 3937, 3937),
 		pdfFromJPEGs(t, [][]byte{jpegBytes(t, small, 60)}, 150),
