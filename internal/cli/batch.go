@@ -162,6 +162,7 @@ func runBatch(ctx context.Context, ios *IOStreams, opts *batchOptions) error {
 		fmt.Fprintf(ios.ErrOut, "batch: %d inputs in %s (shard %s), %d workers\n",
 			len(inputs), opts.InputDir, opts.Shard, opts.Workers)
 	}
+	prog.update(batchStats{Total: len(inputs)}, 0)
 	jobs := make(chan catalog.Input)
 	var (
 		mu       sync.Mutex
@@ -193,8 +194,13 @@ func runBatch(ctx context.Context, ios *IOStreams, opts *batchOptions) error {
 						st.Failed++
 					}
 				}
-				if err == nil && !opts.Quiet && !ios.IsTerminal && !skipped {
+				switch {
+				case err != nil || skipped || opts.Quiet:
+				case !ios.IsTerminal:
 					fmt.Fprintln(ios.ErrOut, logLine(e))
+				case e.Status != catalog.StatusDone:
+					// Problems scroll above the progress bar.
+					prog.above(logLine(e))
 				}
 				prog.update(st, time.Since(start))
 				mu.Unlock()
@@ -410,6 +416,15 @@ func (p *progress) update(st batchStats, elapsed time.Duration) {
 	p.last = now
 	fmt.Fprint(p.w, "\r\x1b[K"+progressLine(n, p.total, st, elapsed))
 	p.drawn = true
+}
+
+// above prints a line above the bar and forces the bar to be redrawn.
+func (p *progress) above(line string) {
+	if !p.on {
+		return
+	}
+	fmt.Fprint(p.w, "\r\x1b[K"+line+"\n")
+	p.last = time.Time{}
 }
 
 func (p *progress) finish() {
