@@ -102,16 +102,19 @@ func Extract(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse, opt *Op
 		return nil, fmt.Errorf("trace: extract: no trace rows on the page: %w", ecg.ErrNoECG)
 	}
 	alignStarts(rows, pxX)
-	if cal.GainMMPerMV.Origin == grid.FromDefault {
-		// The grid stage measured no pulse; take the gain from the pulses
-		// found here (1 mV tall by definition, standards.md §1.1).
+	{
+		// The pulses are 1 mV tall by definition (standards.md §1.1). When
+		// the grid stage measured none, or its gain disagrees with the
+		// pulses measured here by more than 20 %, take the gain from these.
 		var hs []float64
 		for _, r := range rows {
 			if r.pulseMM > 0 {
 				hs = append(hs, r.pulseMM)
 			}
 		}
-		if len(hs) > 0 {
+		sort.Float64s(hs)
+		g0 := cal.GainMMPerMV.V
+		if len(hs) > 0 && (cal.GainMMPerMV.Origin == grid.FromDefault || len(hs) >= 2 && math.Abs(hs[len(hs)/2]-g0) > 0.2*g0) {
 			sort.Float64s(hs)
 			g := hs[len(hs)/2]
 			for _, std := range []float64{5, 10, 20} {
@@ -121,8 +124,8 @@ func Extract(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse, opt *Op
 					g = std
 				}
 			}
-			if math.Abs(g-cal.GainMMPerMV.V) > 0.1*cal.GainMMPerMV.V {
-				res.Warnings = append(res.Warnings, fmt.Sprintf("gain %.3g mm/mV taken from the calibration pulses (was the default %.3g)", g, cal.GainMMPerMV.V))
+			if math.Abs(g-g0) > 0.1*g0 {
+				res.Warnings = append(res.Warnings, fmt.Sprintf("gain %.3g mm/mV taken from the calibration pulses (was %.3g, %s)", g, g0, cal.GainMMPerMV.Origin))
 			}
 			cal.GainMMPerMV = grid.Value{V: g, Origin: grid.FromPulse}
 		}

@@ -156,12 +156,18 @@ func findRows(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse) []rowI
 	for i := range rows {
 		r := &rows[i]
 		r.baseY += float64(b.Min.Y)
+		// The row's own pulse measurement always runs: its height checks
+		// the gain; a pulse from the grid stage, when there is one, then
+		// gives the 0 mV level and the start.
+		findPulse(ink, r, cal)
 		attachPulse(r, pulses, pxX, pxY)
 		if !r.hasPulse {
-			findPulse(ink, r, cal)
-		}
-		if !r.hasPulse {
 			r.traceX0 = float64(r.x0)
+		}
+		// Printed rows are 250 mm wide (10 s at 25 mm/s, standards.md
+		// §1.1); a longer stretch has picked up grid lines left in the ink.
+		if r.hasPulse && float64(r.x1)-r.traceX0 > 256*pxX {
+			r.x1 = int(r.traceX0 + 250*pxX)
 		}
 	}
 	// When most rows start with a calibration pulse, rows without one are
@@ -240,13 +246,14 @@ func attachPulse(r *rowInfo, pulses []grid.Pulse, pxX, pxY float64) {
 // findPulse looks for a rectangular calibration pulse at the left end of
 // the row: a stroke rising from the baseline by 3–45 mm, a flat top 3–12
 // mm long and a fall back to the same foot, rising between 14 mm before
-// and 6 mm after the row's first ink. Its height is recorded (pulseMM) so that a default gain
+// and 25 mm after the row's first ink (grid lines left in the ink can
+// start the row early). Its height is recorded (pulseMM) so that a default gain
 // can be replaced by the printed one.
 func findPulse(ink *image.Gray, r *rowInfo, cal grid.Calibration) {
 	pxX, pxY := cal.PxPerMMX.V, cal.PxPerMMY.V
 	// A pulse taller than the row's ink band is cut off from the row's
 	// stretch by its width, so the search starts 14 mm left of it.
-	band := image.Rect(r.x0-int(14*pxX), int(r.baseY-45*pxY), min(ink.Rect.Max.X, r.x0+int(22*pxX)), int(r.baseY+3*pxY)).Intersect(ink.Rect)
+	band := image.Rect(r.x0-int(14*pxX), int(r.baseY-45*pxY), min(ink.Rect.Max.X, r.x0+int(40*pxX)), int(r.baseY+3*pxY)).Intersect(ink.Rect)
 	if band.Empty() {
 		return
 	}
@@ -269,7 +276,7 @@ func findPulse(ink *image.Gray, r *rowInfo, cal grid.Calibration) {
 	}
 	rise := -1
 	var top, foot float64
-	for c := 0; c < min(cr.width(), r.x0-cr.x0+int(6*pxX)); c++ {
+	for c := 0; c < min(cr.width(), r.x0-cr.x0+int(25*pxX)); c++ {
 		if t, b, ok := tall(c, 0); ok {
 			rise, top, foot = c, t, b
 			break
