@@ -97,6 +97,7 @@ func findPulses(ink, gray *image.Gray, ppmX, ppmY float64) []Pulse {
 		tol = max(2, int(0.5*ppmY))
 	}
 	var out []Pulse
+	var dark *image.Gray // 255 − gray, made on first need
 	taken := make([]bool, len(st))
 	for i, a := range st {
 		if taken[i] {
@@ -115,7 +116,10 @@ func findPulses(ink, gray *image.Gray, ppmX, ppmY float64) []Pulse {
 			top := (a.y0 + b.y0) / 2
 			thick, topY := topThickness(ink, a.x1+1, b.x0-1, top, on)
 			if thick == 0 && gray != nil {
-				thick, topY = topThickness(darkMap(gray), a.x1+1, b.x0-1, top, on)
+				if dark == nil {
+					dark = darkMap(gray)
+				}
+				thick, topY = topThickness(dark, a.x1+1, b.x0-1, top, on)
 			}
 			top = topY
 			if thick == 0 || max(coverage(ink, a.x1+1, b.x0-1, top, thick, on), coverageGray(gray, a.x1+1, b.x0-1, top, thick)) < 0.9 {
