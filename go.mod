@@ -3,7 +3,6 @@ module tracelift
 go 1.26.0
 
 require (
-	github.com/disintegration/imaging v1.6.2
 	github.com/go-pdf/fpdf v0.9.0
 	github.com/pdfcpu/pdfcpu v0.15.0
 	github.com/spf13/cobra v1.10.2
