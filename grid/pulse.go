@@ -157,7 +157,38 @@ func findPulses(ink, gray *image.Gray, ppmX, ppmY float64) []Pulse {
 			break
 		}
 	}
-	return consistent(out)
+	return consistent(atRowEnds(out, ink))
+}
+
+// atRowEnds keeps the pulses printed where calibration pulses go: at the
+// start of a row (the left fifth of the traced width) or at its end (the
+// right tenth) — common practice; flat-topped complexes elsewhere that
+// look like a pulse are dropped.
+func atRowEnds(ps []Pulse, ink *image.Gray) []Pulse {
+	w, h := ink.Rect.Dx(), ink.Rect.Dy()
+	cols := make([]int, w)
+	for y := 0; y < h; y += 2 {
+		for x, v := range ink.Pix[y*ink.Stride : y*ink.Stride+w] {
+			if v >= 128 {
+				cols[x]++
+			}
+		}
+	}
+	lo, hi := 0, w-1
+	for lo < w-1 && cols[lo] == 0 {
+		lo++
+	}
+	for hi > 0 && cols[hi] == 0 {
+		hi--
+	}
+	span := float64(hi - lo)
+	var out []Pulse
+	for _, p := range ps {
+		if p.X0 <= float64(lo)+0.2*span || p.X1 >= float64(hi)-0.1*span {
+			out = append(out, p)
+		}
+	}
+	return out
 }
 
 // topThickness returns how many rows from y down are inked at the middle
