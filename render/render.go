@@ -1,7 +1,10 @@
 package render
 
 import (
+	"bytes"
+	"encoding/binary"
 	"fmt"
+	"hash/crc32"
 	"image"
 	"image/png"
 	"io"
@@ -20,13 +23,47 @@ type Page struct {
 	Truth Truth
 }
 
-// WritePNG encodes the page image as PNG.
+// WritePNG encodes the page image as PNG. Like a scanner or fax
+// program, it records the resolution (a pHYs chunk, PNG specification §11.3.5.3)
+// when the page has one: flat pages, also rotated or with different x and
+// y resolution (fax); not phone photos, whose perspective leaves no single
+// resolution.
 func (p *Page) WritePNG(w io.Writer) error {
 	enc := png.Encoder{CompressionLevel: png.BestSpeed}
-	if err := enc.Encode(w, p.Image); err != nil {
+	var buf bytes.Buffer
+	if err := enc.Encode(&buf, p.Image); err != nil {
+		return fmt.Errorf("render: write png: %w: %w", ecg.ErrOutput, err)
+	}
+	b := buf.Bytes()
+	t := &p.Truth
+	flat := t.PaperToImage[6] == 0 && t.PaperToImage[7] == 0 && (t.Lens == nil || t.Lens.K1 == 0)
+	if flat && t.PxPerMMX > 0 && t.PxPerMMY > 0 {
+		b = withPHYs(b, t.PxPerMMX*1000, t.PxPerMMY*1000)
+	}
+	if _, err := w.Write(b); err != nil {
 		return fmt.Errorf("render: write png: %w: %w", ecg.ErrOutput, err)
 	}
 	return nil
+}
+
+// withPHYs inserts a pHYs chunk (pixels per metre, unit 1 = metre) right
+// after the IHDR chunk of an encoded PNG.
+func withPHYs(b []byte, xPerM, yPerM float64) []byte {
+	const ihdrEnd = 8 + 8 + 13 + 4 // signature, IHDR length+type, data, CRC
+	if len(b) < ihdrEnd {
+		return b
+	}
+	chunk := make([]byte, 4+4+9+4)
+	binary.BigEndian.PutUint32(chunk[0:], 9)
+	copy(chunk[4:], "pHYs")
+	binary.BigEndian.PutUint32(chunk[8:], uint32(math.Round(xPerM)))
+	binary.BigEndian.PutUint32(chunk[12:], uint32(math.Round(yPerM)))
+	chunk[16] = 1
+	binary.BigEndian.PutUint32(chunk[17:], crc32.ChecksumIEEE(chunk[4:17]))
+	out := make([]byte, 0, len(b)+len(chunk))
+	out = append(out, b[:ihdrEnd]...)
+	out = append(out, chunk...)
+	return append(out, b[ihdrEnd:]...)
 }
 
 // Render prints rec on ECG paper as opt describes (nil means defaults: A4,
