@@ -86,6 +86,9 @@ func Extract(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse, opt *Op
 		res.Warnings = append(res.Warnings, "gain unknown; assumed 10 mm/mV")
 	}
 	pxX := cal.PxPerMMX.V
+	// Isoelectric stretches longer than 1.2 s that are perfectly straight
+	// are rare; straight lines that long are grid lines or rules.
+	ink = dropRuledLines(ink, int(30*pxX))
 	rows := findRows(ink, cal, pulses)
 	turned := false
 	if countPulses(rows) == 0 {
@@ -184,7 +187,11 @@ func Extract(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse, opt *Op
 				continue
 			}
 			cr.scan(ink, bounds)
-			fp := defaultFollow(cal.PxPerMMY.V, r.baseY)
+			base := r.baseY
+			if !math.IsNaN(r.zeroY) {
+				base = r.zeroY
+			}
+			fp := defaultFollow(cal.PxPerMMY.V, base)
 			pr := follow(&cr, fp)
 			p.Path = pr.points
 			cov := 0.0

@@ -186,10 +186,11 @@ func follow(cr *columnRuns, p followParams) pathResult {
 		for _, k := range idx {
 			r := runs[k]
 			s := state{top: float32(r.top), bot: float32(r.bot), back: -1, run: cr.off[c] + int32(k)}
-			// A small reward per ink pixel covered makes the path climb
-			// to the apex of a spike whose two strokes are separate runs
-			// lower down, instead of crossing from one stroke to the other.
-			unary := float32(baseW*distToBase(r, p.baseline) - inkW*float64(r.bot-r.top+1))
+			// A small reward per ink pixel covered (beyond twice the pen
+			// width, so thick straight lines earn nothing) makes the path
+			// climb to the apex of a spike whose two strokes are separate
+			// runs lower down, instead of crossing from one to the other.
+			unary := float32(baseW*distToBase(r, p.baseline) - inkW*math.Max(0, float64(r.bot-r.top+1)-2*pen))
 			if c == 0 {
 				s.cost = unary
 			} else {
