@@ -48,6 +48,10 @@ func TestRunCleanPage(t *testing.T) {
 	assert.InDelta(t, page.Truth.PxPerMMY, cal.PxPerMMY.V, 0.01*page.Truth.PxPerMMY)
 	assert.InDelta(t, 25, cal.SpeedMMPerS.V, 0.5)
 	assert.InDelta(t, 10, cal.GainMMPerMV.V, 0.2)
+	// Every row of the page starts with a 1 mV pulse: the gain must come
+	// from them, not from the default that happens to match.
+	assert.Equal(t, "pulse", string(cal.GainMMPerMV.Origin))
+	assert.NotEmpty(t, res.Grid.Pulses)
 
 	// Every printed lead comes back, and the signals match the truth.
 	var p accuracy.Page
