@@ -277,7 +277,9 @@ func darkness(g, ink *image.Gray) *image.Gray {
 // ones or the reverse, and is corrected; any other large disagreement is
 // reported (the page may have been printed or scanned at another scale).
 func settle5(pitch, dpi float64, warn *[]string, axis string) float64 {
-	if dpi <= 0 {
+	// 72 and 96 dpi are software defaults (JPEG/JFIF, screenshots, phone
+	// photos), not measurements: they settle nothing (common practice).
+	if dpi <= 0 || math.Abs(dpi-72) < 0.5 || math.Abs(dpi-96) < 0.5 {
 		return pitch
 	}
 	prior := dpi / 25.4

@@ -165,3 +165,23 @@ func TestSnapGain(t *testing.T) {
 		}
 	}
 }
+
+func TestSettle5(t *testing.T) {
+	for _, tc := range []struct {
+		name       string
+		pitch, dpi float64
+		want       float64
+	}{
+		{"no prior", 59.05, 0, 59.05},
+		{"major taken for minor at 300 dpi", 59.05, 300, 11.81},
+		{"minor taken for major at 300 dpi", 2.362, 300, 11.81},
+		{"agreeing", 11.8, 300, 11.8},
+		{"72 dpi default ignored", 14.17, 72, 14.17},
+		{"other scale kept", 9.5, 300, 9.5},
+	} {
+		var w []string
+		if got := settle5(tc.pitch, tc.dpi, &w, "x"); math.Abs(got-tc.want) > 0.01 {
+			t.Errorf("%s: settle5(%g, %g) = %g, want %g", tc.name, tc.pitch, tc.dpi, got, tc.want)
+		}
+	}
+}
