@@ -288,7 +288,14 @@ func TestBatchRealPipeline(t *testing.T) {
 // name-p2.csv.
 func TestDigitizeMultiPagePDF(t *testing.T) {
 	pdf := fpdf.New("L", "mm", "A4", "")
-	pdf.RegisterImageOptionsReader("page", fpdf.ImageOptions{ImageType: "PNG"}, bytes.NewReader(cleanPagePNG(t)))
+	// A 150-dpi scan keeps the test quick.
+	rec, err := synth.Generate(synth.Default(), 44)
+	require.NoError(t, err)
+	pg, err := render.Render(rec, &render.Options{Layout: render.Layout3x4R1, DPI: 150, Condition: "clean"})
+	require.NoError(t, err)
+	var pngBuf bytes.Buffer
+	require.NoError(t, pg.WritePNG(&pngBuf))
+	pdf.RegisterImageOptionsReader("page", fpdf.ImageOptions{ImageType: "PNG"}, &pngBuf)
 	for range 2 {
 		pdf.AddPage()
 		pdf.ImageOptions("page", 0, 0, 297, 210, false, fpdf.ImageOptions{ImageType: "PNG"}, 0, "")

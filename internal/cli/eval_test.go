@@ -12,9 +12,9 @@ import (
 	"github.com/stretchr/testify/assert"
 	"github.com/stretchr/testify/require"
 
-	"tracelift/accuracy"
 	"tracelift/catalog"
 	"tracelift/render"
+	"tracelift/synth"
 )
 
 func execCmd(cmd *cobra.Command, ios *IOStreams, args ...string) error {
@@ -100,7 +100,9 @@ func TestEvalDir(t *testing.T) {
 		t.Skip("renders and digitises a page")
 	}
 	dir := t.TempDir()
-	_, page, err := accuracy.RenderCase(accuracy.Case{Condition: "clean", Layout: "6x2", Seed: 9})
+	rec, err := synth.Generate(synth.Default(), 9)
+	require.NoError(t, err)
+	page, err := render.Render(rec, &render.Options{Layout: render.Layout6x2, DPI: 150, Condition: "clean"})
 	require.NoError(t, err)
 	require.NoError(t, catalog.WriteFileAtomic(filepath.Join(dir, "p1.png"), func(f *os.File) error { return page.WritePNG(f) }))
 	require.NoError(t, catalog.WriteFileAtomic(filepath.Join(dir, "p1.truth.json"), func(f *os.File) error { return page.WriteTruth(f) }))
