@@ -1,0 +1,81 @@
+package grid
+
+import (
+	"image"
+	"testing"
+
+	"tracelift/imageproc"
+	"tracelift/render"
+)
+
+// turn returns m turned q×90° counter-clockwise and the homography from
+// m's pixels to the turned image's.
+func turn(m image.Image, q int) (*image.NRGBA, [9]float64) {
+	b := m.Bounds()
+	w, h := b.Dx(), b.Dy()
+	tw, th := w, h
+	if q%2 == 1 {
+		tw, th = h, w
+	}
+	// Turned (u,v) ← source: q=1: (W−1−v, u); q=2: (W−1−u, H−1−v); q=3: (v, H−1−u).
+	W, H := float64(w-1), float64(h-1)
+	var toSrc [9]float64
+	switch q {
+	case 1:
+		toSrc = [9]float64{0, -1, W, 1, 0, 0, 0, 0, 1}
+	case 2:
+		toSrc = [9]float64{-1, 0, W, 0, -1, H, 0, 0, 1}
+	case 3:
+		toSrc = [9]float64{0, 1, 0, -1, 0, H, 0, 0, 1}
+	default:
+		toSrc = [9]float64{1, 0, 0, 0, 1, 0, 0, 0, 1}
+	}
+	out := image.NewNRGBA(image.Rect(0, 0, tw, th))
+	imageproc.Warp(out, m, toSrc)
+	inv, _ := imageproc.Invert(toSrc)
+	return out, inv
+}
+
+// TestOrientationTurnedPages turns rendered pages by each quarter turn
+// (a landscape page scanned portrait or upside down) and checks that
+// Prepare turns them back and Detect still calibrates them.
+func TestOrientationTurnedPages(t *testing.T) {
+	if testing.Short() {
+		t.Skip("renders pages")
+	}
+	for seed := uint64(1); seed <= 2; seed++ {
+		rec, err := render.CorpusRecord(seed, false)
+		if err != nil {
+			t.Fatal(err)
+		}
+		opt, err := render.ConditionOptions("clean", seed)
+		if err != nil {
+			t.Fatal(err)
+		}
+		opt.DPI = 120
+		pg, err := render.Render(rec, opt)
+		if err != nil {
+			t.Fatal(err)
+		}
+		for q := 0; q < 4; q++ {
+			img, h := turn(pg.Image, q)
+			p, err := imageproc.Prepare(img, nil)
+			if err != nil {
+				t.Fatal(err)
+			}
+			r, err := Detect(p, nil)
+			if err != nil {
+				t.Fatal(err)
+			}
+			ref := Reference{PaperToImage: imageproc.Mul(h, pg.Truth.PaperToImage), GridRectMM: pg.Truth.GridRectMM, GainMMPerMV: pg.Truth.GainMMPerMV}
+			s := Evaluate(p, r, ref)
+			if !s.OrientationOK {
+				t.Errorf("seed %d turned %d×90°: orientation not restored (quarter turns %d)", seed, q, p.QuarterTurns)
+				continue
+			}
+			if s.PxPerMMErrX > 0.003 || s.PxPerMMErrY > 0.003 {
+				t.Errorf("seed %d turned %d×90°: px/mm error %.4f, %.4f", seed, q, s.PxPerMMErrX, s.PxPerMMErrY)
+			}
+		}
+	}
+}
