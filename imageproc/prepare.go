@@ -187,12 +187,15 @@ func Prepare(img image.Image, opt *Options) (*Page, error) {
 		p.Color = image.NewNRGBA(image.Rect(0, 0, OW, OH))
 		warpNRGBA(p.Color, src, toSrc)
 	}
-	uw := downscale(p.Color, f)
-	bg := estimateBackground(uw, blockSize(uw), float64(f))
+	// The upright page's background: the work estimate carried through
+	// the geometry (no second pass over the full page).
+	ub := max(8, min(OW, OH)/f/24)
+	// toSrc ends in the (square) source the work copy was made from.
+	fullToWork := Homography{1 / s, 0, -(s - 1) / (2 * s), 0, 1 / s, -(s - 1) / (2 * s), 0, 0, 1}
+	bg := bgw.resample(Mul(fullToWork, toSrc), OW, OH, ub*f)
 	p.Gray, p.Ink, p.Grid = sep.maps(p.Color, bg)
 	if m := paperMask(bg); m != nil {
 		// A photo: blank out the table around the sheet.
-		ub := blockSize(uw)
 		applyMask(m, ub*f, p.Ink, p.Grid)
 	}
 	if !sep.colour {
