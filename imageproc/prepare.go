@@ -131,8 +131,11 @@ func Prepare(img image.Image, opt *Options) (*Page, error) {
 	p.RotationDeg = theta * 180 / math.Pi
 	ww, wh := work.Rect.Dx(), work.Rect.Dy()
 	var persp *perspective
-	if !o.NoRectify && !o.NoDeskew {
-		persp = estimatePerspective(lineMap, theta, mask != nil)
+	// Only photos (a sheet edge seen) get a perspective correction: on
+	// flat scans the tile directions' noise (traces, text, dotted grids)
+	// made false corrections.
+	if !o.NoRectify && !o.NoDeskew && mask != nil {
+		persp = estimatePerspective(lineMap, theta, true)
 	}
 	s := float64(f)
 	// Work coordinates → full: x_full = f·x + (f−1)/2.
