@@ -1,14 +1,13 @@
 package synth
 
 import (
-	"encoding/binary"
 	"math"
-	"os"
 	"path/filepath"
 	"slices"
 	"strconv"
 	"testing"
 
+	"tracelift/export/wfdb"
 	"tracelift/internal/refdata"
 )
 
@@ -19,47 +18,21 @@ type ludbWave struct {
 	on, peak, off int
 }
 
-// readLUDB parses an LUDB annotation file (MIT annotation format:
-// 16-bit little-endian words, top 6 bits type, low 10 bits time step;
-// SKIP = 59, NUM/SUB/CHN = 60–62, AUX = 63; PhysioNet WFDB documentation
-// as summarised in the shared data README) and returns its waves, each
-// an "(" onset, peak and ")" offset triple.
+// readLUDB reads an LUDB lead annotation file with the project's WFDB
+// annotation reader and returns its waves, each an "(" onset, peak and
+// ")" offset triple.
 func readLUDB(t *testing.T, path string) []ludbWave {
 	t.Helper()
-	b, err := os.ReadFile(path)
+	anns, err := wfdb.ReadAnnotations(path, 500)
 	if err != nil {
 		t.Fatal(err)
 	}
-	type mark struct {
-		at   int
-		code int
-	}
-	var marks []mark
-	at := 0
-	for i := 0; i+1 < len(b); {
-		w := binary.LittleEndian.Uint16(b[i:])
-		i += 2
-		a, n := int(w>>10), int(w&1023)
-		switch {
-		case a == 0 && n == 0:
-			i = len(b)
-		case a == 59:
-			at += int(binary.LittleEndian.Uint16(b[i:]))<<16 | int(binary.LittleEndian.Uint16(b[i+2:]))
-			i += 4
-		case a == 63:
-			i += n + n&1
-		case a >= 60:
-		default:
-			at += n
-			marks = append(marks, mark{at, a})
-		}
-	}
-	const onset, offset = 39, 40
+	const onset, offset = 39, 40 // WFDB codes '(' and ')'
 	kinds := map[int]byte{24: 'p', 1: 'N', 27: 't'}
 	var out []ludbWave
-	for k := 0; k+2 < len(marks); k++ {
-		if marks[k].code == onset && marks[k+2].code == offset && kinds[marks[k+1].code] != 0 {
-			out = append(out, ludbWave{kinds[marks[k+1].code], marks[k].at, marks[k+1].at, marks[k+2].at})
+	for k := 0; k+2 < len(anns); k++ {
+		if anns[k].Code == onset && anns[k+2].Code == offset && kinds[anns[k+1].Code] != 0 {
+			out = append(out, ludbWave{kinds[anns[k+1].Code], int(anns[k].Sample), int(anns[k+1].Sample), int(anns[k+2].Sample)})
 		}
 	}
 	return out
