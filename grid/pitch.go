@@ -237,7 +237,7 @@ func fitLattice(pos, wt []float64, period float64) (pitch, phase, span float64, 
 	// Grow the window around the anchor so that a slightly wrong period
 	// cannot slip the line indices at the far ends of the page.
 	radius := 12 * period
-	for final := false; ; {
+	for iter, final := 0, false; ; iter++ {
 		var sk, sx, skk, skx, sn float64
 		lo, hi := math.Inf(1), math.Inf(-1)
 		for _, x := range pos {
@@ -274,7 +274,9 @@ func fitLattice(pos, wt []float64, period float64) (pitch, phase, span float64, 
 		if pos[a]-radius <= lo0 && pos[a]+radius >= hi0 {
 			final = true
 		}
-		radius *= 1.6
+		if iter%2 == 1 { // two fits per window size
+			radius *= 1.6
+		}
 	}
 	return pitch, phase, span, pitch > 0
 }
