@@ -141,9 +141,10 @@ func Run(ctx context.Context, page decode.Page, cfg Config) (res *Result, err er
 	}
 
 	var partial error
+	layout := atSpeed(c.Layout, res.Grid.Calibration.SpeedMMPerS.V)
 	err = step(StageTrace, func() error {
 		t, err := trace.Extract(res.Page.Ink, res.Grid.Calibration, res.Grid.Pulses,
-			&trace.Options{Layout: c.Layout, SampleRate: c.SampleRate})
+			&trace.Options{Layout: layout, SampleRate: c.SampleRate})
 		res.Trace = t
 		return err
 	})
@@ -174,6 +175,31 @@ func Run(ctx context.Context, page decode.Page, cfg Config) (res *Result, err er
 		return res, fmt.Errorf("pipeline: %w", partial)
 	}
 	return res, nil
+}
+
+// atSpeed fits a named standard layout to the paper speed: the standard
+// layouts are defined at 25 mm/s (10 s over the 250 mm of a page), and at
+// another speed the same arrangement covers 250 mm / speed seconds
+// (standards.md §1.1–1.2; 5 s at 50 mm/s). Layout descriptions with their
+// own seconds ("custom") and nil are returned as they are.
+func atSpeed(l *trace.Layout, speedMMPerS float64) *trace.Layout {
+	if l == nil || speedMMPerS <= 0 || speedMMPerS == 25 {
+		return l
+	}
+	if _, standard := trace.StandardLayout(l.Name); !standard {
+		return l
+	}
+	k := 25 / speedMMPerS
+	out := &trace.Layout{Name: l.Name, Rows: make([]trace.Row, len(l.Rows))}
+	for i, r := range l.Rows {
+		out.Rows[i] = trace.Row{Rhythm: r.Rhythm, Cells: make([]trace.Cell, len(r.Cells))}
+		for j, c := range r.Cells {
+			c.T0S *= k
+			c.T1S *= k
+			out.Rows[i].Cells[j] = c
+		}
+	}
+	return out
 }
 
 // MinPxPerMM is the coarsest resolution at which Run accepts a page:

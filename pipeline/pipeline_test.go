@@ -20,6 +20,7 @@ import (
 	"tracelift/imageproc/decode"
 	"tracelift/pipeline"
 	"tracelift/render"
+	"tracelift/synth"
 	"tracelift/trace"
 )
 
@@ -184,4 +185,27 @@ func TestRunRecoversFromPanics(t *testing.T) {
 	require.Error(t, err)
 	assert.Contains(t, err.Error(), "internal error in the prepare stage")
 	assert.NotNil(t, res)
+}
+
+// TestRunNamedLayoutAt50 prints a 6 × 2 page at 50 mm/s, where the 250 mm
+// of a page hold 5 s (standards.md §1.1), and digitises it with the layout
+// named and the speed given: the named layout is fitted to the speed.
+func TestRunNamedLayoutAt50(t *testing.T) {
+	rec, err := synth.Generate(synth.Default(), 12)
+	require.NoError(t, err)
+	page, err := render.Render(rec, &render.Options{Layout: render.Layout6x2, SpeedMMPerS: 50, DPI: 200, Condition: "clean"})
+	require.NoError(t, err)
+	lay, err := trace.ParseLayout("6x2")
+	require.NoError(t, err)
+	res, err := pipeline.Run(context.Background(), decode.Page{Image: page.Image, Index: 1},
+		pipeline.Config{Layout: lay, SpeedMMPerS: 50})
+	require.NoError(t, err)
+	var p accuracy.Page
+	printed := accuracy.PrintedRecord(&page.Truth)
+	accuracy.ScoreSignals(&p, &printed, &rec, &res.Trace.Record)
+	assert.Equal(t, 12, p.LeadsFound)
+	_, end := res.Trace.Record.Span()
+	assert.InDelta(t, 5.0, end, 0.05, "a 50 mm/s page covers 5 s")
+	iv := accuracy.TrueIntervals(rec.Beats)
+	assert.InDelta(t, iv.HRBPM, float64(res.Report.HeartRateBPM), 3)
 }
