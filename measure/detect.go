@@ -39,7 +39,9 @@ func DetectBeats(rec ecg.Record, opt *Options) ([]ecg.Beat, error) {
 
 // detect returns the sample indices of the QRS fiducials in f.
 func detect(f *frame, o *Options) []int {
-	chunk := max(int(o.ChunkS*f.fs), int(20*f.fs))
+	// max(…, 1): the loop below must advance whatever the rate (newFrame
+	// refuses implausible rates; this keeps detect safe on its own).
+	chunk := max(int(o.ChunkS*f.fs), int(20*f.fs), 1)
 	over := int(4 * f.fs)
 	var beats []int
 	for a := 0; a < f.n; a += chunk {
@@ -177,7 +179,7 @@ func detectChunk(f *frame, o *Options) []int {
 		return nil
 	}
 	// Initial signal level: median of 2 s block maxima; noise level: a tenth.
-	blk := int(2 * fs)
+	blk := max(1, int(2*fs))
 	var bm []float64
 	for a := 0; a < n; a += blk {
 		m := 0.0

@@ -8,6 +8,31 @@ import (
 	"tracelift/ecg"
 )
 
+// Sample rates Measure and DetectBeats accept (Hz); others are refused
+// with an error wrapping ecg.ErrUnreadable. Full diagnostic bandwidth
+// needs ≥ 300 Hz (high cut-off ≥ 150 Hz, standards.md §1.4), and QRS
+// detail degrades below about 100 Hz, but 50 Hz is the lowest rate at
+// which the 5–15 Hz detection band still lies well below the Nyquist
+// frequency, so coarse exports are measured (less precisely) rather than
+// refused; it is also the floor of the digitize command's --rate. The
+// ceiling, 20 kHz, is above the rates of ECG hardware that samples fast
+// to capture pacemaker spikes (common practice, from memory) and keeps
+// the fixed-duration windows (median filters, search windows) to a
+// bounded number of samples. A rate outside these bounds is nearly always
+// a corrupt header or a time column in the wrong unit.
+const (
+	MinSampleRate = 50
+	MaxSampleRate = 20000
+)
+
+// A frame's grid (span × leads) may be at most maxGridFactor times the
+// samples the record holds, unless it is under maxGridFloorS seconds of
+// samples in all (a 3 × 4 page's 2.5 s columns fill a quarter of it).
+const (
+	maxGridFactor = 16
+	maxGridFloorS = 12 * 600
+)
+
 // frame holds a record's selected leads on one uniform sample grid:
 // x[k][i] is lead leads[k] at time t0 + i/fs, NaN where not recorded.
 type frame struct {
@@ -33,8 +58,12 @@ func newFrame(rec *ecg.Record, keep []ecg.Lead) (*frame, error) {
 		if len(keep) > 0 && !slices.Contains(keep, s.Lead) {
 			continue
 		}
-		if s.SampleRate <= 0 || math.IsNaN(s.SampleRate) || math.IsInf(s.SampleRate, 0) {
-			return nil, fmt.Errorf("lead %v: invalid sample rate %g Hz", s.Lead, s.SampleRate)
+		if !(s.SampleRate >= MinSampleRate && s.SampleRate <= MaxSampleRate) {
+			return nil, fmt.Errorf("lead %v: sample rate %g Hz outside %g–%g Hz: %w",
+				s.Lead, s.SampleRate, float64(MinSampleRate), float64(MaxSampleRate), ecg.ErrUnreadable)
+		}
+		if math.IsNaN(s.Start) || math.IsInf(s.Start, 0) {
+			return nil, fmt.Errorf("lead %v: invalid start time %g s: %w", s.Lead, s.Start, ecg.ErrUnreadable)
 		}
 		if len(s.Samples) == 0 {
 			continue
@@ -77,6 +106,18 @@ func newFrame(rec *ecg.Record, keep []ecg.Lead) (*frame, error) {
 		for _, s := range sig {
 			t0 = math.Min(t0, s.Start)
 		}
+	}
+	// The grid spans from the earliest start to the latest end. Refuse a
+	// grid far larger than the samples it holds (leads whose start times
+	// lie hours apart), which would allocate without bound.
+	span, total := 0.0, 0.0
+	for _, s := range sig {
+		span = math.Max(span, (s.Start-t0)*fs+float64(len(s.Samples)))
+		total += float64(len(s.Samples))
+	}
+	if cells := span * float64(len(sig)); cells > maxGridFactor*total && cells > maxGridFloorS*fs {
+		return nil, fmt.Errorf("leads span %.0f s but hold only %.0f s of samples: %w",
+			span/fs, total/fs/float64(len(sig)), ecg.ErrUnreadable)
 	}
 	f := &frame{fs: fs, t0: t0}
 	for _, s := range sig {

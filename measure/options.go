@@ -1,6 +1,10 @@
 package measure
 
-import "tracelift/ecg"
+import (
+	"math"
+
+	"tracelift/ecg"
+)
 
 // Options tune measurement. A nil *Options, and any zero field, means the
 // default given in the field's comment.
@@ -41,13 +45,13 @@ func (o *Options) withDefaults() Options {
 	if o != nil {
 		r = *o
 	}
-	if r.LowPassHz <= 0 {
+	if !(r.LowPassHz > 0) || math.IsInf(r.LowPassHz, 0) { // also NaN and ±Inf
 		r.LowPassHz = 40
 	}
-	if r.RefractoryS <= 0 {
+	if !(r.RefractoryS > 0) || math.IsInf(r.RefractoryS, 0) { // also NaN and ±Inf
 		r.RefractoryS = 0.2
 	}
-	if r.ChunkS <= 0 {
+	if !(r.ChunkS > 0) || math.IsInf(r.ChunkS, 0) { // also NaN and ±Inf
 		r.ChunkS = 300
 	}
 	if r.MaxTemplateBeats <= 0 {

@@ -45,8 +45,34 @@ func TestMeasureBadInput(t *testing.T) {
 			}
 		})
 	}
-	if _, err := Measure(ecg.Record{Signals: []ecg.Signal{{Lead: ecg.LeadII, SampleRate: 0, Samples: noise}}}, nil); err == nil {
-		t.Error("zero sample rate: want an error")
+	// Implausible sample rates (a corrupt header, a time column in the
+	// wrong unit) and start times are refused as unreadable, never looped
+	// on: a rate of 1e-9 Hz once made the chunk length 0 and hung detect.
+	for _, fs := range []float64{0, -500, 1e-9, 0.04, 49, 20001, 1e9, math.NaN(), math.Inf(1)} {
+		rec := ecg.Record{Signals: []ecg.Signal{{Lead: ecg.LeadII, SampleRate: fs, Samples: noise}}}
+		if _, err := Measure(rec, nil); !errors.Is(err, ecg.ErrUnreadable) {
+			t.Errorf("sample rate %g Hz: Measure err = %v, want ecg.ErrUnreadable", fs, err)
+		}
+		if _, err := DetectBeats(rec, nil); !errors.Is(err, ecg.ErrUnreadable) {
+			t.Errorf("sample rate %g Hz: DetectBeats err = %v, want ecg.ErrUnreadable", fs, err)
+		}
+	}
+	if _, err := Measure(ecg.Record{Signals: []ecg.Signal{{Lead: ecg.LeadII, SampleRate: 500, Start: math.NaN(), Samples: noise}}}, nil); !errors.Is(err, ecg.ErrUnreadable) {
+		t.Errorf("NaN start: err = %v, want ecg.ErrUnreadable", err)
+	}
+	// Two 10 s leads starting 1e6 s apart would need a grid of 5e8 samples
+	// per lead: refused before anything is allocated.
+	far := ecg.Record{Signals: []ecg.Signal{
+		{Lead: ecg.LeadII, SampleRate: 500, Samples: noise},
+		{Lead: ecg.LeadV1, SampleRate: 500, Start: 1e6, Samples: noise},
+	}}
+	if _, err := Measure(far, nil); !errors.Is(err, ecg.ErrUnreadable) {
+		t.Errorf("leads 1e6 s apart: err = %v, want ecg.ErrUnreadable", err)
+	}
+	// Options with NaN or infinite durations fall back to the defaults.
+	odd := &Options{ChunkS: math.NaN(), RefractoryS: math.Inf(1), LowPassHz: math.NaN()}
+	if _, err := DetectBeats(ecg.Record{Signals: []ecg.Signal{{Lead: ecg.LeadII, SampleRate: 500, Samples: noise}}}, odd); err != nil {
+		t.Errorf("NaN options: %v", err)
 	}
 	// Noise alone must not panic; it may or may not yield "beats".
 	if _, err := Measure(ecg.Record{Signals: []ecg.Signal{{Lead: ecg.LeadII, SampleRate: 500, Samples: noise}}}, nil); err != nil && !errors.Is(err, ecg.ErrNoECG) {
@@ -139,9 +165,15 @@ func TestMeasureOddRecords(t *testing.T) {
 
 // FuzzMeasure feeds arbitrary samples through Measure: no panics.
 func FuzzMeasure(f *testing.F) {
-	f.Add([]byte{0, 10, 200, 255, 3, 4}, uint16(500))
+	f.Add([]byte{0, 10, 200, 255, 3, 4}, uint16(47507))          // ≈ 500 Hz
+	f.Add([]byte{0, 10, 200, 255, 3, 4}, uint16(42046))          // 50 Hz
+	f.Add([]byte{0, 10, 200, 255, 3, 4}, uint16(56257))          // 20 kHz
+	f.Add([]byte{0, 10, 200, 255, 3, 4}, uint16(0))              // 1e-6 Hz
+	f.Add([]byte{0, 10, 200, 255, 3, 4}, uint16(math.MaxUint16)) // 1e6 Hz
+	f.Add([]byte{9, 200, 7, 128, 250, 1, 60}, uint16(45334))     // ≈ 200 Hz, NaN gaps
+	f.Add([]byte{9, 200, 7, 128, 250, 1, 60}, uint16(55235))     // ≈ 13 kHz
 	f.Fuzz(func(t *testing.T, data []byte, rate uint16) {
-		if len(data) == 0 || rate == 0 {
+		if len(data) == 0 {
 			return
 		}
 		x := make([]float64, 0, 4*len(data))
@@ -154,6 +186,16 @@ func FuzzMeasure(f *testing.F) {
 				x = append(x, v)
 			}
 		}
-		_, _ = Measure(ecg.Record{Signals: []ecg.Signal{{Lead: ecg.LeadII, SampleRate: float64(rate%1000 + 50), Samples: x}}}, nil)
+		// Rates from 1e-6 Hz to 1e6 Hz, log-spaced: most of them outside
+		// the accepted range, which must give an error, not a hang.
+		fs := math.Pow(10, -6+12*float64(rate)/math.MaxUint16)
+		rec := ecg.Record{Signals: []ecg.Signal{{Lead: ecg.LeadII, SampleRate: fs, Samples: x}}}
+		_, err := Measure(rec, nil)
+		if (fs < MinSampleRate || fs > MaxSampleRate) && !errors.Is(err, ecg.ErrUnreadable) {
+			t.Errorf("rate %g Hz: err = %v, want ecg.ErrUnreadable", fs, err)
+		}
+		if err != nil && !errors.Is(err, ecg.ErrUnreadable) && !errors.Is(err, ecg.ErrNoECG) {
+			t.Errorf("rate %g Hz: err = %v wraps no ecg error class", fs, err)
+		}
 	})
 }

@@ -122,6 +122,16 @@ func TestMeasureRun(t *testing.T) {
 	assert.Equal(t, ExitNoECG, code, "stderr: %s", errOut.String())
 	assert.Contains(t, errOut.String(), "flat.csv")
 
+	// Two samples 1e9 s apart: a sample rate of 1e-9 Hz, refused as
+	// unreadable (exit 3) instead of hanging the beat detector.
+	slowCSV := filepath.Join(dir, "slow.csv")
+	require.NoError(t, os.WriteFile(slowCSV, []byte("time_s,II\n0,1\n1e9,2\n"), 0o644))
+	errOut.Reset()
+	code = Main([]string{"measure", slowCSV}, nil, &out, &errOut)
+	assert.Equal(t, ExitUnreadable, code, "stderr: %s", errOut.String())
+	assert.Contains(t, errOut.String(), "slow.csv")
+	assert.Contains(t, errOut.String(), "sample rate")
+
 	// Unwritable report: exit 6, nothing left.
 	errOut.Reset()
 	code = Main([]string{"measure", csv, "-o", filepath.Join(dir, "missing", "m.json")}, nil, &out, &errOut)
