@@ -53,6 +53,7 @@ func Score(res *pipeline.Result, err error, truth *render.Truth, full *ecg.Recor
 		p.PxPerMMXErrPct = F(100 * (c.PxPerMMX.V/truth.PxPerMMX - 1))
 		p.PxPerMMYErrPct = F(100 * (c.PxPerMMY.V/truth.PxPerMMY - 1))
 		p.GainCorrect = math.Abs(c.GainMMPerMV.V/truth.GainMMPerMV-1) < 0.02
+		p.GainFromPulse = string(c.GainMMPerMV.Origin) == "pulse"
 		p.SpeedCorrect = math.Abs(c.SpeedMMPerS.V/truth.SpeedMMPerS-1) < 0.02
 	}
 	if res.Report != nil {

@@ -85,6 +85,7 @@ func TestSummarize(t *testing.T) {
 	assert.Equal(t, 1, a.Failed)
 	assert.InDelta(t, 200.0/3, float64(a.LeadsFoundPct), 1e-9)
 	assert.InDelta(t, 200.0/3, float64(a.GainCorrectPct), 1e-9)
+	assert.InDelta(t, 0, float64(a.GainPulsePct), 1e-9)
 
 	var buf bytes.Buffer
 	require.NoError(t, WriteTable(&buf, "condition", rows))
@@ -93,6 +94,7 @@ func TestSummarize(t *testing.T) {
 	buf.Reset()
 	require.NoError(t, WriteMarkdown(&buf, "condition", rows))
 	assert.Contains(t, buf.String(), "| fax | 1 | 1 | 0.0 |")
+	assert.Equal(t, strings.Count(strings.SplitN(buf.String(), "\n", 2)[0], "|"), strings.Count(strings.Split(buf.String(), "\n")[2], "|"), "header and rows have the same columns")
 	b, err := json.Marshal(rows)
 	require.NoError(t, err, "NaN statistics must still encode")
 	assert.Contains(t, string(b), `"pr_abs_err_ms_median":null`)
