@@ -193,6 +193,17 @@ func Extract(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse, opt *Op
 			}
 			fp := defaultFollow(cal.PxPerMMY.V, base)
 			pr := follow(&cr, fp)
+			// Past half-way to a neighbouring row's baseline the path may
+			// only stay as long as a tall complex lasts; longer stretches
+			// there are the neighbour's trace (or a gap bridged onto it).
+			upLim, downLim := math.Inf(1), math.Inf(1)
+			if ri > 0 {
+				upLim = 0.5 * (r.baseY - rows[ri-1].baseY)
+			}
+			if ri+1 < len(rows) {
+				downLim = 0.5 * (rows[ri+1].baseY - r.baseY)
+			}
+			pr.points, pr.onInk = dropExcursions(pr.points, pr.onInk, base, upLim, downLim, maxExcursionS*cal.SpeedMMPerS.V*pxX)
 			p.Path = pr.points
 			cov := 0.0
 			if pr.cols > 0 {
@@ -238,12 +249,14 @@ func Extract(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse, opt *Op
 			vals []float64
 		}
 		byLead := map[ecg.Lead][]cand{}
+		windows := map[ecg.Lead][][2]float64{}
 		var order []ecg.Lead
 		for _, tp := range all {
+			l, neg := names(tp.p.Row, tp.p.Col)
+			windows[l] = append(windows[l], [2]float64{tp.p.T0, tp.p.T1})
 			if tp.p.Quality < minQuality || tp.vals == nil {
 				continue
 			}
-			l, neg := names(tp.p.Row, tp.p.Col)
 			vals := tp.vals
 			if neg != tp.p.Negated {
 				vals = make([]float64, len(tp.vals))
@@ -271,6 +284,15 @@ func Extract(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse, opt *Op
 						break
 					}
 				}
+			}
+			frac := validFraction(out, windows[l], o.SampleRate)
+			if frac < minValidFrac {
+				// Too little of the printed window was traced to call
+				// the lead present; Extract reports it as missing.
+				continue
+			}
+			if frac < fullValidFrac {
+				warn = append(warn, fmt.Sprintf("lead %v: only %.0f %% of its printed window was traced", l, 100*frac))
 			}
 			if qn > 0 {
 				qual[l] = qs / float64(qn)
@@ -338,8 +360,19 @@ func Extract(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse, opt *Op
 				continue
 			}
 			seen[c.Lead] = true
-			if rec.Signal(c.Lead) == nil {
+			sig := rec.Signal(c.Lead)
+			if sig == nil {
 				errs = append(errs, &LeadError{Lead: c.Lead, Err: errors.New("no trace found")})
+				continue
+			}
+			var win [][2]float64
+			for _, p := range res.Panels {
+				if p.Lead == c.Lead {
+					win = append(win, [2]float64{p.T0, p.T1})
+				}
+			}
+			if f := validFraction(sig.Samples, win, sig.SampleRate); f < fullValidFrac {
+				errs = append(errs, &LeadError{Lead: c.Lead, Err: fmt.Errorf("only %.0f %% of its printed window traced", 100*f)})
 			}
 		}
 	}
@@ -350,6 +383,82 @@ func Extract(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse, opt *Op
 		return res, fmt.Errorf("trace: extract: %w", errors.Join(append([]error{ecg.ErrPartial}, errs...)...))
 	}
 	return res, nil
+}
+
+// maxExcursionS is the longest time a row's path may spend past half-way
+// to a neighbouring row's baseline, s: a wide QRS complex lasts up to
+// ≈ 0.12–0.2 s (common practice); 0.25 s leaves room for tall T waves at
+// 20 mm/mV (a project choice).
+const maxExcursionS = 0.25
+
+// dropExcursions removes the points of a path (px, left to right) that lie
+// more than upLim px above or downLim px below the baseline y base for a
+// stretch wider than maxLen px, and lowers the count of on-ink columns by
+// the points removed.
+func dropExcursions(pts []Point, onInk int, base, upLim, downLim, maxLen float64) ([]Point, int) {
+	far := func(q Point) bool { return base-q.Y > upLim || q.Y-base > downLim }
+	out := pts[:0:0]
+	for i := 0; i < len(pts); {
+		if !far(pts[i]) {
+			out = append(out, pts[i])
+			i++
+			continue
+		}
+		j := i
+		for j < len(pts) && far(pts[j]) {
+			j++
+		}
+		// The stretch is [i, j); its width reaches to the neighbouring
+		// in-band points.
+		x0, x1 := pts[i].X, pts[j-1].X
+		if i > 0 {
+			x0 = pts[i-1].X
+		}
+		if j < len(pts) {
+			x1 = pts[j].X
+		}
+		if x1-x0 <= maxLen {
+			out = append(out, pts[i:j]...)
+		} else {
+			onInk -= j - i
+		}
+		i = j
+	}
+	return out, max(onInk, 0)
+}
+
+// minValidFrac is the fraction of a lead's printed window that must carry
+// samples for the lead to count as found; fullValidFrac the fraction below
+// which a found lead is still reported as partial. A clean page traces
+// ≈ 100 % of every window; gaps come from breaks longer than 4 mm.
+const (
+	minValidFrac  = 0.25
+	fullValidFrac = 0.8
+)
+
+// validFraction is the fraction of the samples t = k/fs inside the
+// windows [T0, T1) (s) that are not NaN; 0 when the windows hold no
+// sample. Overlapping windows (a lead printed twice) count once.
+func validFraction(samples []float64, windows [][2]float64, fs float64) float64 {
+	in := make([]bool, len(samples))
+	total, valid := 0, 0
+	for _, w := range windows {
+		k0 := max(0, int(math.Ceil(w[0]*fs-1e-9)))
+		for k := k0; k < len(samples) && float64(k)/fs < w[1]-1e-9; k++ {
+			if in[k] {
+				continue
+			}
+			in[k] = true
+			total++
+			if !math.IsNaN(samples[k]) {
+				valid++
+			}
+		}
+	}
+	if total == 0 {
+		return 0
+	}
+	return float64(valid) / float64(total)
 }
 
 // cabreraOf returns the Cabrera counterpart of a standard 3 × 4 layout: the

@@ -2,6 +2,7 @@ package trace
 
 import (
 	"errors"
+	"image"
 	"math"
 	"sort"
 	"testing"
@@ -112,5 +113,97 @@ func TestExtractErrors(t *testing.T) {
 	bad.PxPerMMX.V = math.NaN()
 	if _, err := Extract(blank, bad, nil, nil); !errors.Is(err, ecg.ErrUnreadable) {
 		t.Errorf("NaN px/mm: err %v, want ErrUnreadable", err)
+	}
+}
+
+// TestExtractPartial erases V2 and V3 (third column, rows 2 and 3) of a
+// 3 × 4 + 1 page and the last 40 % of V4's panel: the erased leads must be absent from the record
+// (not present as all-NaN signals), V4 must be reported as partial, and
+// the error must wrap ecg.ErrPartial with one *LeadError per affected lead.
+func TestExtractPartial(t *testing.T) {
+	rec := synthRecord(t, 3)
+	pg := renderPage(t, rec, render.Options{Layout: "3x4+1"})
+	ink := naiveInk(pg.img)
+	tr := pg.truth
+	erase := func(p render.TruthPanel, t0 float64) {
+		x0, y0 := tr.PaperToPx(p.X0MM+(t0-p.T0)*tr.SpeedMMPerS-1, p.BaselineYMM-21)
+		x1, y1 := tr.PaperToPx(p.X1MM+1, p.BaselineYMM+21)
+		for y := int(y0); y <= int(y1); y++ {
+			for x := int(x0); x <= int(x1); x++ {
+				if (image.Point{x, y}).In(ink.Rect) {
+					ink.Pix[y*ink.Stride+x] = 0
+				}
+			}
+		}
+	}
+	gone := map[ecg.Lead]bool{}
+	for _, p := range tr.Panels {
+		switch l, _ := ecg.ParseLead(p.Lead); {
+		case p.Col == 2 && p.Row > 0 && !p.Rhythm:
+			erase(p, p.T0)
+			gone[l] = true
+		case l == ecg.LeadV4:
+			erase(p, p.T0+0.6*(p.T1-p.T0))
+		}
+	}
+	if len(gone) != 2 {
+		t.Fatalf("erased %d leads, want V2 and V3", len(gone))
+	}
+	lay, _ := StandardLayout("3x4+1")
+	res, err := Extract(ink, truthCal(tr), truthPulses(tr), &Options{Layout: lay})
+	if !errors.Is(err, ecg.ErrPartial) {
+		t.Fatalf("err %v, want ErrPartial", err)
+	}
+	if res == nil {
+		t.Fatal("no partial result")
+	}
+	reported := map[ecg.Lead]bool{}
+	for _, e := range err.(interface{ Unwrap() error }).Unwrap().(interface{ Unwrap() []error }).Unwrap() {
+		var le *LeadError
+		if errors.As(e, &le) {
+			reported[le.Lead] = true
+		}
+	}
+	for l := range gone {
+		if !reported[l] {
+			t.Errorf("lead %v erased but not reported", l)
+		}
+		if s := res.Record.Signal(l); s != nil {
+			t.Errorf("lead %v erased but present in the record", l)
+		}
+	}
+	if !reported[ecg.LeadV4] {
+		t.Errorf("V4 partly erased but not reported as partial")
+	}
+	if s := res.Record.Signal(ecg.LeadV4); s == nil {
+		t.Errorf("V4 partly erased: its traced part should be kept")
+	}
+	for _, l := range []ecg.Lead{ecg.LeadI, ecg.LeadII, ecg.LeadIII, ecg.LeadAVR, ecg.LeadAVL, ecg.LeadAVF, ecg.LeadV1, ecg.LeadV5, ecg.LeadV6} {
+		if reported[l] {
+			t.Errorf("intact lead %v reported missing", l)
+		}
+		if s := res.Record.Signal(l); s == nil {
+			t.Errorf("intact lead %v missing from the record", l)
+		}
+	}
+}
+
+func TestValidFraction(t *testing.T) {
+	nan := math.NaN()
+	s := []float64{1, 1, nan, nan, 1, 1, 1, 1, nan, nan}
+	tests := []struct {
+		win  [][2]float64
+		want float64
+	}{
+		{[][2]float64{{0, 10}}, 0.6},
+		{[][2]float64{{0, 4}}, 0.5},
+		{[][2]float64{{0, 4}, {2, 6}}, 4.0 / 6}, // overlapping windows count once
+		{[][2]float64{{4, 8}}, 1},
+		{nil, 0},
+	}
+	for _, tc := range tests {
+		if got := validFraction(s, tc.win, 1); math.Abs(got-tc.want) > 1e-12 {
+			t.Errorf("windows %v: %g, want %g", tc.win, got, tc.want)
+		}
 	}
 }
