@@ -68,6 +68,14 @@ func Extract(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse, opt *Op
 	if o.SampleRate <= 0 || math.IsNaN(o.SampleRate) {
 		o.SampleRate = 500
 	}
+	if o.SampleRate > maxSampleRate {
+		return nil, fmt.Errorf("trace: extract: sample rate %g Hz above %d Hz: %w", o.SampleRate, maxSampleRate, ecg.ErrUnreadable)
+	}
+	if o.Layout != nil {
+		if err := checkSize(o.Layout); err != nil {
+			return nil, fmt.Errorf("trace: extract: layout: %v: %w", err, ecg.ErrUnreadable)
+		}
+	}
 	if ink == nil || ink.Rect.Dx() < 8 || ink.Rect.Dy() < 8 || len(ink.Pix) < ink.Stride*(ink.Rect.Dy()-1)+ink.Rect.Dx() {
 		return nil, fmt.Errorf("trace: extract: empty or malformed ink map: %w", ecg.ErrNoECG)
 	}
@@ -152,7 +160,7 @@ func Extract(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse, opt *Op
 		dur = lay.DurationS()
 	}
 	n := int(math.Round(dur * o.SampleRate))
-	if n <= 0 || n > 100_000_000 {
+	if dur > maxLayoutS || n <= 0 || n*nCells(lay) > maxPanelSamples {
 		return nil, fmt.Errorf("trace: extract: record length %g s at %g Hz is out of range: %w", dur, o.SampleRate, ecg.ErrNoECG)
 	}
 
@@ -383,6 +391,22 @@ func Extract(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse, opt *Op
 		return res, fmt.Errorf("trace: extract: %w", errors.Join(append([]error{ecg.ErrPartial}, errs...)...))
 	}
 	return res, nil
+}
+
+// maxSampleRate is the highest output rate Extract accepts, Hz: far above
+// what a printed trace resolves (a 0.3 mm pen at 25 mm/s blurs ≈ 12 ms).
+const maxSampleRate = 10000
+
+// maxPanelSamples bounds the working memory of Extract: every panel holds
+// one float64 per record sample (≈ 80 MB at the bound).
+const maxPanelSamples = 10_000_000
+
+func nCells(l *Layout) int {
+	n := 0
+	for _, r := range l.Rows {
+		n += len(r.Cells)
+	}
+	return n
 }
 
 // maxExcursionS is the longest time a row's path may spend past half-way

@@ -233,5 +233,35 @@ func parseDesc(s string) (*Layout, error) {
 		}
 		l.Rows = append(l.Rows, row)
 	}
+	if err := checkSize(l); err != nil {
+		return nil, err
+	}
 	return l, nil
+}
+
+// Bounds on a layout description, which may come from an untrusted
+// command line or file: a page holds at most a few hundred millimetres of
+// trace per row (≈ 11 s at 25 mm/s on A4 landscape, standards.md §1.1), so
+// 600 s and 144 cells (a dozen 12-lead pages' worth) are generous while
+// keeping the record at most a few megabytes per lead.
+const (
+	maxLayoutS     = 600
+	maxLayoutCells = 144
+)
+
+// checkSize rejects layouts whose record or printed length exceeds what a
+// page can hold.
+func checkSize(l *Layout) error {
+	cells, printed := 0, 0.0
+	for _, r := range l.Rows {
+		cells += len(r.Cells)
+		printed += r.RowSeconds()
+	}
+	if cells > maxLayoutCells {
+		return fmt.Errorf("%d cells: a page holds at most %d", cells, maxLayoutCells)
+	}
+	if d := l.DurationS(); d > maxLayoutS || printed > maxLayoutS {
+		return fmt.Errorf("record of %g s with %g s printed: at most %d s fit on a page", d, printed, maxLayoutS)
+	}
+	return nil
 }

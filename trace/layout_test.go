@@ -1,7 +1,9 @@
 package trace
 
 import (
+	"errors"
 	"math"
+	"strings"
 	"testing"
 
 	"tracelift/ecg"
@@ -82,10 +84,39 @@ func TestParseLayoutErrors(t *testing.T) {
 	for _, s := range []string{
 		"", "4x3", "sec=0;cells=I", "sec=x;cells=I", "cells=I,Q9", "cells=I,II*",
 		"rows=2;cells=I", "cols=1;cells=I,II", "colour=red;cells=I", "sec=2.5",
+		// Longer than a page can hold (limits in layout.go): 64 columns
+		// of an hour each, 601 s in one cell, 11 × 60 s continued rows,
+		// 145 cells.
+		"sec=3600;cols=64;cells=II*", "sec=601;cells=II", "sec=60;cells=II/II~/II~/II~/II~/II~/II~/II~/II~/II~/II~",
+		"sec=1;cells=" + strings.Repeat("I,", 144) + "I",
 	} {
 		if _, err := ParseLayout(s); err == nil {
 			t.Errorf("ParseLayout(%q): want an error", s)
 		}
+	}
+}
+
+func TestParseLayoutSizeLimit(t *testing.T) {
+	// The largest accepted: 600 s of lead II over ten rows.
+	l, err := ParseLayout("sec=60;cells=II/II~/II~/II~/II~/II~/II~/II~/II~/II~")
+	if err != nil {
+		t.Fatalf("600 s rhythm: %v", err)
+	}
+	if d := l.DurationS(); d != 600 {
+		t.Errorf("duration %g s, want 600", d)
+	}
+	if _, err := ParseLayout("sec=3600;cols=64;cells=II*"); err == nil || !strings.Contains(err.Error(), "fit on a page") {
+		t.Errorf("hour-long columns: err %v, want a clear size error", err)
+	}
+	// Extract applies the same bounds to a layout built in code and to
+	// the output rate, before any work.
+	ink := naiveInk(renderBlank())
+	big := RhythmLayout(ecg.LeadII, 61, 10)
+	if _, err := Extract(ink, testCal(11.8), nil, &Options{Layout: big}); !errors.Is(err, ecg.ErrUnreadable) {
+		t.Errorf("610 s layout: err %v, want ErrUnreadable", err)
+	}
+	if _, err := Extract(ink, testCal(11.8), nil, &Options{SampleRate: 1e9}); !errors.Is(err, ecg.ErrUnreadable) {
+		t.Errorf("1 GHz output: err %v, want ErrUnreadable", err)
 	}
 }
 
