@@ -72,7 +72,9 @@
 // 0–2.5, 2.5–5, 5–7.5, 7.5–10 s). Prefix "-" marks an inverted lead (−aVR);
 // suffix "*" makes the cell span the whole row (a rhythm strip, cols ×
 // sec); suffix "~" continues the lead in time from where its previous cell
-// ended (a long rhythm printed over several rows). Examples:
+// ended (a long rhythm printed over several rows). A description may hold
+// at most 144 cells and 600 s of record (more than a page can print);
+// Extract also refuses output rates above 10 kHz. Examples:
 //
 //	sec=2.5;cells=I,aVR,V1,V4/II,aVL,V2,V5/III,aVF,V3,V6/II*
 //	sec=5;cells=I,V1/II,V2/III,V3/aVR,V4/aVL,V5/aVF,V6
