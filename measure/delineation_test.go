@@ -233,17 +233,29 @@ func evalLUDB(t *testing.T, opt *Options, verbose bool) []*diffStats {
 	return st
 }
 
-// Bounds asserted on |mean| and SD (ms), set just above the performance
-// measured when these tests were written (LUDB: P −5.0±10.5, PR +0.8±10.4,
-// QRS −7.7±16.2, QT +5.4±21.8; QTDB: P +14.2±9.4, PR +8.9±10.8,
-// QRS −0.6±11.9, QT +1.2±21.9). Against the IEC 60601-2-25 targets (from
-// memory: P ±10/15, PR ±10/10, QRS ±6/10, QT ±25/30) P, PR (SD 10.4/10.8)
-// and QT are at or within them; QRS misses the SD (16 and 12 ms against
-// 10) and LUDB its mean (−7.7 against ±6). The delineation thresholds
-// were chosen while looking at these same two datasets, so these are not
-// independent validation figures.
-var ludbBounds = map[string][2]float64{"P": {6, 12}, "PR": {3, 12}, "QRS": {10, 18}, "QT": {7, 24}}
-var qtdbBounds = map[string][2]float64{"P": {16, 11}, "PR": {10, 12}, "QRS": {3, 14}, "QT": {4, 24}}
+// Bounds asserted on |mean| and SD (ms). Measured on 2026-12-01 with the
+// default parameters: LUDB P −5.0±10.5, PR +0.8±10.4, QRS −7.7±16.2,
+// QT +5.4±21.8; QTDB P +14.2±9.4, PR +8.9±10.8, QRS −0.6±11.9,
+// QT +1.2±21.9. Each bound is the measured value rounded up with at most
+// 1.5 ms to spare; a change that needs wider bounds makes the
+// delineation worse and must say so, re-measure and update these figures
+// (the QTDB PR mean had drifted from +2.6 to +8.9 ms while its bound was
+// widened 5 → 7 → 10 ms; it is now pinned at the measured value).
+//
+// Against the IEC 60601-2-25 targets for global intervals (from memory:
+// |mean| / SD ≤ P 10/15, PR 10/10, QRS 6/10, QT 25/30 ms) P and QT are
+// within them; PR is at the mean target but its SD (10.4 and 10.8 ms)
+// just misses 10; QRS misses the SD (16.2 and 11.9 against 10) and on
+// LUDB its mean (−7.7 against ±6). QTDB P is long (+14 ms: its onsets
+// come early on the two-lead records) while LUDB P is short; a sweep of
+// the P onset threshold (xiPOn 0.3–0.6) and of the lead-combination rank
+// moves the two datasets in opposite directions (xiPOn 0.6 brings QTDB PR
+// to +1.8 but LUDB PR to −5.4 and loses the P of one QTDB record), so the
+// defaults stay. The delineation thresholds were chosen while looking at
+// these same two datasets, so these are not independent validation
+// figures.
+var ludbBounds = map[string][2]float64{"P": {6, 12}, "PR": {2, 12}, "QRS": {9, 17}, "QT": {7, 23}}
+var qtdbBounds = map[string][2]float64{"P": {15, 11}, "PR": {10, 12}, "QRS": {2, 13}, "QT": {3, 23}}
 
 func checkBounds(t *testing.T, set string, st []*diffStats, b map[string][2]float64) {
 	t.Helper()

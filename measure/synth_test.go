@@ -61,7 +61,8 @@ func columnise(rec ecg.Record, rhythm bool) ecg.Record {
 // longer than synth's truth by a fixed amount. The test therefore checks
 // (1) heart rate and QRS axis against the truth, (2) PR against the truth,
 // (3) that measured − true QRS, QT and P offsets stay constant across
-// rates, PR and QRS widths (the measurements track the truth), and (4) that
+// rates, PR and QRS widths (the measurements track the truth) and stay in
+// a band around the bias measured below, and (4) that
 // 3 × 4 pages give the same intervals as the full record they came from.
 func TestSyntheticIntervals(t *testing.T) {
 	base := synth.Default()
@@ -128,6 +129,23 @@ func TestSyntheticIntervals(t *testing.T) {
 			}
 		}
 	}
+	// The fixed offsets themselves, measured on 2026-12-01: P +10…+12,
+	// PR −10…−8, QRS +24…+30, QT +39…+51 ms. Investigated: on the default
+	// record every lead's QRS offset lies where the 12-lead envelope has
+	// fallen to 0.5 % of its peak (≈ 9 µV; 1 % is one sample earlier), so
+	// the offset does not run into the ST segment; the QRS reads long
+	// because synth's 5 % envelope level is far above a visible departure,
+	// and most of that excess is at the onset (earliest septal slope; the
+	// 1 % envelope onset is 10 ms later than ours). Raising the QRS
+	// thresholds (xiQOn, xiQOff 0.07 → 0.15) shortens the synthetic QRS by
+	// only 2–8 ms while the LUDB QRS, already short by 7.7 ms, worsens by
+	// up to 6 ms, so the defaults stay. The QT excess is mostly the T end:
+	// the 24 ms T smoothing scale widens the last T slope (σ 32 ms in synth
+	// → ≈ 40 ms), which puts the 15 % slope threshold ≈ 26 ms beyond the
+	// 5 % amplitude level (estimate for a Gaussian; on the expert-marked
+	// data the QT mean is +5.4 and +1.2 ms). The bands below allow 4–6 ms
+	// around the measured offsets, so a drift of the bias is caught too.
+	bands := [][2]float64{{6, 16}, {-14, -4}, {20, 34}, {34, 56}}
 	for i, lim := range []float64{12, 12, 12, 20} {
 		lo, hi := math.Inf(1), math.Inf(-1)
 		for _, o := range offsets {
@@ -136,6 +154,9 @@ func TestSyntheticIntervals(t *testing.T) {
 		t.Logf("%s measured − true: %+.0f … %+.0f ms", names[i], lo, hi)
 		if !(hi-lo <= lim) {
 			t.Errorf("%s: measured − true varies by %.0f ms across records (limit %.0f)", names[i], hi-lo, lim)
+		}
+		if !(lo >= bands[i][0] && hi <= bands[i][1]) {
+			t.Errorf("%s: measured − true %+.0f … %+.0f ms outside the expected bias band %+.0f … %+.0f", names[i], lo, hi, bands[i][0], bands[i][1])
 		}
 	}
 }
