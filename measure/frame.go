@@ -25,12 +25,14 @@ const (
 	MaxSampleRate = 20000
 )
 
-// A frame's grid (span × leads) may be at most maxGridFactor times the
-// samples the record holds, unless it is under maxGridFloorS seconds of
-// samples in all (a 3 × 4 page's 2.5 s columns fill a quarter of it).
+// A frame's grid (span × leads at the highest rate) may be at most
+// maxGridFactor times the samples the record holds (a 3 × 4 page's 2.5 s
+// columns fill a quarter of it; 250 and 500 Hz leads mixed need 1.5
+// times), unless it holds under maxGridFloorS seconds of samples in all
+// (12 leads × 1 min: at most 115 MB at 20 kHz).
 const (
 	maxGridFactor = 16
-	maxGridFloorS = 12 * 600
+	maxGridFloorS = 12 * 60
 )
 
 // frame holds a record's selected leads on one uniform sample grid:
@@ -96,6 +98,20 @@ func newFrame(rec *ecg.Record, keep []ecg.Lead) (*frame, error) {
 			}
 		}
 	}
+	// The grid spans from the earliest start to the latest end at the
+	// highest rate. Refuse a grid far larger than the samples given —
+	// leads whose start times lie hours apart, or a long lead at a low
+	// rate beside one at a high rate — before anything is resampled or
+	// allocated: it would take memory without bound.
+	span, given := 0.0, 0.0
+	for _, s := range sig {
+		span = math.Max(span, (s.Start-t0)*fs+float64(len(s.Samples))*fs/s.SampleRate)
+		given += float64(len(s.Samples))
+	}
+	if cells := span * float64(len(sig)); cells > maxGridFactor*given && cells > maxGridFloorS*fs {
+		return nil, fmt.Errorf("leads span %.0f s at %g Hz, a grid of %.3g samples for %.3g samples given: %w",
+			span/fs, fs, cells, given, ecg.ErrUnreadable)
+	}
 	if !same {
 		rs := make([]ecg.Signal, len(sig))
 		for i, s := range sig {
@@ -106,18 +122,6 @@ func newFrame(rec *ecg.Record, keep []ecg.Lead) (*frame, error) {
 		for _, s := range sig {
 			t0 = math.Min(t0, s.Start)
 		}
-	}
-	// The grid spans from the earliest start to the latest end. Refuse a
-	// grid far larger than the samples it holds (leads whose start times
-	// lie hours apart), which would allocate without bound.
-	span, total := 0.0, 0.0
-	for _, s := range sig {
-		span = math.Max(span, (s.Start-t0)*fs+float64(len(s.Samples)))
-		total += float64(len(s.Samples))
-	}
-	if cells := span * float64(len(sig)); cells > maxGridFactor*total && cells > maxGridFloorS*fs {
-		return nil, fmt.Errorf("leads span %.0f s but hold only %.0f s of samples: %w",
-			span/fs, total/fs/float64(len(sig)), ecg.ErrUnreadable)
 	}
 	f := &frame{fs: fs, t0: t0}
 	for _, s := range sig {

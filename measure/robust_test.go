@@ -69,6 +69,16 @@ func TestMeasureBadInput(t *testing.T) {
 	if _, err := Measure(far, nil); !errors.Is(err, ecg.ErrUnreadable) {
 		t.Errorf("leads 1e6 s apart: err = %v, want ecg.ErrUnreadable", err)
 	}
+	// A 2 h lead at 50 Hz beside a 1 s lead at 20 kHz would be resampled
+	// to 20 kHz (1.4e8 samples per lead): refused too.
+	long := make([]float64, 2*3600*50)
+	mixed := ecg.Record{Signals: []ecg.Signal{
+		{Lead: ecg.LeadII, SampleRate: 50, Samples: long},
+		{Lead: ecg.LeadV1, SampleRate: 20000, Samples: make([]float64, 20000)},
+	}}
+	if _, err := Measure(mixed, nil); !errors.Is(err, ecg.ErrUnreadable) {
+		t.Errorf("50 Hz and 20 kHz leads: err = %v, want ecg.ErrUnreadable", err)
+	}
 	// Options with NaN or infinite durations fall back to the defaults.
 	odd := &Options{ChunkS: math.NaN(), RefractoryS: math.Inf(1), LowPassHz: math.NaN()}
 	if _, err := DetectBeats(ecg.Record{Signals: []ecg.Signal{{Lead: ecg.LeadII, SampleRate: 500, Samples: noise}}}, odd); err != nil {
@@ -198,4 +208,41 @@ func FuzzMeasure(f *testing.F) {
 			t.Errorf("rate %g Hz: err = %v wraps no ecg error class", fs, err)
 		}
 	})
+}
+
+// TestPacingSpikes: a narrow pacing artefact (two samples, +3 / −1 mV in
+// every lead, invented for this test) 30 ms before each QRS (ventricular
+// pacing) or 160 ms before it (atrial pacing) must not count as a beat of
+// its own: spike and QRS fall within the 200 ms refractory period and the
+// larger detection peak is kept.
+func TestPacingSpikes(t *testing.T) {
+	for _, lead := range []float64{0.030, 0.160} {
+		p := synth.Default()
+		p.DurationS = 20
+		rec, err := synth.Generate(p, 3)
+		if err != nil {
+			t.Fatal(err)
+		}
+		truth := rec.Beats
+		for i := range rec.Signals {
+			s := &rec.Signals[i]
+			for _, b := range truth {
+				k := int(math.Round((b.QRSOn - lead) * s.SampleRate))
+				if k >= 0 && k+1 < len(s.Samples) {
+					s.Samples[k] += 3
+					s.Samples[k+1] -= 1
+				}
+			}
+		}
+		rec.Beats = nil
+		got, err := DetectBeats(rec, nil)
+		if err != nil {
+			t.Fatal(err)
+		}
+		tp, fn, fp := score(beatTimes(truth), beatTimes(got), 0, math.Inf(1))
+		t.Logf("spike %.0f ms before the QRS: TP %d FN %d FP %d", 1000*lead, tp, fn, fp)
+		if fn > 0 || fp > 0 {
+			t.Errorf("spike %.0f ms before the QRS: FN %d FP %d, want 0", 1000*lead, fn, fp)
+		}
+	}
 }
