@@ -159,6 +159,38 @@ func TestMeasureOddRecords(t *testing.T) {
 			t.Errorf("QT %v, full-rate record %v", rep.QTMS, full.QTMS)
 		}
 	})
+	t.Run("low sample rates", func(t *testing.T) {
+		// A record at 100–200 Hz (old exports, coarse digitisation) is
+		// measured on a 500 Hz interpolation and must read like the
+		// original (measured 2026-12-01 at 100 Hz: QRS +2, QT 0 ms; before
+		// the interpolation +16 and +8 ms). At 50 Hz the QRS detail is
+		// gone (QRS +30 ms) but rate and QT (+6 ms) remain usable.
+		rec := gen(70, 6)
+		full, err := Measure(rec, nil)
+		if err != nil {
+			t.Fatal(err)
+		}
+		for _, c := range []struct{ fs, qrs, qt float64 }{{100, 6, 8}, {125, 6, 8}, {200, 6, 8}, {50, 40, 20}} {
+			var low ecg.Record
+			for _, s := range rec.Signals {
+				low.Signals = append(low.Signals, ecg.Resample(s, c.fs))
+			}
+			rep, err := Measure(low, nil)
+			if err != nil {
+				t.Fatalf("%v Hz: %v", c.fs, err)
+			}
+			t.Logf("%v Hz: HR %v QRS %v QT %v (500 Hz: %v, %v, %v)", c.fs, rep.HeartRateBPM, rep.QRSMS, rep.QTMS, full.HeartRateBPM, full.QRSMS, full.QTMS)
+			if d := math.Abs(float64(rep.HeartRateBPM - full.HeartRateBPM)); !(d <= 1) {
+				t.Errorf("%v Hz: HR %v, at 500 Hz %v", c.fs, rep.HeartRateBPM, full.HeartRateBPM)
+			}
+			if d := math.Abs(float64(rep.QRSMS - full.QRSMS)); !(d <= c.qrs) {
+				t.Errorf("%v Hz: QRS %v, at 500 Hz %v (limit ±%.0f)", c.fs, rep.QRSMS, full.QRSMS, c.qrs)
+			}
+			if d := math.Abs(float64(rep.QTMS - full.QTMS)); !(d <= c.qt) {
+				t.Errorf("%v Hz: QT %v, at 500 Hz %v (limit ±%.0f)", c.fs, rep.QTMS, full.QTMS, c.qt)
+			}
+		}
+	})
 	t.Run("lead restriction", func(t *testing.T) {
 		rep, err := Measure(gen(70, 5), &Options{Leads: []ecg.Lead{ecg.LeadV5, ecg.LeadII}})
 		if err != nil {
