@@ -26,10 +26,13 @@ const (
 )
 
 // Records whose highest rate is under lowRate (Hz) are resampled to
-// workRate (Hz) before measurement (see newFrame).
+// workRate (Hz) before measurement, those above highRate to highWorkRate
+// (see newFrame).
 const (
-	lowRate  = 250
-	workRate = 500
+	lowRate      = 250
+	workRate     = 500
+	highRate     = 2000
+	highWorkRate = 1000
 )
 
 // A frame's grid (span × leads at the highest rate) may be at most
@@ -60,7 +63,8 @@ func (f *frame) time(i int) float64 { return f.t0 + float64(i)/f.fs }
 // whose starts fall on a common sample grid are used as they are (without
 // copying when a signal spans the whole grid); otherwise every signal is
 // resampled to the highest rate with ecg.ResampleOnGrid — or to workRate
-// when the highest rate is under lowRate. It refuses (ecg.ErrUnreadable)
+// when the highest rate is under lowRate, to highWorkRate when it is over
+// highRate. It refuses (ecg.ErrUnreadable)
 // sample rates outside MinSampleRate–MaxSampleRate, non-finite start
 // times, and grids far larger than the samples given.
 func newFrame(rec *ecg.Record, keep []ecg.Lead) (*frame, error) {
@@ -104,6 +108,13 @@ func newFrame(rec *ecg.Record, keep []ecg.Lead) (*frame, error) {
 		// 430 to 422 ms (500 Hz original: 114 and 422 ms); at 50 Hz the
 		// QRS from 180 to 146 ms.
 		fs, same = workRate, false
+	} else if fs > highRate {
+		// Fast-sampled records (pacemaker-spike capture) carry nothing
+		// the measurements need above a few hundred hertz; measuring them
+		// on an anti-aliased 1 kHz version keeps the cost of the
+		// fixed-duration windows and kernels bounded (a 10 s 12-lead record
+		// at 20 kHz took 11 s at its own rate).
+		fs, same = highWorkRate, false
 	}
 	t0 := math.Inf(1)
 	for _, s := range sig {

@@ -159,7 +159,7 @@ func TestMeasureOddRecords(t *testing.T) {
 			t.Errorf("QT %v, full-rate record %v", rep.QTMS, full.QTMS)
 		}
 	})
-	t.Run("low sample rates", func(t *testing.T) {
+	t.Run("low and high sample rates", func(t *testing.T) {
 		// A record at 100–200 Hz (old exports, coarse digitisation) is
 		// measured on a 500 Hz interpolation and must read like the
 		// original (measured 2026-12-01 at 100 Hz: QRS +2, QT 0 ms; before
@@ -170,7 +170,9 @@ func TestMeasureOddRecords(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		for _, c := range []struct{ fs, qrs, qt float64 }{{100, 6, 8}, {125, 6, 8}, {200, 6, 8}, {50, 40, 20}} {
+		// Above 2 kHz the record is measured on a 1 kHz version (5 and
+		// 20 kHz: QRS −1, QT −1 ms).
+		for _, c := range []struct{ fs, qrs, qt float64 }{{100, 6, 8}, {125, 6, 8}, {200, 6, 8}, {50, 40, 20}, {5000, 4, 6}, {20000, 4, 6}} {
 			var low ecg.Record
 			for _, s := range rec.Signals {
 				low.Signals = append(low.Signals, ecg.Resample(s, c.fs))
