@@ -21,7 +21,8 @@ import (
 // (3 × 4 pages) without changing the signal's scale. Long records are
 // processed in chunks; memory grows with the chunk, not the record.
 //
-// It returns an error wrapping ecg.ErrNoECG when the record has no samples.
+// It returns an error wrapping ecg.ErrNoECG when the record has no
+// samples, ecg.ErrUnreadable when it is implausible (see Measure).
 func DetectBeats(rec ecg.Record, opt *Options) ([]ecg.Beat, error) {
 	o := opt.withDefaults()
 	f, err := newFrame(&rec, o.Leads)

@@ -10,6 +10,14 @@
 //
 // # Methods
 //
+// Sample rates. Rates from 50 Hz to 20 kHz are accepted (others, and
+// leads whose start times would need a grid far larger than the samples
+// given, are refused as unreadable). Records under 250 Hz are measured on
+// a 500 Hz band-limited (windowed-sinc) interpolation, so the smoothing
+// scales below span whole samples; records over 2 kHz on an anti-aliased
+// 1 kHz version, which keeps the cost bounded. Leads at different rates or
+// off a common grid are resampled to one grid.
+//
 // Conditioning. Baseline wander is removed by subtracting a two-stage
 // median-filter estimate (200 ms then 600 ms; de Chazal, O'Dwyer & Reilly
 // 2004, IEEE TBME 51:1196), which does not ring around large QRS

@@ -25,7 +25,9 @@ import (
 // beat.
 //
 // Errors wrap ecg.ErrNoECG when the record has no samples or fewer than two
-// beats are found.
+// beats are found, and ecg.ErrUnreadable when a sample rate lies outside
+// MinSampleRate–MaxSampleRate, a start time is not finite, or the leads'
+// time spans would need a grid far larger than the samples given.
 func Measure(rec ecg.Record, opt *Options) (*Report, error) {
 	o := opt.withDefaults()
 	f, err := newFrame(&rec, o.Leads)
