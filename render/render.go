@@ -123,11 +123,16 @@ func composeScan(t *Truth, h [9]float64, b image.Rectangle) {
 	ux1, vx1 := applyH(t.PaperToImage, cx+d, cy)
 	uy0, vy0 := applyH(t.PaperToImage, cx, cy-d)
 	uy1, vy1 := applyH(t.PaperToImage, cx, cy+d)
-	t.PxPerMMX = math.Hypot(ux1-ux0, vx1-vx0) / (2 * d)
-	t.PxPerMMY = math.Hypot(uy1-uy0, vy1-vy0) / (2 * d)
-	// Image y points down, so a counter-clockwise turn makes the paper's
-	// x axis point up-right: angle = atan2(−dv, du).
-	t.RotationDeg = math.Atan2(-(vx1-vx0), ux1-ux0) * 180 / math.Pi
+	// The Jacobian J = ∂(u, v)/∂(x, y) of a page rotated and then sampled
+	// (J = S·R, as a scanner or fax samples a rotated sheet) has rows
+	// s_x·(cos θ, sin θ) and s_y·(−sin θ, cos θ): the row lengths are the
+	// device's px/mm along the image axes and the first row's angle is the
+	// rotation (counter-clockwise on the image, y pointing down).
+	dudx, dvdx := (ux1-ux0)/(2*d), (vx1-vx0)/(2*d)
+	dudy, dvdy := (uy1-uy0)/(2*d), (vy1-vy0)/(2*d)
+	t.PxPerMMX = math.Hypot(dudx, dudy)
+	t.PxPerMMY = math.Hypot(dvdx, dvdy)
+	t.RotationDeg = math.Atan2(dudy, dudx) * 180 / math.Pi
 }
 
 // draw paints grid, header, pulses, ticks, labels and traces.

@@ -25,8 +25,10 @@ type Truth struct {
 	HeightPx  int     `json:"height_px"` // final image height
 	DPI       float64 `json:"dpi"`       // render resolution before any scan simulation
 	// PxPerMMX and PxPerMMY are the final image's pixels per millimetre
-	// along the paper's x and y axes (before rotation): DPI/25.4 times the
-	// scan simulation's scale, measured at the paper's centre.
+	// along the image's x and y axes, as the scanning device sampled the
+	// (possibly rotated) sheet: DPI/25.4 times the scan simulation's scale,
+	// measured at the paper's centre. Without rotation they are the scale
+	// along the paper's x and y axes.
 	PxPerMMX float64 `json:"px_per_mm_x"`
 	PxPerMMY float64 `json:"px_per_mm_y"`
 	// RotationDeg is the rotation applied by the scan simulation,

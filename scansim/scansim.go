@@ -245,15 +245,19 @@ func isIdentity(m [9]float64) bool {
 	return m == [9]float64{1, 0, 0, 0, 1, 0, 0, 0, 1}
 }
 
-// homography builds H = T_canvas · P · R · S · T_-centre for a w × h page
+// homography builds H = T_canvas · P · S · R · T_-centre for a w × h page
 // and returns it with the canvas size that holds the whole warped page.
 func homography(w, h int, opt Options, rng *rand.Rand) ([9]float64, int, int) {
 	cx, cy := float64(w)/2, float64(h)/2
 	m := [9]float64{1, 0, -cx, 0, 1, -cy, 0, 0, 1}
-	m = mul3([9]float64{opt.ScaleX, 0, 0, 0, opt.ScaleY, 0, 0, 0, 1}, m)
+	// The paper lies rotated on the scanner glass or in the fax feeder and
+	// is then sampled on the device's fixed grid, which may have different
+	// x and y resolutions: rotate first, then scale (H = S·R). Scaling
+	// first would shear a rotated fax page.
 	// Counter-clockwise on screen (y down): x' = x cos + y sin, y' = −x sin + y cos.
 	t := opt.RotationDeg * math.Pi / 180
 	m = mul3([9]float64{math.Cos(t), math.Sin(t), 0, -math.Sin(t), math.Cos(t), 0, 0, 0, 1}, m)
+	m = mul3([9]float64{opt.ScaleX, 0, 0, 0, opt.ScaleY, 0, 0, 0, 1}, m)
 	phi := 2 * math.Pi * rng.Float64()
 	if opt.Perspective > 0 {
 		// The denominator 1 + g·p changes by ±Perspective between the
