@@ -88,8 +88,31 @@ func Detect(p *imageproc.Page, opt *Options) (*Result, error) {
 	}
 	r.GridFound = okx && oky
 	// Only one axis measured: the other from the option, else assume
-	// square pixels.
+	// square pixels. A lone axis that disagrees with a resolution known for
+	// both axes is more likely a misread of a faint or broken grid (a fax
+	// in standard mode) than a page printed at a scale, which would show on
+	// both axes: then the resolution is used for both.
+	fromResolution := false
+	if okx != oky {
+		ux, uy := orOther(o.DPIX, p.DPIX), orOther(o.DPIY, p.DPIY)
+		measured, prior, axis := px.pitch, ux/25.4, "x"
+		if oky {
+			measured, prior, axis = py.pitch, uy/25.4, "y"
+		}
+		if ux > 0 && uy > 0 && math.Abs(measured/prior-1) > 0.015 {
+			origin := FromMetadata
+			if o.DPIX > 0 || o.DPIY > 0 {
+				origin = FromOption
+			}
+			r.Calibration.PxPerMMX = Value{ux / 25.4, origin}
+			r.Calibration.PxPerMMY = Value{uy / 25.4, origin}
+			r.Warnings = append(r.Warnings, fmt.Sprintf("grid: only the %s axis of the grid was measured (%.4g px/mm), %.1f %% off the resolution (%s); px/mm taken from the resolution",
+				axis, measured, 100*(measured/prior-1), origin))
+			fromResolution = true
+		}
+	}
 	switch {
+	case okx && oky, fromResolution:
 	case okx && !oky:
 		r.Calibration.PxPerMMY = fallbackAxis(o.DPIY, p.DPIY, px.pitch)
 		r.Warnings = append(r.Warnings, "grid: horizontal grid lines not found; px/mm along y taken as "+r.Calibration.PxPerMMY.String())
