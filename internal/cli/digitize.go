@@ -236,7 +236,10 @@ func digitizeFile(ctx context.Context, inPath, outBase string, pf *pipelineFlags
 			return res, ctx.Err()
 		}
 		if !errors.Is(decErr, ecg.ErrOutput) || len(pageErrs) == 0 {
-			pageErrs = append(pageErrs, fmt.Errorf("%s: %w", filepath.Base(inPath), decErr))
+			if !strings.Contains(decErr.Error(), filepath.Base(inPath)) {
+				decErr = fmt.Errorf("%s: %w", filepath.Base(inPath), decErr)
+			}
+			pageErrs = append(pageErrs, decErr)
 		}
 	}
 	switch {
