@@ -6,6 +6,8 @@ import (
 	"math"
 
 	"gonum.org/v1/gonum/mat"
+
+	"tracelift/homography"
 )
 
 // Point is a position in pixels (pixel centres at integer coordinates)
@@ -17,45 +19,16 @@ type Point struct{ X, Y float64 }
 type Homography = [9]float64
 
 // Identity is the identity homography.
-var identity = Homography{1, 0, 0, 0, 1, 0, 0, 0, 1}
+var identity = homography.Identity
 
-// Apply maps (x, y) through h.
-func Apply(h Homography, x, y float64) (float64, float64) {
-	w := h[6]*x + h[7]*y + h[8]
-	return (h[0]*x + h[1]*y + h[2]) / w, (h[3]*x + h[4]*y + h[5]) / w
-}
+// Apply maps (x, y) through h (see package homography).
+func Apply(h Homography, x, y float64) (float64, float64) { return homography.Apply(h, x, y) }
 
 // Mul returns the product a·b (apply b first, then a).
-func Mul(a, b Homography) Homography {
-	var c Homography
-	for i := 0; i < 3; i++ {
-		for j := 0; j < 3; j++ {
-			c[3*i+j] = a[3*i]*b[j] + a[3*i+1]*b[3+j] + a[3*i+2]*b[6+j]
-		}
-	}
-	return c
-}
+func Mul(a, b Homography) Homography { return homography.Mul(a, b) }
 
 // Invert returns the inverse of h; ok is false when h is singular.
-func Invert(h Homography) (inv Homography, ok bool) {
-	a, b, c, d, e, f, g, hh, i := h[0], h[1], h[2], h[3], h[4], h[5], h[6], h[7], h[8]
-	A := e*i - f*hh
-	B := -(d*i - f*g)
-	C := d*hh - e*g
-	det := a*A + b*B + c*C
-	if det == 0 || math.IsNaN(det) || math.IsInf(det, 0) {
-		return inv, false
-	}
-	inv = Homography{
-		A, -(b*i - c*hh), b*f - c*e,
-		B, a*i - c*g, -(a*f - c*d),
-		C, -(a*hh - b*g), a*e - b*d,
-	}
-	for k := range inv {
-		inv[k] /= det
-	}
-	return inv, true
-}
+func Invert(h Homography) (Homography, bool) { return homography.Invert(h) }
 
 // ErrDegenerate reports point sets that do not determine a homography.
 var ErrDegenerate = errors.New("imageproc: degenerate point configuration")

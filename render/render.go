@@ -14,6 +14,7 @@ import (
 	"golang.org/x/image/font"
 
 	"tracelift/ecg"
+	"tracelift/homography"
 	"tracelift/scansim"
 )
 
@@ -113,16 +114,16 @@ func Render(rec ecg.Record, opt *Options) (*Page, error) {
 func composeScan(t *Truth, h [9]float64, b image.Rectangle) {
 	in := [9]float64{1, 0, 0.5, 0, 1, 0.5, 0, 0, 1}
 	out := [9]float64{1, 0, -0.5, 0, 1, -0.5, 0, 0, 1}
-	t.PaperToImage = mulH(out, mulH(h, mulH(in, t.PaperToImage)))
+	t.PaperToImage = homography.Mul(out, homography.Mul(h, homography.Mul(in, t.PaperToImage)))
 	t.WidthPx, t.HeightPx = b.Dx(), b.Dy()
 	// Local scale and rotation at the paper's centre, by central
 	// differences of the composed homography.
 	cx, cy := t.PaperWidthMM/2, t.PaperHeightMM/2
 	const d = 1.0
-	ux0, vx0 := applyH(t.PaperToImage, cx-d, cy)
-	ux1, vx1 := applyH(t.PaperToImage, cx+d, cy)
-	uy0, vy0 := applyH(t.PaperToImage, cx, cy-d)
-	uy1, vy1 := applyH(t.PaperToImage, cx, cy+d)
+	ux0, vx0 := homography.Apply(t.PaperToImage, cx-d, cy)
+	ux1, vx1 := homography.Apply(t.PaperToImage, cx+d, cy)
+	uy0, vy0 := homography.Apply(t.PaperToImage, cx, cy-d)
+	uy1, vy1 := homography.Apply(t.PaperToImage, cx, cy+d)
 	// The Jacobian J = ∂(u, v)/∂(x, y) of a page rotated and then sampled
 	// (J = S·R, as a scanner or fax samples a rotated sheet) has rows
 	// s_x·(cos θ, sin θ) and s_y·(−sin θ, cos θ): the row lengths are the

@@ -8,6 +8,7 @@ import (
 	"strconv"
 
 	"tracelift/ecg"
+	"tracelift/homography"
 )
 
 // TruthVersion is the current sidecar version.
@@ -304,7 +305,7 @@ func (t *Truth) Record() ecg.Record {
 // PaperToPx maps a paper point (mm) to final image pixels with the truth's
 // homography and, if present, its lens warp.
 func (t *Truth) PaperToPx(xMM, yMM float64) (u, v float64) {
-	u, v = applyH(t.PaperToImage, xMM, yMM)
+	u, v = homography.Apply(t.PaperToImage, xMM, yMM)
 	if t.Lens != nil && t.Lens.K1 != 0 {
 		u, v = t.Lens.undistort(u, v)
 	}
@@ -315,30 +316,15 @@ func (t *Truth) PaperToPx(xMM, yMM float64) (u, v float64) {
 // warp (if any) and the inverse of the truth's homography (ok=false if it
 // is singular).
 func (t *Truth) PxToPaper(u, v float64) (xMM, yMM float64, ok bool) {
-	inv, ok := invertH(t.PaperToImage)
+	inv, ok := homography.Invert(t.PaperToImage)
 	if !ok {
 		return 0, 0, false
 	}
 	if t.Lens != nil && t.Lens.K1 != 0 {
 		u, v = t.Lens.distort(u, v)
 	}
-	x, y := applyH(inv, u, v)
+	x, y := homography.Apply(inv, u, v)
 	return x, y, true
-}
-
-func invertH(m [9]float64) ([9]float64, bool) {
-	a, b, c, d, e, f, g, h, i := m[0], m[1], m[2], m[3], m[4], m[5], m[6], m[7], m[8]
-	A, B, C := e*i-f*h, -(d*i - f*g), d*h-e*g
-	det := a*A + b*B + c*C
-	if det == 0 || !finite(det) {
-		return [9]float64{}, false
-	}
-	r := 1 / det
-	return [9]float64{
-		A * r, -(b*i - c*h) * r, (b*f - c*e) * r,
-		B * r, (a*i - c*g) * r, -(a*f - c*d) * r,
-		C * r, -(a*h - b*g) * r, (a*e - b*d) * r,
-	}, true
 }
 
 // PanelPoint returns the paper position (mm) of value vMV at time tS on
@@ -349,23 +335,6 @@ func (t *Truth) PanelPoint(p TruthPanel, tS, vMV float64) (xMM, yMM float64) {
 		sign = -1
 	}
 	return p.X0MM + (tS-p.T0)*t.SpeedMMPerS, p.BaselineYMM - sign*vMV*t.GainMMPerMV
-}
-
-func applyH(h [9]float64, x, y float64) (float64, float64) {
-	w := h[6]*x + h[7]*y + h[8]
-	return (h[0]*x + h[1]*y + h[2]) / w, (h[3]*x + h[4]*y + h[5]) / w
-}
-
-func mulH(a, b [9]float64) [9]float64 {
-	var c [9]float64
-	for i := 0; i < 3; i++ {
-		for j := 0; j < 3; j++ {
-			for k := 0; k < 3; k++ {
-				c[3*i+j] += a[3*i+k] * b[3*k+j]
-			}
-		}
-	}
-	return c
 }
 
 // buildTruth fills the geometry-independent parts of the truth.

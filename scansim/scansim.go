@@ -10,6 +10,8 @@ import (
 	"image/jpeg"
 	"math"
 	"math/rand/v2"
+
+	"tracelift/homography"
 )
 
 // ErrOptions is returned (wrapped) for options outside their valid range
@@ -125,7 +127,7 @@ func Apply(src image.Image, opt Options) (image.Image, [9]float64, error) {
 	lightRng := rand.New(rand.NewPCG(rng.Uint64(), 3))
 	noiseRng := rand.New(rand.NewPCG(rng.Uint64(), 4))
 
-	H, w, h := homography(sb.Dx(), sb.Dy(), opt, geoRng)
+	H, w, h := sheetHomography(sb.Dx(), sb.Dy(), opt, geoRng)
 	if w*h > maxPixels || sb.Dx()*sb.Dy() > maxPixels {
 		return nil, H, fmt.Errorf("%w: output canvas %d × %d px too large", ErrOptions, w, h)
 	}
@@ -144,7 +146,7 @@ func Apply(src image.Image, opt Options) (image.Image, [9]float64, error) {
 	}
 	out := page
 	if !isIdentity(H) || w != sb.Dx() || h != sb.Dy() || opt.LensK1 != 0 {
-		inv, ok := invert3(H)
+		inv, ok := homography.Invert(H)
 		if !ok {
 			return nil, H, fmt.Errorf("%w: singular geometry", ErrOptions)
 		}
@@ -210,44 +212,15 @@ func Apply(src image.Image, opt Options) (image.Image, [9]float64, error) {
 }
 
 // Map applies the homography H to the point (x, y).
-func Map(H [9]float64, x, y float64) (float64, float64) {
-	w := H[6]*x + H[7]*y + H[8]
-	return (H[0]*x + H[1]*y + H[2]) / w, (H[3]*x + H[4]*y + H[5]) / w
-}
-
-func mul3(a, b [9]float64) [9]float64 {
-	var c [9]float64
-	for i := range 3 {
-		for j := range 3 {
-			for k := range 3 {
-				c[3*i+j] += a[3*i+k] * b[3*k+j]
-			}
-		}
-	}
-	return c
-}
-
-func invert3(m [9]float64) ([9]float64, bool) {
-	a, b, c, d, e, f, g, h, i := m[0], m[1], m[2], m[3], m[4], m[5], m[6], m[7], m[8]
-	A, B, C := e*i-f*h, -(d*i - f*g), d*h-e*g
-	det := a*A + b*B + c*C
-	if det == 0 || math.IsNaN(det) {
-		return [9]float64{}, false
-	}
-	r := [9]float64{A, -(b*i - c*h), b*f - c*e, B, a*i - c*g, -(a*f - c*d), C, -(a*h - b*g), a*e - b*d}
-	for k := range r {
-		r[k] /= det
-	}
-	return r, true
-}
+func Map(H [9]float64, x, y float64) (float64, float64) { return homography.Apply(H, x, y) }
 
 func isIdentity(m [9]float64) bool {
 	return m == [9]float64{1, 0, 0, 0, 1, 0, 0, 0, 1}
 }
 
-// homography builds H = T_canvas · P · S · R · T_-centre for a w × h page
+// sheetHomography builds H = T_canvas · P · S · R · T_-centre for a w × h page
 // and returns it with the canvas size that holds the whole warped page.
-func homography(w, h int, opt Options, rng *rand.Rand) ([9]float64, int, int) {
+func sheetHomography(w, h int, opt Options, rng *rand.Rand) ([9]float64, int, int) {
 	cx, cy := float64(w)/2, float64(h)/2
 	m := [9]float64{1, 0, -cx, 0, 1, -cy, 0, 0, 1}
 	// The paper lies rotated on the scanner glass or in the fax feeder and
@@ -256,8 +229,8 @@ func homography(w, h int, opt Options, rng *rand.Rand) ([9]float64, int, int) {
 	// first would shear a rotated fax page.
 	// Counter-clockwise on screen (y down): x' = x cos + y sin, y' = −x sin + y cos.
 	t := opt.RotationDeg * math.Pi / 180
-	m = mul3([9]float64{math.Cos(t), math.Sin(t), 0, -math.Sin(t), math.Cos(t), 0, 0, 0, 1}, m)
-	m = mul3([9]float64{opt.ScaleX, 0, 0, 0, opt.ScaleY, 0, 0, 0, 1}, m)
+	m = homography.Mul([9]float64{math.Cos(t), math.Sin(t), 0, -math.Sin(t), math.Cos(t), 0, 0, 0, 1}, m)
+	m = homography.Mul([9]float64{opt.ScaleX, 0, 0, 0, opt.ScaleY, 0, 0, 0, 1}, m)
 	phi := 2 * math.Pi * rng.Float64()
 	if opt.Perspective > 0 {
 		// The denominator 1 + g·p changes by ±Perspective between the
@@ -268,12 +241,12 @@ func homography(w, h int, opt Options, rng *rand.Rand) ([9]float64, int, int) {
 			r = max(r, x*math.Cos(phi)+y*math.Sin(phi))
 		}
 		gx, gy := opt.Perspective*math.Cos(phi)/r, opt.Perspective*math.Sin(phi)/r
-		m = mul3([9]float64{1, 0, 0, 0, 1, 0, gx, gy, 1}, m)
+		m = homography.Mul([9]float64{1, 0, 0, 0, 1, 0, gx, gy, 1}, m)
 	}
 	if opt.RotationDeg == 0 && opt.Perspective == 0 && opt.LensK1 >= 0 {
 		// Pure scaling: the canvas is the scaled page.
 		W, Hh := int(math.Round(float64(w)*opt.ScaleX)), int(math.Round(float64(h)*opt.ScaleY))
-		m = mul3([9]float64{1, 0, float64(W) / 2, 0, 1, float64(Hh) / 2, 0, 0, 1}, m)
+		m = homography.Mul([9]float64{1, 0, float64(W) / 2, 0, 1, float64(Hh) / 2, 0, 0, 1}, m)
 		return m, max(W, 1), max(Hh, 1)
 	}
 	minX, minY, maxX, maxY := math.Inf(1), math.Inf(1), math.Inf(-1), math.Inf(-1)
@@ -285,7 +258,7 @@ func homography(w, h int, opt Options, rng *rand.Rand) ([9]float64, int, int) {
 	// pincushion lens warp, which pushes the corners outward by up to
 	// |k1| of the half-diagonal.
 	margin := (0.02 + 1.2*max(0, -opt.LensK1)) * max(maxX-minX, maxY-minY)
-	m = mul3([9]float64{1, 0, margin - minX, 0, 1, margin - minY, 0, 0, 1}, m)
+	m = homography.Mul([9]float64{1, 0, margin - minX, 0, 1, margin - minY, 0, 0, 1}, m)
 	return m, int(math.Ceil(maxX - minX + 2*margin)), int(math.Ceil(maxY - minY + 2*margin))
 }
 
