@@ -249,17 +249,30 @@ func consistent(ps []Pulse) []Pulse {
 	if len(ps) < 2 {
 		return ps
 	}
-	hs := make([]float64, len(ps))
-	ws := make([]float64, len(ps))
-	for i, p := range ps {
-		hs[i], ws[i] = p.BaseY-p.TopY, p.X1-p.X0
+	// The pulses of one page share height and width: keep the largest
+	// group of mutually similar candidates (ties: the taller group).
+	// Taking the median instead fails when pairs of QRS complexes whose
+	// "tops" run along a grid line outnumber the real pulses.
+	similar := func(p, q Pulse) bool {
+		hp, hq := p.BaseY-p.TopY, q.BaseY-q.TopY
+		wp, wq := p.X1-p.X0, q.X1-q.X0
+		return math.Abs(hp-hq) <= 0.12*hq && math.Abs(wp-wq) <= 0.2*wq+2
 	}
-	slices.Sort(hs)
-	slices.Sort(ws)
-	mh, mw := hs[len(hs)/2], ws[len(ws)/2]
+	best, bestN, bestH := -1, 0, 0.0
+	for i, q := range ps {
+		n := 0
+		for _, p := range ps {
+			if similar(p, q) {
+				n++
+			}
+		}
+		if h := q.BaseY - q.TopY; n > bestN || (n == bestN && h > bestH) {
+			best, bestN, bestH = i, n, h
+		}
+	}
 	var out []Pulse
 	for _, p := range ps {
-		if math.Abs(p.BaseY-p.TopY-mh) <= 0.12*mh && math.Abs(p.X1-p.X0-mw) <= 0.2*mw+2 {
+		if similar(p, ps[best]) {
 			out = append(out, p)
 		}
 	}
