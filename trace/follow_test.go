@@ -3,6 +3,7 @@ package trace
 import (
 	"image"
 	"math"
+	"math/rand/v2"
 	"testing"
 
 	"tracelift/grid"
@@ -174,5 +175,32 @@ func testCal(pxPerMM float64) grid.Calibration {
 		PxPerMMY:    grid.Value{V: pxPerMM, Origin: grid.FromOption},
 		SpeedMMPerS: grid.Value{V: 25, Origin: grid.FromDefault},
 		GainMMPerMV: grid.Value{V: 10, Origin: grid.FromDefault},
+	}
+}
+
+// TestFollowNarrowPeakOnNoisyTrace draws a 3.5 px pen (0.3 mm at 300 dpi,
+// a common printer pen) along a trace with sample-to-sample jitter, which
+// makes most vertical runs twice the pen's height, and a narrow R peak
+// (180 px up and down within 10 px). The apex must keep its height: pen
+// bounds taken from the inflated run heights once cut it by ≈ 40 px.
+func TestFollowNarrowPeakOnNoisyTrace(t *testing.T) {
+	const base, apex = 300.0, 120.0
+	rng := rand.New(rand.NewPCG(5, 5))
+	m := image.NewGray(image.Rect(0, 0, 200, 400))
+	var pts []Point
+	for x := 0.0; x < 200; x++ {
+		y := base + 4*(rng.Float64()-0.5)
+		switch {
+		case x >= 95 && x <= 100:
+			y = base - (base-apex)*(x-95)/5
+		case x > 100 && x <= 105:
+			y = apex + (base-apex)*(x-100)/5
+		}
+		pts = append(pts, Point{x, y})
+	}
+	stroke(m, pts, 1.75)
+	pr := followMask(m, base)
+	if got := minY(pr.points, 90, 110); math.Abs(got-apex) > 3 {
+		t.Errorf("apex at y = %.1f px, drawn at %.0f (pen median %.0f px)", got, apex, pr.penPx)
 	}
 }
