@@ -24,12 +24,21 @@ func TestPipelineFloors(t *testing.T) {
 	if testing.Short() {
 		t.Skip("renders full pages")
 	}
+	// One seeded page per condition; each floor is below the page's
+	// measured median (clean 24.9, scan 23.4, gray 20.9, penmarks 23.3 dB
+	// when set) and at or above the condition's target. The corpus medians
+	// over four pages per condition were clean 24.4, scan 21.3, gray 18.0,
+	// penmarks 21.4 dB (TestCorpusTable). No floor for overlap, fax and
+	// photo: they score ≈ 0 dB (crossing complexes; front-end calibration
+	// and orientation), see doc.go.
 	tests := []struct {
 		c        accuracy.Case
 		medianDB float64
 	}{
-		{accuracy.Case{Condition: "clean", Layout: "3x4+1", Seed: 1}, 22},
-		{accuracy.Case{Condition: "scan", Seed: 2}, 19},
+		{accuracy.Case{Condition: "clean", Layout: "3x4+1", Seed: 1}, 24},
+		{accuracy.Case{Condition: "scan", Seed: 1}, 20},
+		{accuracy.Case{Condition: "gray", Seed: 1}, 18},
+		{accuracy.Case{Condition: "penmarks", Seed: 1}, 18},
 	}
 	for _, tc := range tests {
 		t.Run(tc.c.Name(), func(t *testing.T) {
