@@ -554,7 +554,7 @@ func alignStarts(rows []rowInfo, pxX float64) {
 func matchRows(rows []rowInfo, want int, warn *[]string) []rowInfo {
 	if len(rows) < want {
 		*warn = append(*warn, fmt.Sprintf("found %d trace rows, layout has %d", len(rows), want))
-		return rows
+		return fillRowGaps(rows, want, warn)
 	}
 	if len(rows) == want {
 		return rows
@@ -573,6 +573,49 @@ func matchRows(rows []rowInfo, want int, warn *[]string) []rowInfo {
 	out := make([]rowInfo, 0, want)
 	for _, i := range idx {
 		out = append(out, rows[i])
+	}
+	return out
+}
+
+// fillRowGaps inserts a placeholder row in every gap between found rows
+// that is a whole multiple (2×, 3×…) of the page's row pitch (the
+// smallest spacing), while fewer rows than want are known: rows are printed
+// at a regular pitch (common practice), so a row that was not found (erased,
+// torn, too faint) must not shift the leads of the rows below it onto the
+// wrong names. The placeholder carries its neighbours' horizontal extent;
+// tracing it finds whatever ink is there, often none (its leads are then
+// reported missing). A row missing at the top or bottom of the page cannot
+// be told apart this way and is left alone.
+func fillRowGaps(rows []rowInfo, want int, warn *[]string) []rowInfo {
+	if len(rows) < 2 {
+		return rows
+	}
+	pitch := math.Inf(1)
+	for i := 1; i < len(rows); i++ {
+		pitch = math.Min(pitch, rows[i].baseY-rows[i-1].baseY)
+	}
+	if !(pitch > 0) {
+		return rows
+	}
+	out := []rowInfo{rows[0]}
+	added := 0
+	for i := 1; i < len(rows); i++ {
+		a, b := rows[i-1], rows[i]
+		k := math.Round((b.baseY - a.baseY) / pitch)
+		if k >= 2 && math.Abs((b.baseY-a.baseY)/k-pitch) <= 0.1*pitch {
+			for j := 1; j < int(k) && len(rows)+added < want; j++ {
+				ph := a
+				ph.baseY = a.baseY + float64(j)*(b.baseY-a.baseY)/k
+				ph.zeroY = math.NaN()
+				ph.hasPulse, ph.pulseMM, ph.score, ph.ticks = false, 0, 0, nil
+				out = append(out, ph)
+				added++
+			}
+		}
+		out = append(out, b)
+	}
+	if added > 0 {
+		*warn = append(*warn, fmt.Sprintf("assumed %d unfound row(s) in the gaps between rows, at the page's row pitch", added))
 	}
 	return out
 }

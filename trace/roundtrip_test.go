@@ -207,3 +207,45 @@ func TestValidFraction(t *testing.T) {
 		}
 	}
 }
+
+// TestExtractMissingRow erases the whole second row (II, aVL, V2, V5) of a
+// 3 × 4 + 1 page: the rows below must keep their own leads (III, aVF, V3,
+// V6 and the rhythm II) instead of moving up one row, and the erased row's
+// leads that are printed nowhere else must be reported missing.
+func TestExtractMissingRow(t *testing.T) {
+	rec := synthRecord(t, 4)
+	pg := renderPage(t, rec, render.Options{Layout: "3x4+1"})
+	ink := naiveInk(pg.img)
+	tr := pg.truth
+	for _, p := range tr.Panels {
+		if p.Row != 1 {
+			continue
+		}
+		x0, y0 := tr.PaperToPx(p.X0MM-12, p.BaselineYMM-21)
+		x1, y1 := tr.PaperToPx(p.X1MM+1, p.BaselineYMM+21)
+		for y := max(int(y0), 0); y <= int(y1) && y < ink.Rect.Max.Y; y++ {
+			for x := max(int(x0), 0); x <= int(x1) && x < ink.Rect.Max.X; x++ {
+				ink.Pix[y*ink.Stride+x] = 0
+			}
+		}
+	}
+	lay, _ := StandardLayout("3x4+1")
+	res, err := Extract(ink, truthCal(tr), truthPulses(tr), &Options{Layout: lay})
+	if !errors.Is(err, ecg.ErrPartial) {
+		t.Fatalf("err %v, want ErrPartial", err)
+	}
+	for _, l := range []ecg.Lead{ecg.LeadAVL, ecg.LeadV2, ecg.LeadV5} {
+		if res.Record.Signal(l) != nil {
+			t.Errorf("lead %v erased but present", l)
+		}
+	}
+	printed := printedTruth(tr)
+	sc := SNR(printed, res.Record, Lenient)
+	for _, l := range []ecg.Lead{ecg.LeadI, ecg.LeadII, ecg.LeadIII, ecg.LeadAVF, ecg.LeadV3, ecg.LeadV6} {
+		// A lead traced under another lead's name scores ≤ 0 dB; a
+		// correct one 14–27 dB on this clean page.
+		if v, ok := sc.PerLead[l]; !ok || v < 10 {
+			t.Errorf("lead %v: %.1f dB (scored %v), want ≥ 10", l, v, ok)
+		}
+	}
+}
