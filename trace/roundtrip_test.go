@@ -29,8 +29,9 @@ func TestRoundTripLayouts(t *testing.T) {
 		{"6x2", 22, 10},
 		{"cabrera-3x4", 22, 10},
 		{"rhythm", 22, 20},
-		// 12 rows on A4: complexes cross several rows (weak; see doc.go).
-		{"12x1", 10, -5},
+		// 12 rows on A4: complexes cross several rows (weak; see doc.go);
+		// measured 17.8 dB.
+		{"12x1", 15, -5},
 	}
 	rec := synthRecord(t, 1)
 	for _, tc := range tests {
