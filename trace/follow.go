@@ -343,7 +343,11 @@ func pathPoints(cr *columnRuns, states []state, path []int32, pen, penLo float64
 	// Radius for the bounds: the pen's own width (see pathPen); the
 	// median run height of a noisy trace overstates it by up to 2× and
 	// the bounds then cut narrow R peaks by millimetres.
-	rb := math.Max((min(penLo, pen)-1)/2, 0)
+	// Not below 0.65 of the median, though: grey scans break faint runs
+	// into short pieces, and a too small radius loosens the bounds there
+	// (0.65 kept the gain on noisy traces and lost nothing on grey pages
+	// of the corpus).
+	rb := math.Max((min(math.Max(penLo, 0.65*pen), pen)-1)/2, 0)
 	kr := int(math.Floor(rb)) // columns the pen at c reaches
 	sk := make([]float64, 2*kr+1)
 	for k := -kr; k <= kr; k++ {
