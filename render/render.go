@@ -36,10 +36,8 @@ func (p *Page) WritePNG(w io.Writer) error {
 		return fmt.Errorf("render: write png: %w: %w", ecg.ErrOutput, err)
 	}
 	b := buf.Bytes()
-	t := &p.Truth
-	flat := t.PaperToImage[6] == 0 && t.PaperToImage[7] == 0 && (t.Lens == nil || t.Lens.K1 == 0)
-	if flat && t.PxPerMMX > 0 && t.PxPerMMY > 0 {
-		b = withPHYs(b, t.PxPerMMX*1000, t.PxPerMMY*1000)
+	if dx, dy, ok := p.Truth.Resolution(); ok {
+		b = withPHYs(b, dx/0.0254, dy/0.0254)
 	}
 	if _, err := w.Write(b); err != nil {
 		return fmt.Errorf("render: write png: %w: %w", ecg.ErrOutput, err)

@@ -327,6 +327,20 @@ func (t *Truth) PxToPaper(u, v float64) (xMM, yMM float64, ok bool) {
 	return x, y, true
 }
 
+// Resolution returns the resolution, in dots per inch along x and y, that
+// a scanner or fax program would record in the page's file: for flat
+// pages, also rotated or with different x and y resolution (fax); ok is
+// false for phone photos, whose perspective or lens warp leaves no single
+// resolution. WritePNG stores it; evaluations hand it to the pipeline as
+// the decoder would.
+func (t *Truth) Resolution() (dpiX, dpiY float64, ok bool) {
+	flat := t.PaperToImage[6] == 0 && t.PaperToImage[7] == 0 && (t.Lens == nil || t.Lens.K1 == 0)
+	if !flat || t.PxPerMMX <= 0 || t.PxPerMMY <= 0 {
+		return 0, 0, false
+	}
+	return t.PxPerMMX * 25.4, t.PxPerMMY * 25.4, true
+}
+
 // PanelPoint returns the paper position (mm) of value vMV at time tS on
 // panel p (honouring the inverted "-aVR" panel).
 func (t *Truth) PanelPoint(p TruthPanel, tS, vMV float64) (xMM, yMM float64) {
