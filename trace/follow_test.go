@@ -189,7 +189,7 @@ func TestFollowNarrowPeakOnNoisyTrace(t *testing.T) {
 	m := image.NewGray(image.Rect(0, 0, 200, 400))
 	var pts []Point
 	for x := 0.0; x < 200; x++ {
-		y := base + 4*(rng.Float64()-0.5)
+		y := base + 8*(rng.Float64()-0.5)
 		switch {
 		case x >= 95 && x <= 100:
 			y = base - (base-apex)*(x-95)/5
