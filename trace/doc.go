@@ -66,9 +66,8 @@
 // A4) the strokes merge into one run per column and the path cannot tell
 // whose stroke it follows; those leads lose or swap QRS strokes (20 mm/mV
 // pages score ≈ 0–8 dB median SNR). A row missing at the top or bottom of
-// the page is not detected as missing. The pen-width estimate that gave
-// noisy traces up to 10 dB did not help grey scans (corpus median 18.4 dB
-// against 19.9 dB before, pooled over leads). Detail
+// the page is not detected as missing. Pages turned by a quarter turn are
+// not traced (the front end turns them upright). Detail
 // finer than the pen width (high-frequency noise) is not recoverable.
 //
 // # Layout descriptions

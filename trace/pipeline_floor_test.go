@@ -25,10 +25,10 @@ func TestPipelineFloors(t *testing.T) {
 		t.Skip("renders full pages")
 	}
 	// One seeded page per condition; each floor is below the page's
-	// measured median (clean 24.9, scan 23.4, gray 22.0, penmarks 23.3 dB
+	// measured median (clean 25.0, scan 23.5, gray 21.9, penmarks 23.5 dB
 	// when set) and at or above the condition's target. The corpus medians
-	// over four pages per condition were clean 24.4, scan 21.3, gray 18.4,
-	// penmarks 21.4 dB (TestCorpusTable). No floor for overlap, fax and
+	// over four pages per condition were clean 24.9, scan 21.7, gray 19.9,
+	// penmarks 21.6 dB (TestCorpusTable). No floor for overlap, fax and
 	// photo: they score ≈ 0 dB (crossing complexes; front-end calibration
 	// and orientation), see doc.go.
 	tests := []struct {
