@@ -348,7 +348,15 @@ func Extract(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse, opt *Op
 		// Einthoven/Goldberger residual.
 		cab := cabreraOf(lay)
 		crec, cqual, cwarn := build(layoutNames(cab))
-		if cl, ok := ecg.CheckLimb(&crec); ok && limbOK && cl.ResidualUV < 0.6*limb.ResidualUV {
+		// Switch only on clear evidence: the standard order must be
+		// inconsistent in absolute terms (a good digitisation of a
+		// standard page stays well below 50 µV), Cabrera's residual less
+		// than 0.6 of it, and a lead printed twice (the rhythm strip) must
+		// not disagree more with itself under Cabrera. On poor pages
+		// (faxes) the residuals are noisy and a bare ratio swapped leads.
+		const clearlyInconsistentUV = 50
+		if cl, ok := ecg.CheckLimb(&crec); ok && limbOK && limb.ResidualUV > clearlyInconsistentUV &&
+			cl.ResidualUV < 0.6*limb.ResidualUV && len(cwarn) <= len(dupWarn) {
 			rec, qual, limb, lay, dupWarn = crec, cqual, cl, cab, cwarn
 			for i := range all {
 				c := cab.Rows[all[i].p.Row].Cells[all[i].p.Col]
