@@ -96,10 +96,13 @@ func ExitCode(err error) int {
 	switch {
 	case err == nil:
 		return ExitOK
-	case errors.As(err, &fe), isCobraUsage(err):
+	case errors.As(err, &fe):
 		return ExitUsage
 	case errors.Is(err, errInterrupted), errors.Is(err, context.Canceled):
 		return ExitInterrupted
+	// The error classes come before cobra's text-matched usage errors, so
+	// a file named "who accepts this.png" cannot turn a read error into a
+	// usage error.
 	case errors.Is(err, ecg.ErrOutput):
 		return ExitOutput
 	case errors.Is(err, ecg.ErrPartial):
@@ -108,6 +111,8 @@ func ExitCode(err error) int {
 		return ExitNoECG
 	case errors.Is(err, ecg.ErrUnreadable):
 		return ExitUnreadable
+	case isCobraUsage(err):
+		return ExitUsage
 	default:
 		return ExitInternal
 	}

@@ -269,7 +269,11 @@ func evalOne(ctx context.Context, j evalJob, cfg pipeline.Config) accuracy.Page 
 		if err != nil {
 			return failedPage(j.c.Name(), j.c.Condition, j.c.Layout, err)
 		}
-		p, _ := accuracy.Evaluate(ctx, decode.Page{Image: page.Image, Index: 1}, &page.Truth, &rec, cfg)
+		// Hand the pipeline what a file of this page would carry: its
+		// resolution tags for flat scans and faxes, none for photos.
+		src := decode.Page{Image: page.Image, Index: 1}
+		src.DPIX, src.DPIY, _ = page.Truth.Resolution()
+		p, _ := accuracy.Evaluate(ctx, src, &page.Truth, &rec, cfg)
 		p.Name, p.Seed = j.c.Name(), j.c.Seed
 		return p
 	}
