@@ -4,7 +4,6 @@ import (
 	"bytes"
 	"context"
 	"encoding/csv"
-	"errors"
 	"fmt"
 	"math"
 	"os"
@@ -229,29 +228,4 @@ func TestHashFile(t *testing.T) {
 	assert.Equal(t, "ba7816bf8f01cfea414140de5dae2223b00361a396177a9cb410ff61f20015ad", h)
 	_, err = HashFile(p + "-missing")
 	assert.ErrorIs(t, err, ecg.ErrUnreadable)
-}
-
-func TestWriteFileAtomic(t *testing.T) {
-	dir := t.TempDir()
-	p := filepath.Join(dir, "out.csv")
-	require.NoError(t, os.WriteFile(p, []byte("old"), 0o644))
-	err := WriteFileAtomic(p, func(f *os.File) error {
-		f.WriteString("half")
-		return errors.New("disk on fire")
-	})
-	require.ErrorIs(t, err, ecg.ErrOutput)
-	b, _ := os.ReadFile(p)
-	assert.Equal(t, "old", string(b), "a failed write leaves the old file untouched")
-	ents, _ := os.ReadDir(dir)
-	assert.Len(t, ents, 1, "no temporary file left behind")
-
-	require.NoError(t, WriteFileAtomic(p, func(f *os.File) error {
-		_, err := f.WriteString("new")
-		return err
-	}))
-	b, _ = os.ReadFile(p)
-	assert.Equal(t, "new", string(b))
-
-	err = WriteFileAtomic(filepath.Join(dir, "missing", "x"), func(*os.File) error { return nil })
-	assert.ErrorIs(t, err, ecg.ErrOutput)
 }

@@ -14,7 +14,7 @@ import (
 	"strings"
 
 	"tracelift/ecg"
-	"tracelift/export/internal/atomicfile"
+	"tracelift/internal/atomicfile"
 	"tracelift/export/internal/frames"
 )
 

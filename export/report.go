@@ -9,7 +9,7 @@ import (
 	"sort"
 
 	"tracelift/ecg"
-	"tracelift/export/internal/atomicfile"
+	"tracelift/internal/atomicfile"
 	"tracelift/measure"
 )
 

@@ -12,7 +12,7 @@ import (
 	"time"
 
 	"tracelift/ecg"
-	"tracelift/export/internal/atomicfile"
+	"tracelift/internal/atomicfile"
 	"tracelift/export/internal/frames"
 	"tracelift/measure"
 )

@@ -21,7 +21,7 @@ import (
 	"golang.org/x/image/vector"
 
 	"tracelift/ecg"
-	"tracelift/export/internal/atomicfile"
+	"tracelift/internal/atomicfile"
 )
 
 // Segment is one digitised lead segment in source-image pixel

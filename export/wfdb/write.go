@@ -12,7 +12,7 @@ import (
 	"unicode/utf8"
 
 	"tracelift/ecg"
-	"tracelift/export/internal/atomicfile"
+	"tracelift/internal/atomicfile"
 	"tracelift/export/internal/frames"
 )
 

@@ -18,6 +18,7 @@ import (
 
 	"tracelift/catalog"
 	"tracelift/ecg"
+	"tracelift/internal/atomicfile"
 )
 
 // batchOptions are the options of `tracelift batch`.
@@ -228,7 +229,7 @@ feed:
 
 	// The CSV copy of the whole catalogue, also after an interruption.
 	csvPath := filepath.Join(filepath.Dir(catPath), strings.TrimSuffix(filepath.Base(catPath), filepath.Ext(catPath))+".csv")
-	csvErr := catalog.WriteFileAtomic(csvPath, func(f *os.File) error { return db.WriteCSV(context.Background(), f) })
+	csvErr := atomicfile.WriteFile(csvPath, func(w io.Writer) error { return db.WriteCSV(context.Background(), w) })
 
 	printBatchSummary(ios.Out, st, catPath, csvPath)
 	switch {
@@ -492,7 +493,7 @@ later wins. A CSV copy is written next to OUT.`,
 				fmt.Fprintf(ios.Out, "merged %d rows from %s\n", n, a)
 			}
 			csvPath := strings.TrimSuffix(out, filepath.Ext(out)) + ".csv"
-			if err := catalog.WriteFileAtomic(csvPath, func(f *os.File) error { return db.WriteCSV(ctx, f) }); err != nil {
+			if err := atomicfile.WriteFile(csvPath, func(w io.Writer) error { return db.WriteCSV(ctx, w) }); err != nil {
 				return fmt.Errorf("batch merge: %w", err)
 			}
 			counts, err := db.Counts(ctx)
@@ -530,7 +531,7 @@ func newBatchExportCmd(ios *IOStreams) *cobra.Command {
 			if out == "" || out == "-" {
 				return db.WriteCSV(ctx, ios.Out)
 			}
-			if err := catalog.WriteFileAtomic(out, func(f *os.File) error { return db.WriteCSV(ctx, f) }); err != nil {
+			if err := atomicfile.WriteFile(out, func(f io.Writer) error { return db.WriteCSV(ctx, f) }); err != nil {
 				return fmt.Errorf("batch export: %w", err)
 			}
 			return nil

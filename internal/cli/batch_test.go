@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"context"
 	"fmt"
+	"io"
 	"os"
 	"path/filepath"
 	"sort"
@@ -18,6 +19,7 @@ import (
 
 	"tracelift/catalog"
 	"tracelift/ecg"
+	"tracelift/internal/atomicfile"
 )
 
 // fakeProcess stands in for the pipeline: files whose content starts with
@@ -40,8 +42,8 @@ func fakeProcess(calls *atomic.Int32) fileProcessor {
 			return fileResult{}, fmt.Errorf("%s: %w: blank page", filepath.Base(in), ecg.ErrNoECG)
 		}
 		out := outBase + ".csv"
-		if err := catalog.WriteFileAtomic(out, func(f *os.File) error {
-			_, err := f.WriteString("time_s,I\n0,0.1\n")
+		if err := atomicfile.WriteFile(out, func(f io.Writer) error {
+			_, err := io.WriteString(f, "time_s,I\n0,0.1\n")
 			return err
 		}); err != nil {
 			return fileResult{}, err

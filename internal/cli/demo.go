@@ -13,9 +13,9 @@ import (
 	"github.com/spf13/cobra"
 
 	"tracelift/accuracy"
-	"tracelift/catalog"
 	"tracelift/ecg"
 	"tracelift/export"
+	"tracelift/internal/atomicfile"
 	"tracelift/pipeline"
 	"tracelift/render"
 	"tracelift/synth"
@@ -121,10 +121,10 @@ func runDemo(ctx context.Context, ios *IOStreams, opts *demoOptions) error {
 	}
 	scanPath := filepath.Join(opts.OutDir, "scanned-page.png")
 	truthFile := filepath.Join(opts.OutDir, "scanned-page.truth.json")
-	if err := catalog.WriteFileAtomic(scanPath, func(f *os.File) error { return page.WritePNG(f) }); err != nil {
+	if err := atomicfile.WriteFile(scanPath, func(f io.Writer) error { return page.WritePNG(f) }); err != nil {
 		return fmt.Errorf("demo: %w", err)
 	}
-	if err := catalog.WriteFileAtomic(truthFile, func(f *os.File) error { return page.WriteTruth(f) }); err != nil {
+	if err := atomicfile.WriteFile(truthFile, func(f io.Writer) error { return page.WriteTruth(f) }); err != nil {
 		return fmt.Errorf("demo: %w", err)
 	}
 	rendered := time.Since(start)

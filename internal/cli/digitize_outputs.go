@@ -4,10 +4,9 @@ package cli
 
 import (
 	"fmt"
-	"os"
+	"io"
 	"path/filepath"
 
-	"tracelift/catalog"
 	"tracelift/ecg"
 	"tracelift/export"
 	"tracelift/export/overlay"
@@ -15,6 +14,7 @@ import (
 	"tracelift/grid"
 	"tracelift/imageproc"
 	"tracelift/imageproc/decode"
+	"tracelift/internal/atomicfile"
 	"tracelift/measure"
 	"tracelift/pipeline"
 	"tracelift/render"
@@ -143,8 +143,8 @@ func writeOutputs(stem, srcPath string, pg decode.Page, r *pipeline.Result, form
 			err = overlay.WritePNGFile(p, pg.Image, overlaySegments(r), overlayOptions(rec, r))
 		case "pdf":
 			p = stem + ".pdf"
-			err = catalog.WriteFileAtomic(p, func(f *os.File) error {
-				return render.WritePDF(f, rec, pdfOptions(rec))
+			err = atomicfile.WriteFile(p, func(w io.Writer) error {
+				return render.WritePDF(w, rec, pdfOptions(rec))
 			})
 		default:
 			err = fmt.Errorf("%w: format %q is not available in this build", ecg.ErrOutput, f)

@@ -4,6 +4,7 @@ import (
 	"context"
 	"encoding/json"
 	"fmt"
+	"io"
 	"os"
 	"path/filepath"
 	"runtime"
@@ -18,6 +19,7 @@ import (
 	"tracelift/catalog"
 	"tracelift/ecg"
 	"tracelift/imageproc/decode"
+	"tracelift/internal/atomicfile"
 	"tracelift/pipeline"
 	"tracelift/render"
 )
@@ -235,7 +237,7 @@ feed:
 		if opts.Dir == "" {
 			rep.Conditions, rep.Layouts, rep.N = opts.Conditions, opts.Layouts, opts.N
 		}
-		err := catalog.WriteFileAtomic(opts.JSONPath, func(f *os.File) error {
+		err := atomicfile.WriteFile(opts.JSONPath, func(f io.Writer) error {
 			enc := json.NewEncoder(f)
 			enc.SetIndent("", "  ")
 			return enc.Encode(rep)

@@ -3,6 +3,7 @@ package cli
 import (
 	"context"
 	"encoding/json"
+	"io"
 	"os"
 	"path/filepath"
 	"strings"
@@ -12,7 +13,7 @@ import (
 	"github.com/stretchr/testify/assert"
 	"github.com/stretchr/testify/require"
 
-	"tracelift/catalog"
+	"tracelift/internal/atomicfile"
 	"tracelift/render"
 	"tracelift/synth"
 )
@@ -104,8 +105,8 @@ func TestEvalDir(t *testing.T) {
 	require.NoError(t, err)
 	page, err := render.Render(rec, &render.Options{Layout: render.Layout6x2, DPI: 150, Condition: "clean"})
 	require.NoError(t, err)
-	require.NoError(t, catalog.WriteFileAtomic(filepath.Join(dir, "p1.png"), func(f *os.File) error { return page.WritePNG(f) }))
-	require.NoError(t, catalog.WriteFileAtomic(filepath.Join(dir, "p1.truth.json"), func(f *os.File) error { return page.WriteTruth(f) }))
+	require.NoError(t, atomicfile.WriteFile(filepath.Join(dir, "p1.png"), func(f io.Writer) error { return page.WritePNG(f) }))
+	require.NoError(t, atomicfile.WriteFile(filepath.Join(dir, "p1.truth.json"), func(f io.Writer) error { return page.WriteTruth(f) }))
 	require.NoError(t, os.WriteFile(filepath.Join(dir, "lonely.png"), []byte("no truth"), 0o644))
 	ios, stdout, _ := testIOS()
 	require.NoError(t, runEval(context.Background(), ios, &evalOptions{Dir: dir, Workers: 1, RateHz: 500, Quiet: true, Markdown: true}, "x"))

@@ -5,14 +5,13 @@ import (
 	"errors"
 	"fmt"
 	"io"
-	"os"
-	"path/filepath"
 	"strings"
 
 	"github.com/spf13/cobra"
 
 	"tracelift/ecg"
 	"tracelift/export"
+	"tracelift/internal/atomicfile"
 	"tracelift/measure"
 )
 
@@ -127,33 +126,12 @@ func runMeasure(o *measureOptions) error {
 	return nil
 }
 
-// writeMeasureReport writes the JSON report through a temporary file in
-// the same folder and renames it into place, so a failure leaves no
-// half-written file. Errors name the file and wrap ecg.ErrOutput.
+// writeMeasureReport writes the JSON report atomically (a temporary file
+// renamed into place); errors name the file and wrap ecg.ErrOutput.
 func writeMeasureReport(path string, rep *measure.Report) error {
-	tmp, err := os.CreateTemp(filepath.Dir(path), "."+filepath.Base(path)+".tmp*")
-	if err != nil {
-		return fmt.Errorf("%s: %w: %w", path, ecg.ErrOutput, err)
-	}
-	name := tmp.Name()
-	_ = tmp.Chmod(0o644)
-	write := func(w io.Writer) error {
+	return atomicfile.WriteFile(path, func(w io.Writer) error {
 		enc := json.NewEncoder(w)
 		enc.SetIndent("", "  ")
 		return enc.Encode(rep)
-	}
-	if err := write(tmp); err != nil {
-		tmp.Close()
-		os.Remove(name)
-		return fmt.Errorf("%s: %w: %w", path, ecg.ErrOutput, err)
-	}
-	if err := tmp.Close(); err != nil {
-		os.Remove(name)
-		return fmt.Errorf("%s: %w: %w", path, ecg.ErrOutput, err)
-	}
-	if err := os.Rename(name, path); err != nil {
-		os.Remove(name)
-		return fmt.Errorf("%s: %w: %w", path, ecg.ErrOutput, err)
-	}
-	return nil
+	})
 }

@@ -4,14 +4,13 @@ import (
 	"errors"
 	"fmt"
 	"io"
-	"os"
-	"path/filepath"
 	"strings"
 
 	"github.com/spf13/cobra"
 
 	"tracelift/ecg"
 	"tracelift/export"
+	"tracelift/internal/atomicfile"
 	"tracelift/render"
 	"tracelift/synth"
 )
@@ -284,44 +283,21 @@ func renderErr(o *renderOptions, err error) error {
 	return err
 }
 
-// writeRenderFile writes path through a temporary file in the same folder
-// and renames it into place, so a failure never leaves a half-written
-// file. Errors name the file and wrap ecg.ErrOutput.
+// writeRenderFile writes path atomically (a temporary file renamed into
+// place), so a failure never leaves a half-written file. Errors name the
+// file and wrap ecg.ErrOutput, except an invalid render option, which is
+// returned as it is: the page could not be made, nothing failed to write.
 func writeRenderFile(path string, write func(io.Writer) error) error {
-	dir := filepath.Dir(path)
-	tmp, err := os.CreateTemp(dir, "."+filepath.Base(path)+".tmp*")
-	if err != nil {
-		return fmt.Errorf("%s: %w: %w", path, ecg.ErrOutput, err)
-	}
-	name := tmp.Name()
-	_ = tmp.Chmod(0o644) // CreateTemp makes 0600; outputs are ordinary files
-	fail := func(err error) error {
-		tmp.Close()
-		os.Remove(name)
-		if !errors.Is(err, ecg.ErrOutput) {
-			err = fmt.Errorf("%w: %w", ecg.ErrOutput, err)
+	var optErr error
+	err := atomicfile.WriteFile(path, func(w io.Writer) error {
+		err := write(w)
+		if errors.Is(err, render.ErrOption) {
+			optErr = err
 		}
-		return fmt.Errorf("%s: %w", path, err)
+		return err
+	})
+	if optErr != nil {
+		return optErr
 	}
-	if err := write(tmp); err != nil {
-		if errors.Is(err, render.ErrOption) || errors.Is(err, ecg.ErrNoECG) || errors.Is(err, ecg.ErrUnreadable) {
-			// Not a writing problem: the page could not be made.
-			tmp.Close()
-			os.Remove(name)
-			return err
-		}
-		return fail(err)
-	}
-	if err := tmp.Sync(); err != nil {
-		return fail(err)
-	}
-	if err := tmp.Close(); err != nil {
-		os.Remove(name)
-		return fmt.Errorf("%s: %w: %w", path, ecg.ErrOutput, err)
-	}
-	if err := os.Rename(name, path); err != nil {
-		os.Remove(name)
-		return fmt.Errorf("%s: %w: %w", path, ecg.ErrOutput, err)
-	}
-	return nil
+	return err
 }

@@ -53,6 +53,12 @@ func WriteAll(parts ...Part) error {
 		if err == nil {
 			err = bw.Flush()
 		}
+		if err == nil {
+			// On disk before the rename, so that a crash right after
+			// it cannot leave an empty or partial file under the
+			// final name (batch runs rely on this).
+			err = f.Sync()
+		}
 		if cerr := f.Close(); err == nil {
 			err = cerr
 		}
