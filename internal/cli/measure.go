@@ -79,7 +79,7 @@ qualified clinicians under local rules and licensed practice.`,
 	}
 	f := cmd.Flags()
 	f.StringVar(&opts.Format, "format", "text", "standard output: text (summary) or json (report)")
-	f.StringVarP(&opts.Out, "output", "o", "", "also write the JSON report to this file")
+	f.StringVarP(&opts.Out, "out", "o", "", "also write the JSON report to this file")
 	f.StringVar(&leads, "lead", "", "measure only these leads, comma-separated (e.g. II,V1,V5)")
 	f.StringVar(&opts.Sex, "sex", "", "F or M: sex-specific QTc and Cornell thresholds for the flags")
 	f.BoolVar(&opts.NoBeats, "no-beats", false, "leave the per-beat table out of the report")
