@@ -2,6 +2,7 @@ package imageproc
 
 import (
 	"image"
+	"math"
 	"slices"
 )
 
@@ -114,6 +115,81 @@ func (bg *background) gainRow(dst []float32, y, w int) {
 		ax := fx - float64(x0)
 		for c := 0; c < 3; c++ {
 			dst[3*x+c] = float32((1-ax)*col[c][x0] + ax*col[c][x1])
+		}
+	}
+}
+
+// gainRowFixed fills dst (3 per pixel) with the gain of gainRow in 8.8
+// fixed point (256 = 1), rounded; the hot loops multiply by it directly.
+// The per-block gains are interpolated along x incrementally: within a
+// block pair the gain is linear in x, so one add per pixel replaces the
+// per-pixel division and clamping of gainRow.
+func (bg *background) gainRowFixed(dst []uint32, y, w int) {
+	fy := (float64(y)+0.5)/bg.cell - 0.5
+	y0 := int(fy)
+	if fy < 0 {
+		y0, fy = 0, 0
+	}
+	if y0 >= bg.ny-1 {
+		y0, fy = bg.ny-1, float64(bg.ny-1)
+	}
+	y1 := min(y0+1, bg.ny-1)
+	ay := fy - float64(y0)
+	if len(bg.col[0]) != bg.nx {
+		for c := range bg.col {
+			bg.col[c] = make([]float64, bg.nx)
+		}
+	}
+	col := bg.col
+	for c := 0; c < 3; c++ {
+		for i := 0; i < bg.nx; i++ {
+			col[c][i] = 255 * 256 * ((1-ay)/bg.v[c][y0*bg.nx+i] + ay/bg.v[c][y1*bg.nx+i])
+		}
+	}
+	inv := 1 / bg.cell
+	dst = dst[:3*w]
+	for x := 0; x < w; {
+		fx := (float64(x)+0.5)*inv - 0.5
+		x0 := int(fx)
+		if fx < 0 {
+			x0 = 0
+		}
+		if x0 >= bg.nx-1 || fx < 0 {
+			// Flat margins: the outermost block's gain.
+			xi := x0
+			if fx >= 0 {
+				xi = bg.nx - 1
+			}
+			// Extent of the flat run.
+			end := w
+			if fx < 0 {
+				// fx < 0 while x+0.5 < cell/2.
+				end = min(w, int(math.Ceil(bg.cell/2-0.5)))
+				if end <= x {
+					end = x + 1
+				}
+			}
+			g0 := uint32(col[0][xi] + 0.5)
+			g1 := uint32(col[1][xi] + 0.5)
+			g2 := uint32(col[2][xi] + 0.5)
+			for ; x < end; x++ {
+				d := dst[3*x : 3*x+3 : 3*x+3]
+				d[0], d[1], d[2] = g0, g1, g2
+			}
+			continue
+		}
+		// Pixels whose fx lies in [x0, x0+1): x < (x0+1.5)·cell − 0.5.
+		end := min(w, int(math.Ceil((float64(x0)+1.5)*bg.cell-0.5)))
+		if end <= x {
+			end = x + 1
+		}
+		x1 := x0 + 1
+		for ; x < end; x++ {
+			ax := (float64(x)+0.5)*inv - 0.5 - float64(x0)
+			d := dst[3*x : 3*x+3 : 3*x+3]
+			d[0] = uint32(col[0][x0] + ax*(col[0][x1]-col[0][x0]) + 0.5)
+			d[1] = uint32(col[1][x0] + ax*(col[1][x1]-col[1][x0]) + 0.5)
+			d[2] = uint32(col[2][x0] + ax*(col[2][x1]-col[2][x0]) + 0.5)
 		}
 	}
 }

@@ -167,7 +167,6 @@ func (s *separator) maps(src *image.NRGBA, bg *background) (gray, ink, grd *imag
 	w, h := src.Rect.Dx(), src.Rect.Dy()
 	r := image.Rect(0, 0, w, h)
 	gray, ink, grd = image.NewGray(r), image.NewGray(r), image.NewGray(r)
-	gf := make([]float32, 3*w)
 	g := make([]uint32, 3*w)
 	span := 255 / (s.inkHi - s.inkLo)
 	var ka, kb [3]int32
@@ -179,27 +178,34 @@ func (s *separator) maps(src *image.NRGBA, bg *background) (gray, ink, grd *imag
 	spanG := int32(math.Round(span * 1024))
 	loG := int32(math.Round(s.inkLo))
 	for y := 0; y < h; y++ {
-		bg.gainRow(gf, y, w)
-		for i, v := range gf {
-			g[i] = uint32(v*256 + 0.5)
-		}
+		bg.gainRowFixed(g, y, w)
 		row := src.Pix[y*src.Stride : y*src.Stride+4*w]
 		gr := gray.Pix[y*gray.Stride : y*gray.Stride+w]
 		ir := ink.Pix[y*ink.Stride : y*ink.Stride+w]
 		dr := grd.Pix[y*grd.Stride : y*grd.Stride+w]
-		for x := 0; x < w; x++ {
-			rr := min(255, (uint32(row[4*x])*g[3*x]+128)>>8)
-			gg := min(255, (uint32(row[4*x+1])*g[3*x+1]+128)>>8)
-			bb := min(255, (uint32(row[4*x+2])*g[3*x+2]+128)>>8)
-			lum := (77*rr + 150*gg + 29*bb + 128) >> 8
-			gr[x] = uint8(lum)
-			if s.colour {
+		if s.colour {
+			for x := range gr {
+				p := row[4*x : 4*x+3 : 4*x+3]
+				k := g[3*x : 3*x+3 : 3*x+3]
+				rr := min(255, (uint32(p[0])*k[0]+128)>>8)
+				gg := min(255, (uint32(p[1])*k[1]+128)>>8)
+				bb := min(255, (uint32(p[2])*k[2]+128)>>8)
+				gr[x] = uint8((77*rr + 150*gg + 29*bb + 128) >> 8)
 				a0, a1, a2 := 255-int32(rr), 255-int32(gg), 255-int32(bb)
 				dr[x] = sat8((ka[0]*a0 + ka[1]*a1 + ka[2]*a2) >> 10)
 				ir[x] = sat8((kb[0]*a0+kb[1]*a1+kb[2]*a2)>>10 - off)
-			} else {
-				ir[x] = sat8(((255 - int32(lum) - loG) * spanG) >> 10)
 			}
+			continue
+		}
+		for x := range gr {
+			p := row[4*x : 4*x+3 : 4*x+3]
+			k := g[3*x : 3*x+3 : 3*x+3]
+			rr := min(255, (uint32(p[0])*k[0]+128)>>8)
+			gg := min(255, (uint32(p[1])*k[1]+128)>>8)
+			bb := min(255, (uint32(p[2])*k[2]+128)>>8)
+			lum := (77*rr + 150*gg + 29*bb + 128) >> 8
+			gr[x] = uint8(lum)
+			ir[x] = sat8(((255 - int32(lum) - loG) * spanG) >> 10)
 		}
 	}
 	return gray, ink, grd
