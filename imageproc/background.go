@@ -183,13 +183,24 @@ func (bg *background) gainRowFixed(dst []uint32, y, w int) {
 		if end <= x {
 			end = x + 1
 		}
+		// Linear in x within the segment: start value and step in 32.32
+		// fixed point (a segment is at most a few hundred px, so the
+		// accumulated step rounding stays far below one unit).
 		x1 := x0 + 1
+		ax := (float64(x)+0.5)*inv - 0.5 - float64(x0)
+		var v, dv [3]int64
+		for c := 0; c < 3; c++ {
+			v[c] = int64(math.Round((col[c][x0] + ax*(col[c][x1]-col[c][x0]) + 0.5) * (1 << 32)))
+			dv[c] = int64(math.Round((col[c][x1] - col[c][x0]) * inv * (1 << 32)))
+		}
 		for ; x < end; x++ {
-			ax := (float64(x)+0.5)*inv - 0.5 - float64(x0)
 			d := dst[3*x : 3*x+3 : 3*x+3]
-			d[0] = uint32(col[0][x0] + ax*(col[0][x1]-col[0][x0]) + 0.5)
-			d[1] = uint32(col[1][x0] + ax*(col[1][x1]-col[1][x0]) + 0.5)
-			d[2] = uint32(col[2][x0] + ax*(col[2][x1]-col[2][x0]) + 0.5)
+			d[0] = uint32(v[0] >> 32)
+			d[1] = uint32(v[1] >> 32)
+			d[2] = uint32(v[2] >> 32)
+			v[0] += dv[0]
+			v[1] += dv[1]
+			v[2] += dv[2]
 		}
 	}
 }

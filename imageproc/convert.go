@@ -111,12 +111,22 @@ func downscale(src *image.NRGBA, f int) *image.NRGBA {
 		clear(cnt)
 		for sy := oy * f; sy < min(sh, oy*f+f); sy++ {
 			row := src.Pix[sy*src.Stride : sy*src.Stride+4*sw]
-			for sx := 0; sx < sw; sx++ {
-				ox := sx / f
-				acc[4*ox] += uint32(row[4*sx])
-				acc[4*ox+1] += uint32(row[4*sx+1])
-				acc[4*ox+2] += uint32(row[4*sx+2])
-				cnt[ox]++
+			// Block by block: the sums stay in registers (no division
+			// or accumulator access per source pixel).
+			for ox := 0; ox < w; ox++ {
+				blk := row[4*ox*f : 4*min(sw, ox*f+f)]
+				var r, g, b uint32
+				for i := 0; i+3 < len(blk); i += 4 {
+					p := blk[i : i+3 : i+3]
+					r += uint32(p[0])
+					g += uint32(p[1])
+					b += uint32(p[2])
+				}
+				a := acc[4*ox : 4*ox+3 : 4*ox+3]
+				a[0] += r
+				a[1] += g
+				a[2] += b
+				cnt[ox] += uint32(len(blk) / 4)
 			}
 		}
 		d := dst.Pix[oy*dst.Stride : oy*dst.Stride+4*w]

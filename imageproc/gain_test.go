@@ -104,3 +104,34 @@ func TestWarpAffineMatchesFloat(t *testing.T) {
 		}
 	}
 }
+
+// TestDownscaleBoxMeans checks downscale against the box-filter
+// definition: each output pixel is the rounded mean of its f×f block
+// (partial blocks at the right and bottom edges average what exists).
+func TestDownscaleBoxMeans(t *testing.T) {
+	rng := rand.New(rand.NewPCG(5, 5))
+	src := image.NewNRGBA(image.Rect(0, 0, 23, 17))
+	for i := range src.Pix {
+		src.Pix[i] = uint8(rng.IntN(256))
+	}
+	for _, f := range []int{1, 2, 3, 4, 7} {
+		d := downscale(src, f)
+		for oy := 0; oy < d.Rect.Dy(); oy++ {
+			for ox := 0; ox < d.Rect.Dx(); ox++ {
+				for c := 0; c < 3; c++ {
+					sum, n := 0, 0
+					for y := oy * f; y < min(17, oy*f+f); y++ {
+						for x := ox * f; x < min(23, ox*f+f); x++ {
+							sum += int(src.Pix[y*src.Stride+4*x+c])
+							n++
+						}
+					}
+					want := (sum + n/2) / n
+					if got := int(d.Pix[oy*d.Stride+4*ox+c]); got != want {
+						t.Fatalf("f=%d (%d,%d) ch %d: got %d, want %d", f, ox, oy, c, got, want)
+					}
+				}
+			}
+		}
+	}
+}
