@@ -18,6 +18,7 @@ type rowInfo struct {
 	pulseMM  float64   // height of a pulse found here by findPulse, mm (0 if none or from grid)
 	score    float64   // coverage of the row's extent by ink near the baseline, 0..1
 	ticks    []float64 // x of tall isolated strokes (column separators), px
+	loose    bool      // found only on the looser reading (gaps up to 12 mm)
 }
 
 // inkProfile returns the number of ink pixels of each image row.
@@ -101,6 +102,7 @@ func findRows(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse) []rowI
 	var rows []rowInfo
 	halfBand := int(3 * pxY)
 	maxGap := int(4 * pxX)
+	faxGap := int(12 * pxX)
 	has := make([]bool, b.Dx())
 	for _, py := range peaks {
 		for i := range has {
@@ -114,30 +116,26 @@ func findRows(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse) []rowI
 				}
 			}
 		}
-		// Longest stretch of ink columns allowing gaps up to maxGap.
-		bestX0, bestX1, bestN := -1, -1, 0
-		x0, last, n := -1, -1, 0
-		for x, h := range has {
-			if !h {
-				continue
-			}
-			if x0 < 0 || x-last > maxGap {
-				x0, n = x, 0
-			}
-			last = x
-			n++
-			if last-x0 > bestX1-bestX0 {
-				bestX0, bestX1, bestN = x0, last, n
-			}
+		// Longest stretch of ink columns allowing gaps up to maxGap. A
+		// binarised fax trace loses most of its flat, one-dot-thick
+		// stretches (the line falls between the scanner's dots), leaving
+		// the complexes as islands; such a row is accepted on a second,
+		// looser reading: gaps up to faxGap and a lower coverage.
+		// Header text passes that reading too, so a loose row is kept
+		// only when it has a calibration pulse or lines up with the pulse
+		// rows (below).
+		x0, x1, cov := longestStretch(has, maxGap)
+		if cov < 0.6 {
+			x0 = -1
 		}
-		if bestX0 < 0 || float64(bestX1-bestX0) < 25*pxX {
+		loose := false
+		if l0, l1, lc := longestStretch(has, faxGap); lc >= 0.3 && (x0 < 0 || float64(l1-l0) > 1.2*float64(x1-x0)) {
+			x0, x1, cov, loose = l0, l1, lc, true
+		}
+		if x0 < 0 || float64(x1-x0) < 25*pxX {
 			continue
 		}
-		r := rowInfo{baseY: float64(py), zeroY: math.NaN(), x0: bestX0 + b.Min.X, x1: bestX1 + 1 + b.Min.X}
-		r.score = float64(bestN) / float64(bestX1-bestX0+1)
-		if r.score < 0.6 {
-			continue
-		}
+		r := rowInfo{baseY: float64(py), zeroY: math.NaN(), x0: x0 + b.Min.X, x1: x1 + 1 + b.Min.X, score: cov, loose: loose}
 		rows = append(rows, r)
 	}
 	// Keep rows whose extent is comparable with the widest one (drops
@@ -178,6 +176,15 @@ func findRows(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse) []rowI
 			np++
 		}
 	}
+	if np < 2 {
+		out := rows[:0]
+		for _, r := range rows {
+			if r.hasPulse || !r.loose {
+				out = append(out, r)
+			}
+		}
+		rows = out
+	}
 	if np >= 2 {
 		// Keep rows without a pulse (one may be crossed by tall complexes)
 		// when they span the same stretch of paper as the pulse rows.
@@ -203,10 +210,40 @@ func findRows(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse) []rowI
 				prev = r.baseY
 			}
 		}
+		// A pulse row lost in between (a fax drops most of a pulse) makes
+		// that spacing two pitches: the median spacing of the rows that
+		// span the page's stretch then gives the pitch.
+		spans := func(r rowInfo) bool {
+			return math.Abs(float64(r.x1)-refX1) <= 5*pxX && float64(r.x0) < refX0+5*pxX && float64(r.x0) > refX0-25*pxX
+		}
+		// A fax row may also have lost its first centimetres of ink (a
+		// flat start between the dots): it still ends with the pulse rows
+		// and covers at least half of their stretch.
+		spansLate := func(r rowInfo) bool {
+			return math.Abs(float64(r.x1)-refX1) <= 5*pxX && float64(r.x0) > refX0-25*pxX && float64(r.x1-r.x0) >= 0.5*(refX1-refX0)
+		}
+		var gaps []float64
+		prev = math.NaN()
+		for _, r := range rows {
+			if r.hasPulse || spans(r) {
+				if !math.IsNaN(prev) {
+					gaps = append(gaps, r.baseY-prev)
+				}
+				prev = r.baseY
+			}
+		}
+		if len(gaps) >= 2 {
+			sort.Float64s(gaps)
+			pitch = math.Min(pitch, gaps[(len(gaps)-1)/2])
+		}
 		var out []rowInfo
 		for _, r := range rows {
 			keep := r.hasPulse
-			if !keep && math.Abs(float64(r.x1)-refX1) <= 5*pxX && float64(r.x0) < refX0+5*pxX && float64(r.x0) > refX0-25*pxX {
+			if !keep && !spans(r) && spansLate(r) {
+				r.x0 = min(r.x0, int(refX0))
+				r.traceX0 = refX0
+			}
+			if !keep && spans(r) {
 				keep = true
 				for _, q := range rows {
 					if q.hasPulse && math.Abs(q.baseY-r.baseY) < 0.75*pitch {
@@ -221,6 +258,31 @@ func findRows(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse) []rowI
 		rows = out
 	}
 	return rows
+}
+
+// longestStretch returns the longest stretch [x0, x1] of true columns of
+// has whose gaps are at most maxGap columns, and the fraction of its
+// columns that are true; x0 is -1 when has holds no true column.
+func longestStretch(has []bool, maxGap int) (x0, x1 int, cov float64) {
+	bestX0, bestX1, bestN := -1, -1, 0
+	s0, last, n := -1, -1, 0
+	for x, h := range has {
+		if !h {
+			continue
+		}
+		if s0 < 0 || x-last > maxGap {
+			s0, n = x, 0
+		}
+		last = x
+		n++
+		if last-s0 > bestX1-bestX0 {
+			bestX0, bestX1, bestN = s0, last, n
+		}
+	}
+	if bestX0 < 0 {
+		return -1, -1, 0
+	}
+	return bestX0, bestX1, float64(bestN) / float64(bestX1-bestX0+1)
 }
 
 // pulseTailMM is the flat stretch printed between the calibration pulse's
