@@ -238,6 +238,15 @@ func findRows(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse) []rowI
 		}
 		var out []rowInfo
 		for _, r := range rows {
+			// The looser reading can run on over dashes of grid left in
+			// the ink past the end of the trace: end it with the pulse
+			// rows.
+			if r.loose && !r.hasPulse && float64(r.x1) > refX1+5*pxX && float64(r.x1) < refX1+20*pxX {
+				r.x1 = int(refX1)
+			}
+			if r.loose && !r.hasPulse {
+				r.traceX0 = refX0
+			}
 			keep := r.hasPulse
 			if !keep && !spans(r) && spansLate(r) {
 				r.x0 = min(r.x0, int(refX0))
