@@ -51,6 +51,13 @@ type caseScore struct {
 // scoreCase renders one corpus page, digitises it and scores it against
 // the printed truth.
 func scoreCase(t testing.TB, c accuracy.Case, overlay string) caseScore {
+	return scoreCaseWith(t, c, overlay, false)
+}
+
+// scoreCaseWith is scoreCase; with withDPI the front end is given the
+// resolution the page's file would carry (render.Truth.Resolution), as
+// the pipeline passes it from a PNG's pHYs chunk.
+func scoreCaseWith(t testing.TB, c accuracy.Case, overlay string, withDPI bool) caseScore {
 	t.Helper()
 	full, page, err := accuracy.RenderCase(c)
 	if err != nil {
@@ -58,7 +65,11 @@ func scoreCase(t testing.TB, c accuracy.Case, overlay string) caseScore {
 	}
 	printed := accuracy.PrintedRecord(&page.Truth)
 	cs := caseScore{name: c.Name()}
-	res, pg, err := digitise(page.Image)
+	var po *imageproc.Options
+	if dx, dy, ok := page.Truth.Resolution(); withDPI && ok {
+		po = &imageproc.Options{DPIX: dx, DPIY: dy}
+	}
+	res, pg, err := digitiseWith(page.Image, po)
 	cs.err = err
 	for _, s := range printed.Signals {
 		if _, _, ok := s.ValidSpan(); ok {
