@@ -11,7 +11,10 @@
 //
 //   - Rows: peaks of the row ink projection profile backed by a long,
 //     nearly continuous horizontal stretch of ink (projection profiles,
-//     common practice). 0 mV is the calibration pulse's foot where there is
+//     common practice). A binarised fax trace loses its flat stretches and
+//     breaks into islands; a second, looser reading (gaps up to 12 mm,
+//     coverage 0.3) finds such rows, kept only when they have a pulse or
+//     line up with the pulse rows, so header text does not pass. 0 mV is the calibration pulse's foot where there is
 //     one, else the most frequent level of the row's path (the isoelectric
 //     line).
 //   - Pulses: a rectangle rising 3–45 mm from the baseline at the row's
