@@ -49,6 +49,10 @@ func toNRGBA(img image.Image) *image.NRGBA {
 			}
 		}
 	case *image.YCbCr:
+		if hs, ok := chromaShift(m.SubsampleRatio); ok && m.Rect.Min == (image.Point{}) {
+			ycbcrRows(dst, m, hs)
+			break
+		}
 		for y := 0; y < h; y++ {
 			d := dst.Pix[y*dst.Stride : y*dst.Stride+4*w]
 			for x := 0; x < w; x++ {
@@ -182,4 +186,52 @@ func isGrey(m *image.NRGBA, tol int) bool {
 		}
 	}
 	return off*1000 <= n // at most 0.1 % coloured samples
+}
+
+// chromaShift returns log2 of the horizontal chroma subsampling of r
+// (chroma column = x >> shift), false for an unknown ratio.
+func chromaShift(r image.YCbCrSubsampleRatio) (uint, bool) {
+	switch r {
+	case image.YCbCrSubsampleRatio444, image.YCbCrSubsampleRatio440:
+		return 0, true
+	case image.YCbCrSubsampleRatio422, image.YCbCrSubsampleRatio420:
+		return 1, true
+	case image.YCbCrSubsampleRatio411, image.YCbCrSubsampleRatio410:
+		return 2, true
+	}
+	return 0, false
+}
+
+// ycbcrRows converts m (Rect.Min at the origin) into dst row by row: the
+// chroma row is located once per row and the JFIF full-range conversion
+// (ITU-T T.871 §7, in the 16-bit fixed point of image/color's
+// YCbCrToRGB, which gives identical bytes) is done inline.
+func ycbcrRows(dst *image.NRGBA, m *image.YCbCr, hs uint) {
+	w, h := m.Rect.Dx(), m.Rect.Dy()
+	for y := 0; y < h; y++ {
+		yr := m.Y[y*m.YStride : y*m.YStride+w]
+		c0 := m.COffset(0, y)
+		cw := (w-1)>>hs + 1
+		cbr := m.Cb[c0 : c0+cw]
+		crr := m.Cr[c0 : c0+cw]
+		d := dst.Pix[y*dst.Stride : y*dst.Stride+4*w]
+		for x, yv := range yr {
+			yy1 := int32(yv) * 0x10101
+			cb1 := int32(cbr[x>>hs]) - 128
+			cr1 := int32(crr[x>>hs]) - 128
+			o := d[4*x : 4*x+4 : 4*x+4]
+			o[0] = clip16(yy1 + 91881*cr1)
+			o[1] = clip16(yy1 - 22554*cb1 - 46802*cr1)
+			o[2] = clip16(yy1 + 116130*cb1)
+			o[3] = 255
+		}
+	}
+}
+
+// clip16 returns v >> 16 clamped to 0..255 (v in 16.16 fixed point).
+func clip16(v int32) uint8 {
+	if uint32(v)&0xff000000 == 0 {
+		return uint8(v >> 16)
+	}
+	return uint8(^(v >> 31))
 }

@@ -2,6 +2,7 @@ package imageproc
 
 import (
 	"image"
+	"image/color"
 	"math"
 	"math/rand/v2"
 	"testing"
@@ -130,6 +131,34 @@ func TestDownscaleBoxMeans(t *testing.T) {
 					if got := int(d.Pix[oy*d.Stride+4*ox+c]); got != want {
 						t.Fatalf("f=%d (%d,%d) ch %d: got %d, want %d", f, ox, oy, c, got, want)
 					}
+				}
+			}
+		}
+	}
+}
+
+// TestYCbCrFastPathExact checks the row-wise YCbCr conversion against the
+// standard library's per-pixel YCbCrToRGB for every subsampling ratio and
+// odd sizes (partial chroma blocks at the edges): bytes must be equal.
+func TestYCbCrFastPathExact(t *testing.T) {
+	rng := rand.New(rand.NewPCG(9, 9))
+	for _, r := range []image.YCbCrSubsampleRatio{
+		image.YCbCrSubsampleRatio444, image.YCbCrSubsampleRatio422, image.YCbCrSubsampleRatio420,
+		image.YCbCrSubsampleRatio440, image.YCbCrSubsampleRatio411, image.YCbCrSubsampleRatio410,
+	} {
+		m := image.NewYCbCr(image.Rect(0, 0, 37, 23), r)
+		for _, p := range [][]uint8{m.Y, m.Cb, m.Cr} {
+			for i := range p {
+				p[i] = uint8(rng.IntN(256))
+			}
+		}
+		got := toNRGBA(m)
+		for y := 0; y < 23; y++ {
+			for x := 0; x < 37; x++ {
+				rr, gg, bb := color.YCbCrToRGB(m.Y[m.YOffset(x, y)], m.Cb[m.COffset(x, y)], m.Cr[m.COffset(x, y)])
+				i := y*got.Stride + 4*x
+				if got.Pix[i] != rr || got.Pix[i+1] != gg || got.Pix[i+2] != bb || got.Pix[i+3] != 255 {
+					t.Fatalf("%v (%d,%d): got %v, want %d %d %d", r, x, y, got.Pix[i:i+4], rr, gg, bb)
 				}
 			}
 		}
