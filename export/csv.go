@@ -14,8 +14,8 @@ import (
 	"strings"
 
 	"tracelift/ecg"
-	"tracelift/internal/atomicfile"
 	"tracelift/export/internal/frames"
+	"tracelift/internal/atomicfile"
 )
 
 // CSVLeads returns the column order WriteCSV uses for rec: the twelve

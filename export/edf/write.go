@@ -12,8 +12,8 @@ import (
 	"time"
 
 	"tracelift/ecg"
-	"tracelift/internal/atomicfile"
 	"tracelift/export/internal/frames"
+	"tracelift/internal/atomicfile"
 )
 
 // Patient fills the EDF+ local patient identification. Empty fields are

@@ -12,8 +12,8 @@ import (
 	"unicode/utf8"
 
 	"tracelift/ecg"
-	"tracelift/internal/atomicfile"
 	"tracelift/export/internal/frames"
+	"tracelift/internal/atomicfile"
 )
 
 // Caution is written as a header comment of every record tracelift writes.
