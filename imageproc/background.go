@@ -77,9 +77,10 @@ func estimateBackground(m *image.NRGBA, block int, scale float64) *background {
 	return bg
 }
 
-// gainRow fills dst (3 per pixel) with 255/background for row y of a
-// w-pixel-wide image (the gain itself is interpolated between blocks).
-func (bg *background) gainRow(dst []float32, y, w int) {
+// blockGains returns, per colour channel, scale/background at each block
+// column for row y, interpolated between the two nearest block rows. The
+// slices are bg.col, reused from row to row.
+func (bg *background) blockGains(y int, scale float64) [3][]float64 {
 	fy := (float64(y)+0.5)/bg.cell - 0.5
 	y0 := int(fy)
 	if fy < 0 {
@@ -95,12 +96,18 @@ func (bg *background) gainRow(dst []float32, y, w int) {
 			bg.col[c] = make([]float64, bg.nx)
 		}
 	}
-	col := bg.col
 	for c := 0; c < 3; c++ {
 		for i := 0; i < bg.nx; i++ {
-			col[c][i] = 255 * ((1-ay)/bg.v[c][y0*bg.nx+i] + ay/bg.v[c][y1*bg.nx+i])
+			bg.col[c][i] = scale * ((1-ay)/bg.v[c][y0*bg.nx+i] + ay/bg.v[c][y1*bg.nx+i])
 		}
 	}
+	return bg.col
+}
+
+// gainRow fills dst (3 per pixel) with 255/background for row y of a
+// w-pixel-wide image (the gain itself is interpolated between blocks).
+func (bg *background) gainRow(dst []float32, y, w int) {
+	col := bg.blockGains(y, 255)
 	inv := 1 / bg.cell
 	for x := 0; x < w; x++ {
 		fx := (float64(x)+0.5)*inv - 0.5
@@ -125,27 +132,7 @@ func (bg *background) gainRow(dst []float32, y, w int) {
 // block pair the gain is linear in x, so one add per pixel replaces the
 // per-pixel division and clamping of gainRow.
 func (bg *background) gainRowFixed(dst []uint32, y, w int) {
-	fy := (float64(y)+0.5)/bg.cell - 0.5
-	y0 := int(fy)
-	if fy < 0 {
-		y0, fy = 0, 0
-	}
-	if y0 >= bg.ny-1 {
-		y0, fy = bg.ny-1, float64(bg.ny-1)
-	}
-	y1 := min(y0+1, bg.ny-1)
-	ay := fy - float64(y0)
-	if len(bg.col[0]) != bg.nx {
-		for c := range bg.col {
-			bg.col[c] = make([]float64, bg.nx)
-		}
-	}
-	col := bg.col
-	for c := 0; c < 3; c++ {
-		for i := 0; i < bg.nx; i++ {
-			col[c][i] = 255 * 256 * ((1-ay)/bg.v[c][y0*bg.nx+i] + ay/bg.v[c][y1*bg.nx+i])
-		}
-	}
+	col := bg.blockGains(y, 255*256)
 	inv := 1 / bg.cell
 	dst = dst[:3*w]
 	for x := 0; x < w; {
