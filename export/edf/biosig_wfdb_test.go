@@ -4,11 +4,11 @@ import (
 	"io"
 	"math"
 	"os"
-	"os/exec"
 	"path/filepath"
 	"testing"
 
 	"tracelift/export/wfdb"
+	"tracelift/internal/biosig"
 	"tracelift/internal/refdata"
 )
 
@@ -19,10 +19,7 @@ import (
 // biosig's scaling. This also exercises a file with 225,000 data records
 // of 4 ms each.
 func TestReadBiosigEDF(t *testing.T) {
-	bin, err := exec.LookPath("save2gdf")
-	if err != nil {
-		t.Skip("save2gdf (Debian biosig-tools) not on PATH")
-	}
+	biosig.Tool(t)
 	src := refdata.Dir(t, "qtdb")
 	dir := t.TempDir()
 	for _, n := range []string{"sele0104.hea", "sele0104.dat"} {
@@ -35,11 +32,7 @@ func TestReadBiosigEDF(t *testing.T) {
 		in.Close()
 		out.Close()
 	}
-	cmd := exec.Command(bin, "-f=EDF", "sele0104.hea", "out.edf")
-	cmd.Dir = dir
-	if o, err := cmd.CombinedOutput(); err != nil {
-		t.Fatalf("save2gdf: %v %s", err, o)
-	}
+	biosig.Run(t, dir, "-f=EDF", "sele0104.hea", "out.edf")
 	f, err := ReadFile(filepath.Join(dir, "out.edf"))
 	if err != nil {
 		t.Fatal(err)

@@ -5,9 +5,7 @@ import (
 	"encoding/json"
 	"errors"
 	"math"
-	"math/rand/v2"
 	"os"
-	"os/exec"
 	"path/filepath"
 	"strconv"
 	"strings"
@@ -15,28 +13,19 @@ import (
 	"time"
 
 	"tracelift/ecg"
+	"tracelift/internal/biosig"
+	"tracelift/internal/testrecord"
 )
 
 // demoRecord is an invented 12-lead record at 500 Hz: limb leads over the
 // whole span, chest leads only over 2.5–5 s (a 3 × 4 page pattern), and
 // three beats with fiducials.
 func demoRecord(seed uint64, seconds float64) ecg.Record {
-	r := rand.New(rand.NewPCG(seed, seed))
-	n := int(seconds * 500)
-	rec := ecg.Record{Meta: ecg.Metadata{Source: "demo.png", PatientID: "MRN 0042", PatientName: "Ada Example",
-		Sex: "F", BirthDate: time.Date(1951, 8, 2, 0, 0, 0, 0, time.UTC), Acquired: time.Date(2024, 3, 9, 14, 5, 7, 0, time.UTC),
-		Institution: "Lakeside Demo Clinic", Device: "paper scan"}}
-	for j, l := range ecg.Standard12 {
-		s := ecg.Signal{Lead: l, SampleRate: 500, Samples: make([]float64, n)}
-		for k := range s.Samples {
-			t := float64(k) / 500
-			s.Samples[k] = 1.7*math.Sin(2*math.Pi*1.3*t+float64(j)) + 0.02*r.NormFloat64()
-			if l >= ecg.LeadV1 && (t < 2.5 || t >= 5) {
-				s.Samples[k] = math.NaN()
-			}
-		}
-		rec.Set(s)
-	}
+	rec := testrecord.Build(testrecord.Spec{Seed: seed, Seconds: seconds, Amp: 1.7, Omega: 2 * math.Pi * 1.3, Noise: 0.02,
+		Gap: testrecord.ChestWindow,
+		Meta: ecg.Metadata{Source: "demo.png", PatientID: "MRN 0042", PatientName: "Ada Example",
+			Sex: "F", BirthDate: time.Date(1951, 8, 2, 0, 0, 0, 0, time.UTC), Acquired: time.Date(2024, 3, 9, 14, 5, 7, 0, time.UTC),
+			Institution: "Lakeside Demo Clinic", Device: "paper scan"}})
 	b := ecg.NewBeat(ecg.BeatNormal, 0.6)
 	b.POn, b.PPeak, b.POff, b.QRSOn, b.QRSOff, b.TPeak, b.TEnd = 0.42, 0.46, 0.5, 0.56, 0.65, 0.85, 0.95
 	rec.Beats = []ecg.Beat{b, ecg.NewBeat(ecg.BeatVentricular, 1.5), ecg.NewBeat(ecg.BeatAtrial, 2.3)}
@@ -281,21 +270,13 @@ func TestWriteFileAtomic(t *testing.T) {
 // onset/duration/text back exactly. Compare every recorded sample of its
 // CSV export and the beat events of its JSON dump.
 func TestBiosigReadsEDF(t *testing.T) {
-	bin, err := exec.LookPath("save2gdf")
-	if err != nil {
-		t.Skip("save2gdf (Debian biosig-tools) not on PATH")
-	}
+	biosig.Tool(t)
 	rec := demoRecord(6, 10)
 	dir := t.TempDir()
 	if err := WriteFile(filepath.Join(dir, "demo.edf"), rec, nil); err != nil {
 		t.Fatal(err)
 	}
-	cmd := exec.Command(bin, "-JSON", "demo.edf")
-	cmd.Dir = dir
-	out, err := cmd.Output()
-	if err != nil {
-		t.Fatalf("save2gdf -JSON: %v", err)
-	}
+	out := biosig.JSON(t, dir, "demo.edf")
 	var doc struct {
 		NumberOfChannels int
 		Samplingrate     float64
@@ -307,7 +288,7 @@ func TestBiosigReadsEDF(t *testing.T) {
 			Description string
 		}
 	}
-	if err := json.Unmarshal(out[bytes.IndexByte(out, '{'):], &doc); err != nil {
+	if err := json.Unmarshal(out, &doc); err != nil {
 		t.Fatalf("JSON: %v", err)
 	}
 	// biosig counts the EDF Annotations signal as a 13th channel.
@@ -323,16 +304,7 @@ func TestBiosigReadsEDF(t *testing.T) {
 			t.Errorf("biosig event %q at %v (found %v), want %g s", text, pos, ok, at)
 		}
 	}
-	csv := exec.Command(bin, "-CSV", "demo.edf", "demo.csv")
-	csv.Dir = dir
-	if o, err := csv.CombinedOutput(); err != nil {
-		t.Fatalf("save2gdf -CSV: %v %s", err, o)
-	}
-	b, err := os.ReadFile(filepath.Join(dir, "demo.csv"))
-	if err != nil {
-		t.Fatal(err)
-	}
-	lines := strings.Split(strings.TrimSpace(string(b)), "\n")
+	lines := biosig.CSV(t, dir, "demo.edf", "demo.csv")
 	if len(lines) < 5001 {
 		t.Fatalf("biosig CSV: %d lines", len(lines))
 	}
