@@ -4,36 +4,23 @@ import (
 	"bytes"
 	"encoding/json"
 	"math"
-	"math/rand/v2"
-	"os"
-	"os/exec"
 	"path/filepath"
 	"strconv"
 	"strings"
 	"testing"
 
 	"tracelift/ecg"
+	"tracelift/internal/biosig"
 	"tracelift/internal/refdata"
+	"tracelift/internal/testrecord"
 )
 
 // testRecord builds a seeded 12-lead record at 500 Hz (invented data)
 // with a 3 × 4-style gap pattern: the chest leads are NaN outside their
 // 2.5 s window.
 func testRecord(seed uint64, seconds float64) ecg.Record {
-	r := rand.New(rand.NewPCG(seed, seed))
-	n := int(seconds * 500)
-	rec := ecg.Record{Meta: ecg.Metadata{Source: "demo-clinic page.png"}}
-	for j, l := range ecg.Standard12 {
-		s := ecg.Signal{Lead: l, SampleRate: 500, Samples: make([]float64, n)}
-		for k := range s.Samples {
-			t := float64(k) / 500
-			s.Samples[k] = 1.2*math.Sin(2*math.Pi*1.1*t+float64(j)) + 0.05*r.NormFloat64() - 0.3
-			if l >= ecg.LeadV1 && (t < 2.5 || t >= 5) {
-				s.Samples[k] = math.NaN()
-			}
-		}
-		rec.Set(s)
-	}
+	rec := testrecord.Build(testrecord.Spec{Seed: seed, Seconds: seconds, Amp: 1.2, Omega: 2 * math.Pi * 1.1, Noise: 0.05, Offset: -0.3,
+		Gap: testrecord.ChestWindow, Meta: ecg.Metadata{Source: "demo-clinic page.png"}})
 	rec.Beats = []ecg.Beat{ecg.NewBeat(ecg.BeatNormal, 0.5), ecg.NewBeat(ecg.BeatVentricular, 1.4), ecg.NewBeat(ecg.BeatAtrial, 2.2)}
 	rec.Beats[0].QRSOn, rec.Beats[0].QRSOff, rec.Beats[0].POn, rec.Beats[0].PPeak, rec.Beats[0].POff = 0.45, 0.55, 0.3, 0.34, 0.38
 	rec.Beats[0].TPeak, rec.Beats[0].TEnd = 0.8, 0.9
@@ -235,23 +222,14 @@ func TestWaveAnnotationsRoundTrip(t *testing.T) {
 // rate, length and scaling (1/gain mV per unit). standards.md §5.6: it
 // crashes on long 12-channel format-16 records, so 212 is used here.
 func TestBiosigReadsFormat212(t *testing.T) {
-	bin, err := exec.LookPath("save2gdf")
-	if err != nil {
-		t.Skip("save2gdf (Debian biosig-tools) not on PATH")
-	}
+	biosig.Tool(t)
 	rec := testRecord(3, 10)
 	dir := t.TempDir()
 	h, err := WriteRecord(dir, "demo_2", rec, &WriteOptions{Format: 212})
 	if err != nil {
 		t.Fatal(err)
 	}
-	cmd := exec.Command(bin, "-JSON", "demo_2.hea")
-	cmd.Dir = dir
-	out, err := cmd.Output()
-	if err != nil {
-		t.Fatalf("save2gdf: %v", err)
-	}
-	js := out[bytes.IndexByte(out, '{'):]
+	js := biosig.JSON(t, dir, "demo_2.hea")
 	var doc struct {
 		NumberOfChannels int
 		NumberOfSamples  int
@@ -279,16 +257,7 @@ func TestBiosigReadsFormat212(t *testing.T) {
 	// Values: save2gdf -CSV prints one row per frame, one column per
 	// signal, in mV. Every recorded sample must agree within half a
 	// quantisation step plus biosig's printing precision.
-	csv := exec.Command(bin, "-CSV", "demo_2.hea", "demo_2.csv")
-	csv.Dir = dir
-	if co, err := csv.CombinedOutput(); err != nil {
-		t.Fatalf("save2gdf -CSV: %v: %s", err, co)
-	}
-	b, err := os.ReadFile(filepath.Join(dir, "demo_2.csv"))
-	if err != nil {
-		t.Fatal(err)
-	}
-	lines := strings.Split(strings.TrimSpace(string(b)), "\n")
+	lines := biosig.CSV(t, dir, "demo_2.hea", "demo_2.csv")
 	if len(lines) != 5001 {
 		t.Fatalf("biosig CSV has %d lines, want 5001", len(lines))
 	}
@@ -318,10 +287,7 @@ func TestBiosigReadsFormat212(t *testing.T) {
 // documents that biosig puts every WFDB annotation one sample early
 // (POS·fs = sample − 1), which we allow for.
 func TestBiosigReadsAnnotations(t *testing.T) {
-	bin, err := exec.LookPath("save2gdf")
-	if err != nil {
-		t.Skip("save2gdf (Debian biosig-tools) not on PATH")
-	}
+	biosig.Tool(t)
 	rec := testRecord(5, 10)
 	rec.Beats = nil
 	classes := []ecg.BeatClass{ecg.BeatNormal, ecg.BeatVentricular, ecg.BeatAtrial, ecg.BeatNormal, ecg.BeatUnknown}
@@ -337,19 +303,14 @@ func TestBiosigReadsAnnotations(t *testing.T) {
 	if err := WriteAnnotationsFile(filepath.Join(dir, "ann.atr"), anns); err != nil {
 		t.Fatal(err)
 	}
-	cmd := exec.Command(bin, "-JSON", "ann.hea")
-	cmd.Dir = dir
-	out, err := cmd.Output()
-	if err != nil {
-		t.Fatalf("save2gdf: %v", err)
-	}
+	out := biosig.JSON(t, dir, "ann.hea")
 	var doc struct {
 		EVENT []struct {
 			TYP string
 			POS float64
 		}
 	}
-	if err := json.Unmarshal(out[bytes.IndexByte(out, '{'):], &doc); err != nil {
+	if err := json.Unmarshal(out, &doc); err != nil {
 		t.Fatal(err)
 	}
 	if len(doc.EVENT) != len(anns) {
