@@ -6,9 +6,6 @@ import (
 	"encoding/xml"
 	"errors"
 	"math"
-	"math/rand/v2"
-	"os"
-	"os/exec"
 	"path/filepath"
 	"strconv"
 	"strings"
@@ -16,27 +13,16 @@ import (
 	"time"
 
 	"tracelift/ecg"
+	"tracelift/internal/biosig"
+	"tracelift/internal/testrecord"
 	"tracelift/measure"
 )
 
 // page3x4 is an invented 3 × 4 + rhythm-strip record at 500 Hz: each
 // column of leads covers 2.5 s, lead II covers the full 10 s.
 func page3x4(seed uint64) ecg.Record {
-	r := rand.New(rand.NewPCG(seed, seed))
-	rec := ecg.Record{Meta: ecg.Metadata{Source: "demo.png", Acquired: time.Date(2025, 5, 4, 9, 30, 0, 0, time.UTC)}}
-	col := map[ecg.Lead]int{ecg.LeadI: 0, ecg.LeadIII: 0, ecg.LeadAVR: 1, ecg.LeadAVL: 1, ecg.LeadAVF: 1,
-		ecg.LeadV1: 2, ecg.LeadV2: 2, ecg.LeadV3: 2, ecg.LeadV4: 3, ecg.LeadV5: 3, ecg.LeadV6: 3}
-	for j, l := range ecg.Standard12 {
-		s := ecg.Signal{Lead: l, SampleRate: 500, Samples: make([]float64, 5000)}
-		for k := range s.Samples {
-			t := float64(k) / 500
-			s.Samples[k] = 0.9*math.Sin(2*math.Pi*1.1*t+float64(j)) + 0.02*r.NormFloat64()
-			if c, ok := col[l]; ok && (t < 2.5*float64(c) || t >= 2.5*float64(c+1)) {
-				s.Samples[k] = math.NaN()
-			}
-		}
-		rec.Set(s)
-	}
+	rec := testrecord.Build(testrecord.Spec{Seed: seed, Seconds: 10, Amp: 0.9, Omega: 2 * math.Pi * 1.1, Noise: 0.02,
+		Gap: testrecord.Columns3x4, Meta: ecg.Metadata{Source: "demo.png", Acquired: time.Date(2025, 5, 4, 9, 30, 0, 0, time.UTC)}})
 	b := ecg.NewBeat(ecg.BeatNormal, 0.7)
 	b.POn, b.POff, b.QRSOn, b.QRSOff, b.TEnd = 0.5, 0.6, 0.66, 0.75, 1.05
 	rec.Beats = []ecg.Beat{b}
@@ -206,10 +192,7 @@ func TestReadErrors(t *testing.T) {
 // (standards.md §5.6: 12 leads at 500 Hz read back). We check the channel
 // count and rate on a record whose 12 leads share one window.
 func TestBiosigReadsAECG(t *testing.T) {
-	bin, err := exec.LookPath("save2gdf")
-	if err != nil {
-		t.Skip("save2gdf (Debian biosig-tools) not on PATH")
-	}
+	biosig.Tool(t)
 	rec := page3x4(3)
 	for i := range rec.Signals { // fill the gaps: one window for all leads
 		for k, v := range rec.Signals[i].Samples {
@@ -222,38 +205,20 @@ func TestBiosigReadsAECG(t *testing.T) {
 	if err := WriteFile(filepath.Join(dir, "demo.xml"), rec, nil); err != nil {
 		t.Fatal(err)
 	}
-	cmd := exec.Command(bin, "-JSON", "demo.xml")
-	cmd.Dir = dir
-	out, err := cmd.CombinedOutput()
-	if err != nil {
-		t.Fatalf("save2gdf: %v: %s", err, out)
-	}
-	i := bytes.IndexByte(out, '{')
-	if i < 0 {
-		t.Fatalf("save2gdf printed no JSON: %s", out)
-	}
+	out := biosig.JSON(t, dir, "demo.xml")
 	var doc struct {
 		TYPE             string
 		NumberOfChannels int
 		Samplingrate     float64
 		NumberOfSamples  int
 	}
-	if err := json.Unmarshal(out[i:], &doc); err != nil {
+	if err := json.Unmarshal(out, &doc); err != nil {
 		t.Fatalf("JSON: %v\n%s", err, out)
 	}
 	if doc.NumberOfChannels != 12 || doc.Samplingrate != 500 || doc.NumberOfSamples != 5000 {
 		t.Errorf("biosig read %+v", doc)
 	}
-	csv := exec.Command(bin, "-CSV", "demo.xml", "demo.csv")
-	csv.Dir = dir
-	if o, err := csv.CombinedOutput(); err != nil {
-		t.Fatalf("save2gdf -CSV: %v %s", err, o)
-	}
-	b, err := os.ReadFile(filepath.Join(dir, "demo.csv"))
-	if err != nil {
-		t.Fatal(err)
-	}
-	lines := strings.Split(strings.TrimSpace(string(b)), "\n")
+	lines := biosig.CSV(t, dir, "demo.xml", "demo.csv")
 	if len(lines) < 5000 {
 		t.Fatalf("biosig CSV has %d lines", len(lines))
 	}
