@@ -5,9 +5,7 @@ import (
 	"encoding/json"
 	"errors"
 	"math"
-	"math/rand/v2"
 	"os"
-	"os/exec"
 	"path/filepath"
 	"strings"
 	"testing"
@@ -16,28 +14,18 @@ import (
 	"tracelift/export/aecg"
 	"tracelift/export/edf"
 	"tracelift/export/wfdb"
+	"tracelift/internal/biosig"
 	"tracelift/internal/refdata"
+	"tracelift/internal/testrecord"
 	"tracelift/measure"
 )
 
 // demoRecord: invented limb and chest leads at 500 Hz; chest leads only
 // between 2.5 and 5 s; an extra lead V4R.
 func demoRecord(seed uint64, seconds float64) ecg.Record {
-	r := rand.New(rand.NewPCG(seed, seed))
-	n := int(seconds * 500)
-	rec := ecg.Record{Meta: ecg.Metadata{Source: "demo.png"}}
-	for j, l := range append(append([]ecg.Lead{}, ecg.Standard12...), ecg.LeadV4R) {
-		s := ecg.Signal{Lead: l, SampleRate: 500, Samples: make([]float64, n)}
-		for k := range s.Samples {
-			t := float64(k) / 500
-			s.Samples[k] = 1.1*math.Sin(2*math.Pi*1.2*t+float64(j)) + 0.03*r.NormFloat64()
-			if l >= ecg.LeadV1 && l <= ecg.LeadV6 && (t < 2.5 || t >= 5) {
-				s.Samples[k] = math.NaN()
-			}
-		}
-		rec.Set(s)
-	}
-	return rec
+	return testrecord.Build(testrecord.Spec{Seed: seed, Seconds: seconds, Amp: 1.1, Omega: 2 * math.Pi * 1.2, Noise: 0.03,
+		Leads: append(append([]ecg.Lead{}, ecg.Standard12...), ecg.LeadV4R),
+		Gap:   testrecord.ChestWindow, Meta: ecg.Metadata{Source: "demo.png"}})
 }
 
 func TestCSVLayout(t *testing.T) {
@@ -154,21 +142,14 @@ func TestReadCSVErrors(t *testing.T) {
 // biosig-tools) → our CSV reader, with its "I [mV]" headers and no time
 // column, gives the original samples back within the EDF step.
 func TestReadBiosigCSV(t *testing.T) {
-	bin, err := exec.LookPath("save2gdf")
-	if err != nil {
-		t.Skip("save2gdf (Debian biosig-tools) not on PATH")
-	}
+	biosig.Tool(t)
 	rec := demoRecord(2, 4)
 	rec.Signals = rec.Signals[:6] // limb leads, no gaps
 	dir := t.TempDir()
 	if err := edf.WriteFile(filepath.Join(dir, "d.edf"), rec, nil); err != nil {
 		t.Fatal(err)
 	}
-	cmd := exec.Command(bin, "-CSV", "d.edf", "d.csv")
-	cmd.Dir = dir
-	if o, err := cmd.CombinedOutput(); err != nil {
-		t.Fatalf("save2gdf: %v %s", err, o)
-	}
+	biosig.Run(t, dir, "-CSV", "d.edf", "d.csv")
 	back, err := ReadCSVFile(filepath.Join(dir, "d.csv"), &CSVOptions{SampleRate: 500})
 	if err != nil {
 		t.Fatal(err)
