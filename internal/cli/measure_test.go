@@ -19,12 +19,7 @@ import (
 
 // TestMeasureFlags checks how the command line fills measureOptions.
 func TestMeasureFlags(t *testing.T) {
-	tests := []struct {
-		name  string
-		args  []string
-		check func(t *testing.T, o *measureOptions)
-		usage bool
-	}{
+	testFlags(t, newMeasureCmd, []flagCase[measureOptions]{
 		{"defaults", []string{"r.hea"}, func(t *testing.T, o *measureOptions) {
 			assert.Equal(t, "r.hea", o.Input)
 			assert.Equal(t, "text", o.Format)
@@ -44,25 +39,7 @@ func TestMeasureFlags(t *testing.T) {
 		{"bad sex", []string{"r.hea", "--sex", "x"}, nil, true},
 		{"no file", nil, nil, true},
 		{"two files", []string{"a.hea", "b.hea"}, nil, true},
-	}
-	for _, tc := range tests {
-		t.Run(tc.name, func(t *testing.T) {
-			var got *measureOptions
-			ios := &IOStreams{Out: &bytes.Buffer{}, ErrOut: &bytes.Buffer{}}
-			cmd := newMeasureCmd(ios, func(o *measureOptions) error { got = o; return nil })
-			cmd.SetArgs(tc.args)
-			cmd.SetOut(ios.Out)
-			cmd.SetErr(ios.ErrOut)
-			err := cmd.Execute()
-			if tc.usage {
-				require.Error(t, err)
-				assert.Equal(t, ExitUsage, ExitCode(err), "error: %v", err)
-				return
-			}
-			require.NoError(t, err)
-			tc.check(t, got)
-		})
-	}
+	})
 }
 
 // TestMeasureRun measures a synthetic record written as CSV through Main:

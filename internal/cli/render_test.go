@@ -20,12 +20,7 @@ import (
 
 // TestRenderFlags checks how the command line fills renderOptions.
 func TestRenderFlags(t *testing.T) {
-	tests := []struct {
-		name  string
-		args  []string
-		check func(t *testing.T, o *renderOptions)
-		usage bool
-	}{
+	testFlags(t, newRenderCmd, []flagCase[renderOptions]{
 		{"defaults", []string{"--synthetic", "-o", "p.png"}, func(t *testing.T, o *renderOptions) {
 			assert.True(t, o.Synthetic)
 			assert.Equal(t, "p.png", o.Out)
@@ -62,25 +57,7 @@ func TestRenderFlags(t *testing.T) {
 		{"no input", []string{"-o", "p.png"}, nil, true},
 		{"both inputs", []string{"x.hea", "--synthetic", "-o", "p.png"}, nil, true},
 		{"bad speed", []string{"--synthetic", "-o", "p.png", "--speed", "0"}, nil, true},
-	}
-	for _, tc := range tests {
-		t.Run(tc.name, func(t *testing.T) {
-			var got *renderOptions
-			ios := &IOStreams{Out: &bytes.Buffer{}, ErrOut: &bytes.Buffer{}}
-			cmd := newRenderCmd(ios, func(o *renderOptions) error { got = o; return nil })
-			cmd.SetArgs(tc.args)
-			cmd.SetOut(ios.Out)
-			cmd.SetErr(ios.ErrOut)
-			err := cmd.Execute()
-			if tc.usage {
-				require.Error(t, err)
-				assert.Equal(t, ExitUsage, ExitCode(err), "error: %v", err)
-				return
-			}
-			require.NoError(t, err)
-			tc.check(t, got)
-		})
-	}
+	})
 }
 
 // TestRenderRun renders a small synthetic page end to end through Main.
@@ -99,11 +76,7 @@ func TestRenderRun(t *testing.T) {
 	cfg, err := png.DecodeConfig(f)
 	require.NoError(t, err)
 	assert.Equal(t, 1169, cfg.Width) // 297 mm at 100 dpi
-	jf, err := os.Open(js)
-	require.NoError(t, err)
-	defer jf.Close()
-	tr, err := render.ReadTruth(jf)
-	require.NoError(t, err)
+	tr := readTruthFile(t, js)
 	assert.Equal(t, "cabrera-3x4", tr.Layout)
 	assert.Equal(t, cfg.Width, tr.WidthPx)
 	b, err := os.ReadFile(pdf)
@@ -135,11 +108,7 @@ func TestRenderRun(t *testing.T) {
 	fax := filepath.Join(dir, "fax.json")
 	code = Main([]string{"render", "--synthetic", "--dpi", "100", "--condition", "fax", "--truth", fax, "-q"}, nil, &out, &errOut)
 	require.Equal(t, ExitOK, code, "stderr: %s", errOut.String())
-	ff, err := os.Open(fax)
-	require.NoError(t, err)
-	ft, err := render.ReadTruth(ff)
-	ff.Close()
-	require.NoError(t, err)
+	ft := readTruthFile(t, fax)
 	assert.InDelta(t, 204/25.4, ft.PxPerMMX, 0.01)
 	assert.Equal(t, "fax", ft.Condition)
 
@@ -163,11 +132,7 @@ func TestRenderFiles(t *testing.T) {
 		var out, errOut bytes.Buffer
 		code := Main([]string{"render", in, "--dpi", "60", "--layout", "12x1", "--truth", js}, nil, &out, &errOut)
 		require.Equal(t, ExitOK, code, "stderr: %s", errOut.String())
-		f, err := os.Open(js)
-		require.NoError(t, err)
-		tr, err := render.ReadTruth(f)
-		f.Close()
-		require.NoError(t, err)
+		tr := readTruthFile(t, js)
 		assert.Len(t, tr.Panels, 12, in)
 		back := tr.Record()
 		ii := back.Signal(ecg.LeadII)
@@ -175,4 +140,15 @@ func TestRenderFiles(t *testing.T) {
 		// EDF stores 16-bit samples: within a few µV of the synthetic record.
 		assert.InDelta(t, rec.Signal(ecg.LeadII).Samples[250], ii.Samples[250], 0.005, in)
 	}
+}
+
+// readTruthFile reads the truth sidecar at path.
+func readTruthFile(t *testing.T, path string) render.Truth {
+	t.Helper()
+	f, err := os.Open(path)
+	require.NoError(t, err)
+	defer f.Close()
+	tr, err := render.ReadTruth(f)
+	require.NoError(t, err)
+	return tr
 }
