@@ -208,7 +208,7 @@ func TestIntervalsLUDB(t *testing.T) {
 
 func evalLUDB(t *testing.T, opt *Options, verbose bool) []*diffStats {
 	dir := refdataDir(t, "ludb")
-	st := []*diffStats{{name: "P"}, {name: "PR"}, {name: "QRS"}, {name: "QT"}}
+	st := intervalStats()
 	for _, n := range ludbRecords {
 		rec, h := readWFDB(t, filepath.Join(dir, fmt.Sprint(n)+".hea"))
 		var leads [][]wave
@@ -220,14 +220,10 @@ func evalLUDB(t *testing.T, opt *Options, verbose bool) []*diffStats {
 		if err != nil {
 			t.Fatalf("ludb %d: %v", n, err)
 		}
-		st[0].add(rep.PMS, ref.p)
+		addIntervals(st, rep, ref)
 		st[0].countP(rep.PMS, ref.p)
-		st[1].add(rep.PRMS, ref.pr)
-		st[2].add(rep.QRSMS, ref.qrs)
-		st[3].add(rep.QTMS, ref.qt)
 		if verbose {
-			t.Logf("ludb %3d: P %5.0f/%5.0f  PR %5.0f/%5.0f  QRS %5.0f/%5.0f  QT %5.0f/%5.0f (measured/reference ms)",
-				n, float64(rep.PMS), ref.p, float64(rep.PRMS), ref.pr, float64(rep.QRSMS), ref.qrs, float64(rep.QTMS), ref.qt)
+			logIntervals(t, fmt.Sprintf("ludb %3d", n), rep, ref)
 		}
 	}
 	return st
@@ -288,31 +284,57 @@ func TestIntervalsQTDB(t *testing.T) {
 
 func evalQTDB(t *testing.T, opt *Options, verbose bool) []*diffStats {
 	dir := refdataDir(t, "qtdb")
-	st := []*diffStats{{name: "P"}, {name: "PR"}, {name: "QRS"}, {name: "QT"}}
+	st := intervalStats()
 	for _, name := range qtdbRecords {
-		rec, h := readWFDB(t, filepath.Join(dir, name+".hea"))
-		ws := readWaves(t, filepath.Join(dir, name+".q1c"), h.Fs)
-		if len(ws) == 0 {
-			t.Fatalf("%s.q1c: no waves", name)
-		}
+		cut, ws := qtdbStretch(t, dir, name)
 		ref := globalRef([][]wave{ws})
-		from, to := ws[0].pk-3, ws[len(ws)-1].pk+3
-		cut := cutRecord(rec, from, to)
 		rep, err := Measure(cut, opt)
 		if err != nil {
 			t.Fatalf("qtdb %s: %v", name, err)
 		}
-		st[0].add(rep.PMS, ref.p)
+		addIntervals(st, rep, ref)
 		st[0].countP(rep.PMS, ref.p)
-		st[1].add(rep.PRMS, ref.pr)
-		st[2].add(rep.QRSMS, ref.qrs)
-		st[3].add(rep.QTMS, ref.qt)
 		if verbose {
-			t.Logf("qtdb %-9s: P %5.0f/%5.0f  PR %5.0f/%5.0f  QRS %5.0f/%5.0f  QT %5.0f/%5.0f (measured/reference ms)",
-				name, float64(rep.PMS), ref.p, float64(rep.PRMS), ref.pr, float64(rep.QRSMS), ref.qrs, float64(rep.QTMS), ref.qt)
+			logIntervals(t, fmt.Sprintf("qtdb %-9s", name), rep, ref)
 		}
 	}
 	return st
+}
+
+// intervalStats returns empty statistics of the four global intervals,
+// in the order addIntervals fills: P, PR, QRS, QT.
+func intervalStats() []*diffStats {
+	return []*diffStats{{name: "P"}, {name: "PR"}, {name: "QRS"}, {name: "QT"}}
+}
+
+// addIntervals adds rep's global P, PR, QRS and QT against ref (ms) to
+// st, which intervalStats made.
+func addIntervals(st []*diffStats, rep *Report, ref refIntervals) {
+	st[0].add(rep.PMS, ref.p)
+	st[1].add(rep.PRMS, ref.pr)
+	st[2].add(rep.QRSMS, ref.qrs)
+	st[3].add(rep.QTMS, ref.qt)
+}
+
+// logIntervals logs one record's measured and reference global
+// intervals under label.
+func logIntervals(t *testing.T, label string, rep *Report, ref refIntervals) {
+	t.Helper()
+	t.Logf("%s: P %5.0f/%5.0f  PR %5.0f/%5.0f  QRS %5.0f/%5.0f  QT %5.0f/%5.0f (measured/reference ms)",
+		label, float64(rep.PMS), ref.p, float64(rep.PRMS), ref.pr, float64(rep.QRSMS), ref.qrs, float64(rep.QTMS), ref.qt)
+}
+
+// qtdbStretch reads QT Database record name from dir with its manual
+// wave marks (annotator 1, .q1c) and returns the part of the record from
+// 3 s before the first marked wave peak to 3 s after the last.
+func qtdbStretch(t *testing.T, dir, name string) (ecg.Record, []wave) {
+	t.Helper()
+	rec, h := readWFDB(t, filepath.Join(dir, name+".hea"))
+	ws := readWaves(t, filepath.Join(dir, name+".q1c"), h.Fs)
+	if len(ws) == 0 {
+		t.Fatalf("%s.q1c: no waves", name)
+	}
+	return cutRecord(rec, ws[0].pk-3, ws[len(ws)-1].pk+3), ws
 }
 
 // cutRecord returns the part of rec between from and to seconds.
@@ -333,9 +355,7 @@ func TestBeatTableQTDB(t *testing.T) {
 	dir := refdataDir(t, "qtdb")
 	qrs, qt := &diffStats{name: "QRS"}, &diffStats{name: "QT"}
 	for _, name := range qtdbRecords {
-		rec, h := readWFDB(t, filepath.Join(dir, name+".hea"))
-		ws := readWaves(t, filepath.Join(dir, name+".q1c"), h.Fs)
-		cut := cutRecord(rec, ws[0].pk-3, ws[len(ws)-1].pk+3)
+		cut, ws := qtdbStretch(t, dir, name)
 		rep, err := Measure(cut, nil)
 		if err != nil {
 			t.Fatalf("qtdb %s: %v", name, err)
@@ -375,7 +395,7 @@ func TestBeatTableQTDB(t *testing.T) {
 func TestLUDBAsPages(t *testing.T) {
 	dir := refdataDir(t, "ludb")
 	for _, rhythm := range []bool{true, false} {
-		st := []*diffStats{{name: "P"}, {name: "PR"}, {name: "QRS"}, {name: "QT"}}
+		st := intervalStats()
 		hr := &diffStats{name: "HR"}
 		for _, n := range ludbRecords {
 			rec, _ := readWFDB(t, filepath.Join(dir, fmt.Sprint(n)+".hea"))
@@ -387,10 +407,7 @@ func TestLUDBAsPages(t *testing.T) {
 			if err != nil {
 				t.Fatalf("ludb %d as a page: %v", n, err)
 			}
-			st[0].add(page.PMS, float64(full.PMS))
-			st[1].add(page.PRMS, float64(full.PRMS))
-			st[2].add(page.QRSMS, float64(full.QRSMS))
-			st[3].add(page.QTMS, float64(full.QTMS))
+			addIntervals(st, page, refIntervals{float64(full.PMS), float64(full.PRMS), float64(full.QRSMS), float64(full.QTMS)})
 			hr.add(page.HeartRateBPM, float64(full.HeartRateBPM))
 		}
 		name := map[bool]string{true: "3x4+II", false: "3x4"}[rhythm]
