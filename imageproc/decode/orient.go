@@ -77,9 +77,7 @@ func Orient(img image.Image, o int) image.Image {
 	// Rare types: convert once to NRGBA, then remap.
 	n := image.NewNRGBA(image.Rect(0, 0, sw, sh))
 	draw.Draw(n, n.Rect, img, b.Min, draw.Src)
-	d := image.NewNRGBA(dr)
-	remap(d.Pix, d.Stride, n.Pix, n.Stride, 4, dw, dh, m)
-	return d
+	return Orient(n, o)
 }
 
 // affine maps a destination pixel (dx, dy) to the source pixel

@@ -335,27 +335,12 @@ func snap(x, y float64) [2]int {
 
 // orientDirs returns, for orientation o, the screen directions in which
 // the stored column index and row index increase when viewed upright.
+// Orient's destination→source map has a signed permutation as its linear
+// part, so its inverse (source step → screen step) is its transpose: the
+// columns (ax, bx) and (ay, by).
 func orientDirs(o int) (col, row [2]int) {
-	right, left, down, up := [2]int{1, 0}, [2]int{-1, 0}, [2]int{0, 1}, [2]int{0, -1}
-	switch o {
-	case 1: // row 0 top, column 0 left
-		return right, down
-	case 2: // row 0 top, column 0 right
-		return left, down
-	case 3: // row 0 bottom, column 0 right
-		return left, up
-	case 4: // row 0 bottom, column 0 left
-		return right, up
-	case 5: // row 0 left, column 0 top
-		return down, right
-	case 6: // row 0 right, column 0 top
-		return down, left
-	case 7: // row 0 right, column 0 bottom
-		return up, left
-	case 8: // row 0 left, column 0 bottom
-		return up, right
-	}
-	return right, down
+	m := orientMap(o, 1, 1) // the linear part does not depend on the size
+	return [2]int{m.ax, m.bx}, [2]int{m.ay, m.by}
 }
 
 // decodeImage decodes an image XObject stream into a Go image.
