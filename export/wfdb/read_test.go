@@ -387,3 +387,20 @@ func TestChecksumMismatchWarns(t *testing.T) {
 		t.Errorf("warnings %v notes %v", h.Warnings, rec.Meta.Notes)
 	}
 }
+
+// Per-format facts of the signal-file formats (PhysioNet signal(5) and
+// header(5) manual pages; the invalid-sample values are the table of the
+// WFDB Python package, WFDB_INVALID_SAMPLE for format 16; from memory):
+// bits a sample, the ADC resolution a header implies when it gives none,
+// and the digital value that marks a missing sample (the most negative
+// value of the stored width).
+func TestFormatFacts(t *testing.T) {
+	for _, c := range []struct{ format, bits, adcRes, invalid int }{
+		{16, 16, 16, -32768}, {61, 16, 16, -32768}, {160, 16, 16, -32768},
+		{80, 8, 8, -128}, {212, 12, 12, -2048}, {24, 24, 24, -8388608}, {32, 32, 32, math.MinInt32},
+	} {
+		if b, r, v := bitsPerSample(c.format), defaultADCRes(c.format), invalidValue(c.format); b != c.bits || r != c.adcRes || v != c.invalid {
+			t.Errorf("format %d: %d bits, ADC resolution %d, invalid %d; want %d, %d, %d", c.format, b, r, v, c.bits, c.adcRes, c.invalid)
+		}
+	}
+}

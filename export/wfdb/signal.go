@@ -2,7 +2,6 @@ package wfdb
 
 import (
 	"fmt"
-	"math"
 	"os"
 	"path/filepath"
 	"time"
@@ -37,36 +36,15 @@ func bitsPerSample(format int) int {
 	return 16
 }
 
-func defaultADCRes(format int) int {
-	switch format {
-	case 80:
-		return 8
-	case 212:
-		return 12
-	case 24:
-		return 24
-	case 32:
-		return 32
-	}
-	return 16
-}
+// defaultADCRes returns the ADC resolution (bits) a header implies when it
+// gives none: the stored width of the format (header(5): 8 for format 80,
+// 12 for 212, 16 otherwise; 24 and 32 for those formats).
+func defaultADCRes(format int) int { return bitsPerSample(format) }
 
 // invalidValue returns the digital value that marks an invalid (missing)
 // sample in a format (WFDB_INVALID_SAMPLE and the per-format table of the
-// WFDB Python package).
-func invalidValue(format int) int {
-	switch format {
-	case 80:
-		return -128
-	case 212:
-		return -2048
-	case 24:
-		return -(1 << 23)
-	case 32:
-		return math.MinInt32
-	}
-	return -32768
-}
+// WFDB Python package): the most negative value of the stored width.
+func invalidValue(format int) int { return -1 << (bitsPerSample(format) - 1) }
 
 // decode unpacks n samples stored in format from b into dst (which must
 // hold n values). b must hold enough bytes (see frameBytes).
@@ -245,7 +223,7 @@ func ReadDigital(dir string, h *Header) ([][]int, error) {
 		s := &h.Signals[i]
 		d := out[i]
 		if s.HasInitVal && len(d) > 0 && d[0] != s.InitVal {
-			h.Warnings = append(h.Warnings, fmt.Sprintf("signal %d (%s): first sample %d, header initial value %d", i, s.Description, d[0], s.InitVal))
+			h.Warnings = append(h.Warnings, initValueWarning(i, s, d[0]))
 		}
 		if s.HasChecksum {
 			var sum int16
@@ -340,19 +318,10 @@ func ReadSegment(heaPath string, from, n int64) (ecg.Record, *Header, error) {
 	for i := range h.Signals {
 		s := &h.Signals[i]
 		if from == 0 && s.HasInitVal && len(dig[i]) > 0 && s.Skew == 0 && dig[i][0] != s.InitVal {
-			h.Warnings = append(h.Warnings, fmt.Sprintf("signal %d (%s): first sample %d, header initial value %d", i, s.Description, dig[i][0], s.InitVal))
+			h.Warnings = append(h.Warnings, initValueWarning(i, s, dig[i][0]))
 		}
 	}
-	phys := make([][]float64, len(dig))
-	for i, d := range dig {
-		s := &h.Signals[i]
-		p := make([]float64, len(d))
-		for t, v := range d {
-			p[t] = s.Physical(v)
-		}
-		phys[i] = p
-	}
-	rec := toRecord(heaPath, h, phys)
+	rec := toRecord(heaPath, h, physical(h, dig))
 	for i := range rec.Signals {
 		rec.Signals[i].Start = float64(from) / h.Fs
 	}
@@ -370,6 +339,12 @@ func ReadSignals(heaPath string) (*Header, [][]float64, error) {
 	if err != nil {
 		return nil, nil, fmt.Errorf("wfdb: %s: %w", heaPath, err)
 	}
+	return h, physical(h, dig), nil
+}
+
+// physical converts the digital samples of each of h's signals to its
+// physical units (NaN for invalid samples).
+func physical(h *Header, dig [][]int) [][]float64 {
 	phys := make([][]float64, len(dig))
 	for i, d := range dig {
 		s := &h.Signals[i]
@@ -379,7 +354,13 @@ func ReadSignals(heaPath string) (*Header, [][]float64, error) {
 		}
 		phys[i] = p
 	}
-	return h, phys, nil
+	return phys
+}
+
+// initValueWarning is the warning for signal i, s, whose first stored
+// sample first differs from the header's initial value.
+func initValueWarning(i int, s *SignalSpec, first int) string {
+	return fmt.Sprintf("signal %d (%s): first sample %d, header initial value %d", i, s.Description, first, s.InitVal)
 }
 
 // ReadRecord reads a WFDB record into an ecg.Record, in millivolts.
