@@ -70,16 +70,38 @@ func blobs(img image.Image) [][2]float64 {
 	return out
 }
 
+// dotGrid returns the centres (on pixel centres) of a 3 × 3 grid of dots
+// on a w × h page, at the fractions m, 0.5 and 1 − m of each side.
+func dotGrid(w, h int, m float64) [][2]float64 {
+	var pts [][2]float64
+	for _, fx := range []float64{m, 0.5, 1 - m} {
+		for _, fy := range []float64{m, 0.5, 1 - m} {
+			pts = append(pts, [2]float64{math.Floor(fx*float64(w)) + 0.5, math.Floor(fy*float64(h)) + 0.5})
+		}
+	}
+	return pts
+}
+
+// worstDotError returns the largest distance (px) between where H puts a
+// printed dot of pts and the nearest dot found in the output, got.
+func worstDotError(H [9]float64, pts, got [][2]float64) float64 {
+	worst := 0.0
+	for _, p := range pts {
+		x, y := Map(H, p[0], p[1])
+		best := math.Inf(1)
+		for _, g := range got {
+			best = min(best, math.Hypot(g[0]-x, g[1]-y))
+		}
+		worst = max(worst, best)
+	}
+	return worst
+}
+
 // H must carry printed points to where they land in the output, within
 // 1 px (measured from the dots' centroids, not from H).
 func TestHomographyMapsPoints(t *testing.T) {
 	w, h := 600, 400
-	var pts [][2]float64
-	for _, fx := range []float64{0.1, 0.5, 0.9} {
-		for _, fy := range []float64{0.1, 0.5, 0.9} {
-			pts = append(pts, [2]float64{math.Floor(fx*float64(w)) + 0.5, math.Floor(fy*float64(h)) + 0.5})
-		}
-	}
+	pts := dotGrid(w, h, 0.1)
 	src := dotPage(w, h, pts)
 	cases := []Options{
 		{},
@@ -99,15 +121,7 @@ func TestHomographyMapsPoints(t *testing.T) {
 			t.Errorf("%+v: found %d dots, want %d", o, len(got), len(pts))
 			continue
 		}
-		worst := 0.0
-		for _, p := range pts {
-			x, y := Map(H, p[0], p[1])
-			best := math.Inf(1)
-			for _, g := range got {
-				best = min(best, math.Hypot(g[0]-x, g[1]-y))
-			}
-			worst = max(worst, best)
-		}
+		worst := worstDotError(H, pts, got)
 		t.Logf("rot %g scale %g×%g persp %g: worst dot error %.3f px", o.RotationDeg, o.ScaleX, o.ScaleY, o.Perspective, worst)
 		if worst > 1 {
 			t.Errorf("%+v: dot %.2f px from H's prediction", o, worst)
@@ -139,12 +153,7 @@ func TestHomographyMapsPoints(t *testing.T) {
 // JPEG and binarisation: dots land within 1 px of H's prediction.
 func TestPresetsKeepGeometry(t *testing.T) {
 	w, h := 900, 600
-	var pts [][2]float64
-	for _, fx := range []float64{0.15, 0.5, 0.85} {
-		for _, fy := range []float64{0.15, 0.5, 0.85} {
-			pts = append(pts, [2]float64{math.Floor(fx*float64(w)) + 0.5, math.Floor(fy*float64(h)) + 0.5})
-		}
-	}
+	pts := dotGrid(w, h, 0.15)
 	src := dotPage(w, h, pts)
 	for _, name := range []string{"scan", "gray", "fax", "lowres", "penmarks"} {
 		o, err := Preset(name, 300, 21)
@@ -157,15 +166,7 @@ func TestPresetsKeepGeometry(t *testing.T) {
 			t.Fatalf("%s: %v", name, err)
 		}
 		got := blobs(out)
-		worst := 0.0
-		for _, p := range pts {
-			x, y := Map(H, p[0], p[1])
-			best := math.Inf(1)
-			for _, g := range got {
-				best = min(best, math.Hypot(g[0]-x, g[1]-y))
-			}
-			worst = max(worst, best)
-		}
+		worst := worstDotError(H, pts, got)
 		t.Logf("%s: %d blobs, worst dot error %.3f px", name, len(got), worst)
 		if len(got) != len(pts) || worst > 1 {
 			t.Errorf("%s: %d blobs (want %d), worst error %.2f px", name, len(got), len(pts), worst)
@@ -348,19 +349,16 @@ func TestLensWarp(t *testing.T) {
 	}
 }
 
-func BenchmarkPhotoA4(b *testing.B) {
-	src := dotPage(3508, 2480, nil)
-	o, _ := Preset("photo", 300, 1)
-	for b.Loop() {
-		if _, _, err := Apply(src, o); err != nil {
-			b.Fatal(err)
-		}
-	}
-}
+func BenchmarkPhotoA4(b *testing.B) { benchPresetA4(b, "photo") }
 
-func BenchmarkScanA4(b *testing.B) {
+func BenchmarkScanA4(b *testing.B) { benchPresetA4(b, "scan") }
+
+// benchPresetA4 applies preset name (seed 1) to a blank landscape A4 page
+// at 300 dpi (3508 × 2480 px).
+func benchPresetA4(b *testing.B, name string) {
+	b.Helper()
 	src := dotPage(3508, 2480, nil)
-	o, _ := Preset("scan", 300, 1)
+	o, _ := Preset(name, 300, 1)
 	for b.Loop() {
 		if _, _, err := Apply(src, o); err != nil {
 			b.Fatal(err)
