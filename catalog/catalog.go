@@ -26,10 +26,15 @@ const (
 	StatusDone    Status = "done"    // every page digitised
 	StatusPartial Status = "partial" // outputs written, but some leads or pages failed
 	StatusFailed  Status = "failed"  // nothing usable; Error says why
+	// StatusStarted marks an input whose digitising began but never
+	// finished: the run was interrupted or killed while it was in flight
+	// (a row still "started" after the run names the input that was being
+	// read when a process died). It is always redone.
+	StatusStarted Status = "started"
 )
 
-// Finished reports whether an input with status s needs no further work
-// while its content is unchanged. Failed inputs are retried on a rerun.
+// Finished reports whether an input with status s has a usable result
+// (done or partial).
 func (s Status) Finished() bool { return s == StatusDone || s == StatusPartial }
 
 // Entry is one catalogued input. Measurements are NaN when unknown (stored
@@ -52,14 +57,48 @@ type Entry struct {
 	QTcMS    float64  // QTc by Bazett's formula, ms
 	Seconds  float64  // processing time, s
 	Finished time.Time
+	// Options is the fingerprint of the options that shape the result
+	// (see Settled); "" in rows written before options were recorded.
+	Options string
+}
+
+// Settled reports whether e, the catalogued entry of an input, makes
+// digitising it again unnecessary when the input's bytes now hash to sha
+// and the run's options fingerprint is options:
+//
+//   - started rows (interrupted) and rows of other content are never
+//     settled;
+//   - done and partial rows are settled when the options match (or the row
+//     predates options fingerprints, so that old catalogues keep resuming);
+//   - failed rows are settled when the options match and the failure is
+//     one the input's bytes decide (class "unreadable" or "no-ecg"),
+//     unless retryFailed is set: a corrupt file stays corrupt, the same
+//     bytes read with the same options fail the same way. Failures on the
+//     output side (disk full, permissions) and internal errors (bugs) are
+//     tried again.
+func (e Entry) Settled(sha, options string, retryFailed bool) bool {
+	if sha == "" || e.SHA256 != sha {
+		return false
+	}
+	switch e.Status {
+	case StatusDone, StatusPartial:
+		return e.Options == "" || e.Options == options
+	case StatusFailed:
+		return !retryFailed && (e.Class == "unreadable" || e.Class == "no-ecg") && e.Options == options
+	}
+	return false
 }
 
 // Columns are the catalogue's CSV columns, in order.
 var Columns = []string{
 	"path", "sha256", "size_bytes", "status", "error_class", "error", "outputs",
 	"pages", "leads_found", "leads", "quality", "heart_rate_bpm", "pr_ms",
-	"qrs_ms", "qt_ms", "qtc_bazett_ms", "seconds", "finished_utc",
+	"qrs_ms", "qt_ms", "qtc_bazett_ms", "seconds", "finished_utc", "options",
 }
+
+// SchemaVersion is the catalogue schema written by this package (SQLite
+// user_version). Version 1 had no options column; Open adds it.
+const SchemaVersion = 2
 
 const schema = `
 CREATE TABLE IF NOT EXISTS inputs (
@@ -80,7 +119,8 @@ CREATE TABLE IF NOT EXISTS inputs (
 	qt_ms          REAL,
 	qtc_bazett_ms  REAL,
 	seconds        REAL,
-	finished_utc   TEXT NOT NULL
+	finished_utc   TEXT NOT NULL,
+	options        TEXT NOT NULL DEFAULT ''
 );
 CREATE INDEX IF NOT EXISTS inputs_status ON inputs(status);
 `
@@ -111,7 +151,53 @@ func Open(path string) (*DB, error) {
 		db.Close()
 		return nil, fmt.Errorf("catalog: open %s: %w: %v", path, ecg.ErrOutput, err)
 	}
+	if err := migrate(db); err != nil {
+		db.Close()
+		return nil, fmt.Errorf("catalog: open %s: %w: %v", path, ecg.ErrOutput, err)
+	}
 	return &DB{db: db, path: path}, nil
+}
+
+// migrate brings a catalogue written by an earlier version to
+// SchemaVersion: version 1 lacks the options column, which is added with
+// an empty string (options unknown) in every existing row. A catalogue from a newer
+// version is refused rather than misread.
+func migrate(db *sql.DB) error {
+	var v int
+	if err := db.QueryRow("PRAGMA user_version").Scan(&v); err != nil {
+		return err
+	}
+	if v > SchemaVersion {
+		return fmt.Errorf("catalogue schema version %d is newer than this program's %d", v, SchemaVersion)
+	}
+	rows, err := db.Query("SELECT name FROM pragma_table_info('inputs')")
+	if err != nil {
+		return err
+	}
+	has := false
+	for rows.Next() {
+		var name string
+		if err := rows.Scan(&name); err != nil {
+			rows.Close()
+			return err
+		}
+		has = has || name == "options"
+	}
+	rows.Close()
+	if err := rows.Err(); err != nil {
+		return err
+	}
+	if !has {
+		if _, err := db.Exec("ALTER TABLE inputs ADD COLUMN options TEXT NOT NULL DEFAULT ''"); err != nil {
+			return err
+		}
+	}
+	if v < SchemaVersion {
+		if _, err := db.Exec(fmt.Sprintf("PRAGMA user_version = %d", SchemaVersion)); err != nil {
+			return err
+		}
+	}
+	return nil
 }
 
 // Path returns the file the catalogue lives in.
@@ -124,7 +210,7 @@ func (d *DB) Close() error {
 }
 
 const selectCols = `path, sha256, size_bytes, status, error_class, error, outputs, pages,
-	leads, quality, heart_rate_bpm, pr_ms, qrs_ms, qt_ms, qtc_bazett_ms, seconds, finished_utc`
+	leads, quality, heart_rate_bpm, pr_ms, qrs_ms, qt_ms, qtc_bazett_ms, seconds, finished_utc, options`
 
 // Get returns the entry for the relative path p; ok is false if there is
 // none.
@@ -151,11 +237,11 @@ func (d *DB) Put(ctx context.Context, e Entry) error {
 		return fmt.Errorf("catalog: put %s: %w: %v", e.Path, ecg.ErrOutput, err)
 	}
 	_, err = tx.ExecContext(ctx, `INSERT OR REPLACE INTO inputs (`+selectCols+`, leads_found)
-		VALUES (?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?)`,
+		VALUES (?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?,?)`,
 		e.Path, e.SHA256, e.Size, string(e.Status), e.Class, e.Error,
 		strings.Join(e.Outputs, ";"), e.Pages, strings.Join(e.Leads, " "),
 		null(e.Quality), null(e.HeartBPM), null(e.PRMS), null(e.QRSMS), null(e.QTMS),
-		null(e.QTcMS), null(e.Seconds), e.Finished.UTC().Format(time.RFC3339), len(e.Leads))
+		null(e.QTcMS), null(e.Seconds), e.Finished.UTC().Format(time.RFC3339), e.Options, len(e.Leads))
 	if err != nil {
 		tx.Rollback()
 		return fmt.Errorf("catalog: put %s: %w: %v", e.Path, ecg.ErrOutput, err)
@@ -206,9 +292,10 @@ func (d *DB) Counts(ctx context.Context) (map[Status]int, error) {
 	return out, rows.Err()
 }
 
-// Merge copies every entry of the catalogue file src into d in one
-// transaction. Where both hold the same path, the entry finished later
-// wins. It returns the number of entries copied or replaced.
+// Merge copies every entry of the catalogue file src into d. Where both
+// hold the same path, the entry finished later wins, except that a
+// started (never finished) entry does not replace a finished or failed
+// one. It returns the number of entries copied or replaced.
 func (d *DB) Merge(ctx context.Context, src string) (int, error) {
 	s, err := Open(src)
 	if err != nil {
@@ -225,7 +312,7 @@ func (d *DB) Merge(ctx context.Context, src string) (int, error) {
 		if err != nil {
 			return n, fmt.Errorf("catalog: merge %s: %w", src, err)
 		}
-		if ok && old.Finished.After(e.Finished) {
+		if ok && (old.Finished.After(e.Finished) || e.Status == StatusStarted && old.Status != StatusStarted) {
 			continue
 		}
 		if err := d.Put(ctx, e); err != nil {
@@ -253,7 +340,7 @@ func (d *DB) WriteCSV(ctx context.Context, w io.Writer) error {
 			strings.Join(e.Outputs, ";"), strconv.Itoa(e.Pages), strconv.Itoa(len(e.Leads)),
 			strings.Join(e.Leads, " "), num(e.Quality, 3), num(e.HeartBPM, 1), num(e.PRMS, 0),
 			num(e.QRSMS, 0), num(e.QTMS, 0), num(e.QTcMS, 0), num(e.Seconds, 3),
-			e.Finished.UTC().Format(time.RFC3339),
+			e.Finished.UTC().Format(time.RFC3339), e.Options,
 		}
 		if err := cw.Write(rec); err != nil {
 			return fmt.Errorf("catalog: csv: %w", err)
@@ -273,7 +360,7 @@ func scanEntry(r scanner) (Entry, error) {
 	var status, outputs, leads, fin string
 	var q, hr, pr, qrs, qt, qtc, secs sql.NullFloat64
 	err := r.Scan(&e.Path, &e.SHA256, &e.Size, &status, &e.Class, &e.Error, &outputs, &e.Pages,
-		&leads, &q, &hr, &pr, &qrs, &qt, &qtc, &secs, &fin)
+		&leads, &q, &hr, &pr, &qrs, &qt, &qtc, &secs, &fin, &e.Options)
 	if err != nil {
 		return e, err
 	}

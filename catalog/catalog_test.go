@@ -3,6 +3,7 @@ package catalog
 import (
 	"bytes"
 	"context"
+	"database/sql"
 	"encoding/csv"
 	"fmt"
 	"math"
@@ -228,4 +229,164 @@ func TestHashFile(t *testing.T) {
 	assert.Equal(t, "ba7816bf8f01cfea414140de5dae2223b00361a396177a9cb410ff61f20015ad", h)
 	_, err = HashFile(p + "-missing")
 	assert.ErrorIs(t, err, ecg.ErrUnreadable)
+}
+
+// schemaV1 is the catalogue schema before the options column (version 1,
+// user_version 0), as older runs left it on disk.
+const schemaV1 = `
+CREATE TABLE inputs (
+	path TEXT PRIMARY KEY, sha256 TEXT NOT NULL, size_bytes INTEGER NOT NULL,
+	status TEXT NOT NULL, error_class TEXT NOT NULL DEFAULT '', error TEXT NOT NULL DEFAULT '',
+	outputs TEXT NOT NULL DEFAULT '', pages INTEGER NOT NULL DEFAULT 0,
+	leads_found INTEGER NOT NULL DEFAULT 0, leads TEXT NOT NULL DEFAULT '',
+	quality REAL, heart_rate_bpm REAL, pr_ms REAL, qrs_ms REAL, qt_ms REAL,
+	qtc_bazett_ms REAL, seconds REAL, finished_utc TEXT NOT NULL
+);
+CREATE INDEX inputs_status ON inputs(status);
+INSERT INTO inputs (path, sha256, size_bytes, status, error_class, error, pages, leads_found, leads, heart_rate_bpm, finished_utc)
+VALUES ('old/a.png', 'aa', 10, 'done', '', '', 1, 2, 'I II', 61, '2026-01-02T03:04:05Z'),
+       ('old/b.png', 'bb', 11, 'failed', 'unreadable', 'b.png: not a PNG file', 0, 0, '', NULL, '2026-01-02T03:04:06Z');
+`
+
+func TestOpenMigratesVersion1(t *testing.T) {
+	ctx := context.Background()
+	p := filepath.Join(t.TempDir(), "v1.sqlite")
+	raw, err := sql.Open("sqlite", p)
+	require.NoError(t, err)
+	_, err = raw.Exec(schemaV1)
+	require.NoError(t, err)
+	require.NoError(t, raw.Close())
+
+	db, err := Open(p)
+	require.NoError(t, err)
+	a, ok, err := db.Get(ctx, "old/a.png")
+	require.NoError(t, err)
+	require.True(t, ok, "rows of the old catalogue survive the migration")
+	assert.Equal(t, StatusDone, a.Status)
+	assert.Equal(t, 61.0, a.HeartBPM)
+	assert.Equal(t, "", a.Options, "options of old rows are unknown")
+	// Old finished rows keep resuming under any options; old failures are
+	// tried again once, since their options are unknown.
+	assert.True(t, a.Settled("aa", "layout=auto", false))
+	b, _, err := db.Get(ctx, "old/b.png")
+	require.NoError(t, err)
+	assert.False(t, b.Settled("bb", "layout=auto", false))
+
+	e := NewEntry("new.png")
+	e.Status, e.SHA256, e.Options = StatusDone, "cc", "layout=auto"
+	require.NoError(t, db.Put(ctx, e))
+	require.NoError(t, db.Close())
+
+	// Reopening a migrated catalogue is a no-op.
+	db, err = Open(p)
+	require.NoError(t, err)
+	defer db.Close()
+	all, err := db.All(ctx)
+	require.NoError(t, err)
+	require.Len(t, all, 3)
+	assert.Equal(t, "new.png", all[0].Path, "ordered by path")
+	assert.Equal(t, "layout=auto", all[0].Options)
+	var v int
+	require.NoError(t, db.db.QueryRow("PRAGMA user_version").Scan(&v))
+	assert.Equal(t, SchemaVersion, v)
+}
+
+func TestOpenRefusesNewerSchema(t *testing.T) {
+	p := filepath.Join(t.TempDir(), "v9.sqlite")
+	raw, err := sql.Open("sqlite", p)
+	require.NoError(t, err)
+	_, err = raw.Exec("PRAGMA user_version = 9")
+	require.NoError(t, err)
+	require.NoError(t, raw.Close())
+	_, err = Open(p)
+	require.Error(t, err)
+	assert.ErrorIs(t, err, ecg.ErrOutput)
+	assert.Contains(t, err.Error(), "newer")
+}
+
+func TestSettled(t *testing.T) {
+	const opts = "layout=auto rate=500"
+	row := func(s Status, class, options string) Entry {
+		e := NewEntry("a.png")
+		e.SHA256, e.Status, e.Class, e.Options = "h1", s, class, options
+		return e
+	}
+	for _, tc := range []struct {
+		name  string
+		e     Entry
+		sha   string
+		opts  string
+		retry bool
+		want  bool
+	}{
+		{"done, same content and options", row(StatusDone, "", opts), "h1", opts, false, true},
+		{"partial, same", row(StatusPartial, "partial", opts), "h1", opts, false, true},
+		{"done, content changed", row(StatusDone, "", opts), "h2", opts, false, false},
+		{"done, options changed", row(StatusDone, "", opts), "h1", "layout=6x2 rate=500", false, false},
+		{"done, row predates options", row(StatusDone, "", ""), "h1", opts, false, true},
+		{"done, retry-failed does not redo it", row(StatusDone, "", opts), "h1", opts, true, true},
+		{"failed corrupt file, same", row(StatusFailed, "unreadable", opts), "h1", opts, false, true},
+		{"failed no ECG, same", row(StatusFailed, "no-ecg", opts), "h1", opts, false, true},
+		{"failed, retry asked", row(StatusFailed, "unreadable", opts), "h1", opts, true, false},
+		{"failed, options changed", row(StatusFailed, "no-ecg", opts), "h1", "layout=auto rate=250", false, false},
+		{"failed, content changed", row(StatusFailed, "unreadable", opts), "h2", opts, false, false},
+		{"failed on the output side", row(StatusFailed, "output", opts), "h1", opts, false, false},
+		{"failed by a bug (panic)", row(StatusFailed, "internal", opts), "h1", opts, false, false},
+		{"failed, row predates options", row(StatusFailed, "unreadable", ""), "h1", opts, false, false},
+		{"started (interrupted)", row(StatusStarted, "", opts), "h1", opts, false, false},
+		{"input unreadable now (no hash)", row(StatusDone, "", opts), "", opts, false, false},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			assert.Equal(t, tc.want, tc.e.Settled(tc.sha, tc.opts, tc.retry))
+		})
+	}
+}
+
+func TestMergeStartedRowsDoNotHideResults(t *testing.T) {
+	ctx := context.Background()
+	dir := t.TempDir()
+	t0 := time.Date(2026, 1, 1, 0, 0, 0, 0, time.UTC)
+	put := func(p string, e Entry) {
+		db, err := Open(p)
+		require.NoError(t, err)
+		require.NoError(t, db.Put(ctx, e))
+		require.NoError(t, db.Close())
+	}
+	done := NewEntry("x.png")
+	done.Status, done.Finished = StatusDone, t0
+	started := NewEntry("x.png")
+	started.Status, started.Finished = StatusStarted, t0.Add(time.Hour)
+	a, b := filepath.Join(dir, "a.sqlite"), filepath.Join(dir, "b.sqlite")
+	put(a, done)
+	put(b, started) // a later run of the same input that was killed
+	m, err := Open(filepath.Join(dir, "m.sqlite"))
+	require.NoError(t, err)
+	defer m.Close()
+	for _, src := range []string{a, b} {
+		_, err := m.Merge(ctx, src)
+		require.NoError(t, err)
+	}
+	got, _, err := m.Get(ctx, "x.png")
+	require.NoError(t, err)
+	assert.Equal(t, StatusDone, got.Status)
+}
+
+// BenchmarkPut is the cost of committing one finished input (one
+// transaction in WAL mode with synchronous=NORMAL), which every batch
+// worker pays once or twice per input.
+func BenchmarkPut(b *testing.B) {
+	ctx := context.Background()
+	db, err := Open(filepath.Join(b.TempDir(), "c.sqlite"))
+	require.NoError(b, err)
+	defer db.Close()
+	e := NewEntry("")
+	e.SHA256, e.Status, e.Outputs, e.Leads = "0123456789abcdef", StatusDone, []string{"a.csv", "a.json"}, []string{"I", "II"}
+	i := 0
+	for b.Loop() {
+		e.Path = fmt.Sprintf("ward/%06d.png", i)
+		i++
+		if err := db.Put(ctx, e); err != nil {
+			b.Fatal(err)
+		}
+	}
 }

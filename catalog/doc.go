@@ -3,8 +3,13 @@
 // and the key measurements of its first page. The catalogue is an embedded
 // SQLite database (modernc.org/sqlite, pure Go) in write-ahead-log mode;
 // every finished input is committed in its own transaction, so a run that
-// is killed at any moment keeps everything already finished and a rerun
-// skips inputs whose hash has not changed.
+// is killed at any moment keeps everything already finished. An input is
+// marked "started" before it is digitised, so the input in flight when a
+// process died is named and redone. Each row also records a fingerprint
+// of the options that shaped it, and Entry.Settled decides what a rerun
+// may skip: the same bytes (SHA-256) read with the same options, finished
+// or failed in a way the bytes decide (a corrupt file stays corrupt).
+// Catalogues of schema version 1 (no options column) are migrated on Open.
 //
 // The package also lists the inputs of a folder tree (Scan), splits them
 // deterministically into shards (Shard) so that independent machines can

@@ -9,7 +9,9 @@ import (
 	"os"
 	"path"
 	"path/filepath"
+	"regexp"
 	"runtime"
+	"sort"
 	"strings"
 	"sync"
 	"time"
@@ -29,6 +31,7 @@ type batchOptions struct {
 	Shard       catalog.Shard
 	CatalogPath string // default OutDir/catalog.sqlite
 	Force       bool   // redo inputs even when catalogued as finished
+	RetryFailed bool   // try again inputs that failed with the same content and options
 	Quiet       bool
 	Pipe        pipelineFlags
 
@@ -74,8 +77,11 @@ DIR. It keeps a catalogue, DIR/catalog.sqlite (SQLite), with one row per
 input: its SHA-256, status, error, outputs and key measurements (HR, PR,
 QRS, QT, QTc Bazett, leads found, quality). Every finished input is
 committed at once, so the run can be stopped at any moment and rerun: inputs
-already finished with unchanged content are skipped; failed ones are tried
-again. At the end the catalogue is also written as DIR/catalog.csv.
+already finished, or failed, with unchanged content and the same digitising
+options are skipped (a corrupt file stays corrupt; --retry-failed tries
+failed ones again, --force redoes everything); changed inputs, inputs read
+with other options and inputs in flight when an earlier run stopped are
+redone. At the end the catalogue is also written as DIR/catalog.csv.
 
 --shard K/N processes a fixed share of the inputs (FNV-1a of the relative
 path mod N), so N machines can split one archive; combine their catalogues
@@ -118,17 +124,43 @@ qualified clinicians under local rules and licensed practice.`,
 	f.IntVarP(&opts.Workers, "jobs", "j", runtime.NumCPU(), "files digitised in parallel")
 	f.StringVar(&shard, "shard", "", "process only share K of N of the inputs, e.g. 2/8")
 	f.StringVar(&opts.CatalogPath, "catalog", "", "catalogue file (default DIR/catalog.sqlite)")
-	f.BoolVar(&opts.Force, "force", false, "redo inputs already finished")
+	f.BoolVar(&opts.Force, "force", false, "redo every input, even those already finished or failed")
+	f.BoolVar(&opts.RetryFailed, "retry-failed", false, "try again inputs that failed before with the same content and options")
 	f.BoolVarP(&opts.Quiet, "quiet", "q", false, "print only the final summary")
 	opts.Pipe.register(cmd)
 	cmd.AddCommand(newBatchMergeCmd(ios), newBatchExportCmd(ios))
 	return cmd
 }
 
-// batchStats counts a run's inputs.
+// batchStats counts a run's inputs. Skipped counts every input not
+// digitised again; SkippedFailed those of them that had failed before.
 type batchStats struct {
-	Total, Done, Partial, Failed, Skipped, Pages int
-	Elapsed                                      time.Duration
+	Total, Done, Partial, Failed, Skipped, SkippedFailed, Pages int
+	Elapsed                                                     time.Duration
+	// FailedBefore lists inputs skipped because they failed before with
+	// the same content and options (at most maxListed), with their reason.
+	FailedBefore []catalog.Entry
+}
+
+// maxListed bounds the failed-before inputs listed in the summary.
+const maxListed = 10
+
+// optionsFingerprint names, in a fixed order, every digitising option
+// that shapes an input's result or outputs (not -j, --shard or --quiet):
+// a catalogued result counts for a rerun only when it was made with the
+// same fingerprint (catalog.Entry.Settled).
+func optionsFingerprint(p *pipelineFlags) string {
+	layout := strings.TrimSpace(p.Layout)
+	if layout == "" {
+		layout = "auto"
+	}
+	formats := append([]string(nil), p.Formats...)
+	if len(formats) == 0 {
+		formats = []string{"csv", "json"}
+	}
+	sort.Strings(formats)
+	return fmt.Sprintf("layout=%s speed=%g gain=%g dpi=%g rate=%g max-pixels=%d formats=%s",
+		layout, p.SpeedMMS, p.GainMMMV, p.DPI, p.RateHz, p.MaxPixels, strings.Join(formats, ","))
 }
 
 func runBatch(ctx context.Context, ios *IOStreams, opts *batchOptions) error {
@@ -153,6 +185,24 @@ func runBatch(ctx context.Context, ios *IOStreams, opts *batchOptions) error {
 		return fmt.Errorf("batch: %w", err)
 	}
 	defer db.Close()
+	// What earlier runs left, read once: workers consult this map instead
+	// of querying the database per input.
+	all, err := db.All(ctx)
+	if err != nil {
+		return fmt.Errorf("batch: %w: %v", ecg.ErrOutput, err)
+	}
+	prev := make(map[string]catalog.Entry, len(all))
+	for _, e := range all {
+		prev[e.Path] = e
+	}
+	fingerprint := optionsFingerprint(&opts.Pipe)
+	// Inputs in flight when an earlier run was killed may have left
+	// temporary files beside their outputs; no one writes them any more.
+	for rel, e := range prev {
+		if b, ok := bases[rel]; ok && e.Status == catalog.StatusStarted {
+			removeStaleTemps(filepath.Join(opts.OutDir, filepath.FromSlash(b)))
+		}
+	}
 	process := opts.process
 	if process == nil {
 		process = opts.Pipe.processor(ios)
@@ -175,7 +225,8 @@ func runBatch(ctx context.Context, ios *IOStreams, opts *batchOptions) error {
 	for range min(opts.Workers, max(1, len(inputs))) {
 		wg.Go(func() {
 			for in := range jobs {
-				e, skipped, err := batchOne(ctx, db, in, opts, bases[in.Rel], process)
+				old, hadOld := prev[in.Rel]
+				e, skipped, err := batchOne(ctx, db, in, opts, fingerprint, old, hadOld, bases[in.Rel], process)
 				mu.Lock()
 				switch {
 				case err != nil:
@@ -184,6 +235,12 @@ func runBatch(ctx context.Context, ios *IOStreams, opts *batchOptions) error {
 					}
 				case skipped:
 					st.Skipped++
+					if e.Status == catalog.StatusFailed {
+						st.SkippedFailed++
+						if len(st.FailedBefore) < maxListed {
+							st.FailedBefore = append(st.FailedBefore, e)
+						}
+					}
 				default:
 					st.Pages += e.Pages
 					switch e.Status {
@@ -195,9 +252,13 @@ func runBatch(ctx context.Context, ios *IOStreams, opts *batchOptions) error {
 						st.Failed++
 					}
 				}
+				redo := hadOld && old.Status == catalog.StatusStarted && !skipped && err == nil
 				switch {
 				case err != nil || skipped || opts.Quiet:
 				case !ios.IsTerminal:
+					if redo {
+						fmt.Fprintf(ios.ErrOut, "redone  %s: it was in flight when an earlier run stopped\n", e.Path)
+					}
 					fmt.Fprintln(ios.ErrOut, logLine(e))
 				case e.Status != catalog.StatusDone:
 					// Problems scroll above the progress bar.
@@ -243,32 +304,41 @@ feed:
 	case st.Failed > 0 || st.Partial > 0:
 		return fmt.Errorf("batch: %w: %d of %d inputs failed and %d were partial; reasons are in %s",
 			ecg.ErrPartial, st.Failed, st.Total, st.Partial, csvPath)
+	case st.SkippedFailed > 0:
+		// Nothing new failed, but the archive still holds failures: the
+		// same exit code as the run that found them.
+		return fmt.Errorf("batch: %w: %d of %d inputs failed in an earlier run and were not tried again (--retry-failed to try); reasons are in %s",
+			ecg.ErrPartial, st.SkippedFailed, st.Total, csvPath)
 	}
 	return nil
 }
 
-// batchOne hashes, checks, digitises and catalogues one input. skipped is
-// true when the catalogue already holds a finished result for the same
-// content. err is non-nil only for failures that must stop the run (the
-// catalogue cannot be written) or an interruption.
-func batchOne(ctx context.Context, db *catalog.DB, in catalog.Input, opts *batchOptions,
-	base string, process fileProcessor) (e catalog.Entry, skipped bool, err error) {
+// batchOne hashes, checks, digitises and catalogues one input. old (when
+// hadOld) is the input's row from an earlier run; skipped is true, and old
+// is returned, when that row settles the input (catalog.Entry.Settled:
+// finished, or failed, with the same content and options). Before
+// digitising, a "started" row is committed so that a run killed while the
+// input is in flight leaves a trace of it, and the rerun redoes it. err is
+// non-nil only for failures that must stop the run (the catalogue cannot
+// be written) or an interruption.
+func batchOne(ctx context.Context, db *catalog.DB, in catalog.Input, opts *batchOptions, fingerprint string,
+	old catalog.Entry, hadOld bool, base string, process fileProcessor) (e catalog.Entry, skipped bool, err error) {
 	if ctx.Err() != nil {
 		return e, false, ctx.Err()
 	}
 	e = catalog.NewEntry(in.Rel)
 	e.Size = in.Size
+	e.Options = fingerprint
 	t0 := time.Now()
 	sum, herr := catalog.HashFile(in.Abs)
 	e.SHA256 = sum
-	if herr == nil && !opts.Force {
-		old, ok, gerr := db.Get(ctx, in.Rel)
-		if gerr != nil {
-			return e, false, gerr
-		}
-		if ok && old.SHA256 == sum && old.Status.Finished() {
-			return old, true, nil
-		}
+	if herr == nil && !opts.Force && hadOld && old.Settled(sum, fingerprint, opts.RetryFailed) {
+		return old, true, nil
+	}
+	started := e
+	started.Status, started.Finished = catalog.StatusStarted, t0
+	if err := db.Put(context.WithoutCancel(ctx), started); err != nil {
+		return e, false, err
 	}
 	var res fileResult
 	perr := herr
@@ -280,8 +350,10 @@ func batchOne(ctx context.Context, db *catalog.DB, in catalog.Input, opts *batch
 			res, perr = safeProcess(ctx, process, in.Abs, outBase)
 		}
 	}
-	if ctx.Err() != nil {
-		// Interrupted mid-file: record nothing, the rerun redoes it.
+	if ctx.Err() != nil && !(perr == nil || errors.Is(perr, ecg.ErrPartial) && res.Pages > 0) {
+		// Interrupted mid-file: the row stays "started" and the rerun
+		// redoes the input. (A file that was completed just as the run
+		// was stopped is recorded below.)
 		return e, false, ctx.Err()
 	}
 	e.Seconds = time.Since(t0).Seconds()
@@ -306,10 +378,35 @@ func batchOne(ctx context.Context, db *catalog.DB, in catalog.Input, opts *batch
 		e.Status, e.Class, e.Error = catalog.StatusFailed, errorClass(perr), oneLine(perr)
 	}
 	e.Finished = time.Now()
-	if err := db.Put(ctx, e); err != nil {
+	// Committed even if the run is being interrupted right now: the
+	// outputs are complete, and the row must say so.
+	if err := db.Put(context.WithoutCancel(ctx), e); err != nil {
 		return e, false, err
 	}
 	return e, false, nil
+}
+
+// removeStaleTemps deletes the hidden temporary files (".NAME.tmpNNN",
+// internal/atomicfile) that an interrupted write of the outputs of outBase
+// (outBase.csv, outBase-p2.json, outBase-overlay.png, …) left in its
+// folder. Only names of exactly that form are touched, so the temporary
+// files of other inputs ("outBase-b.csv") are left alone; errors are
+// ignored (a leftover is hidden and never read).
+func removeStaleTemps(outBase string) {
+	dir, stem := filepath.Split(outBase)
+	if dir == "" {
+		dir = "."
+	}
+	ents, err := os.ReadDir(dir)
+	if err != nil {
+		return
+	}
+	re := regexp.MustCompile(`^\.` + regexp.QuoteMeta(stem) + `(-p[0-9]+)?(-overlay)?\.[A-Za-z0-9]+\.tmp[0-9]*$`)
+	for _, d := range ents {
+		if !d.IsDir() && re.MatchString(d.Name()) {
+			os.Remove(filepath.Join(dir, d.Name()))
+		}
+	}
 }
 
 // safeProcess calls process, turning a panic (a bug) into an internal
@@ -385,8 +482,22 @@ func printBatchSummary(w io.Writer, st batchStats, catPath, csvPath string) {
 	if s := st.Elapsed.Seconds(); s > 0 {
 		rate = float64(st.Pages) / s
 	}
-	fmt.Fprintf(w, "batch: %d inputs: %d done, %d partial, %d failed, %d skipped (already done); %d pages in %s (%.2f pages/s)\n",
-		st.Total, st.Done, st.Partial, st.Failed, st.Skipped, st.Pages, st.Elapsed.Round(time.Millisecond), rate)
+	skipped := fmt.Sprintf("%d skipped (already done)", st.Skipped)
+	if st.SkippedFailed > 0 {
+		skipped = fmt.Sprintf("%d skipped (%d already done, %d failed before with the same content and options)",
+			st.Skipped, st.Skipped-st.SkippedFailed, st.SkippedFailed)
+	}
+	fmt.Fprintf(w, "batch: %d inputs: %d done, %d partial, %d failed, %s; %d pages in %s (%.2f pages/s)\n",
+		st.Total, st.Done, st.Partial, st.Failed, skipped, st.Pages, st.Elapsed.Round(time.Millisecond), rate)
+	for _, e := range st.FailedBefore {
+		fmt.Fprintf(w, "  not retried %s: %s\n", e.Path, e.Error)
+	}
+	if st.SkippedFailed > 0 {
+		if more := st.SkippedFailed - len(st.FailedBefore); more > 0 {
+			fmt.Fprintf(w, "  … and %d more (see the catalogue)\n", more)
+		}
+		fmt.Fprintln(w, "  (--retry-failed tries them again)")
+	}
 	fmt.Fprintf(w, "catalogue: %s (CSV copy: %s)\n", catPath, csvPath)
 	fmt.Fprintln(w, caution)
 }
@@ -500,8 +611,9 @@ later wins. A CSV copy is written next to OUT.`,
 			if err != nil {
 				return fmt.Errorf("batch merge: %w", err)
 			}
-			fmt.Fprintf(ios.Out, "%s: %d done, %d partial, %d failed (CSV copy: %s)\n", out,
-				counts[catalog.StatusDone], counts[catalog.StatusPartial], counts[catalog.StatusFailed], csvPath)
+			fmt.Fprintf(ios.Out, "%s: %d done, %d partial, %d failed, %d started but not finished (CSV copy: %s)\n", out,
+				counts[catalog.StatusDone], counts[catalog.StatusPartial], counts[catalog.StatusFailed],
+				counts[catalog.StatusStarted], csvPath)
 			return nil
 		},
 	}

@@ -6,6 +6,7 @@ import (
 	"fmt"
 	"io"
 	"os"
+	"os/exec"
 	"path/filepath"
 	"sort"
 	"strings"
@@ -127,20 +128,53 @@ func TestBatchBadFilesDoNotStopTheRun(t *testing.T) {
 	assert.Contains(t, stdout.String(), "Caution")
 	assert.Contains(t, stderr.String(), "failed  ward1/b.jpg")
 
-	// Rerun: finished inputs are skipped, failed ones retried.
+	// Rerun: finished inputs are skipped, and so are the corrupt and the
+	// blank file (same bytes, same options: they would fail the same way),
+	// with their reasons in the summary; the crash (a bug) is tried again.
 	calls.Store(0)
 	ios, stdout, _ = testIOS()
 	err = runBatch(context.Background(), ios, opts)
-	assert.Equal(t, ExitPartial, ExitCode(err))
-	assert.EqualValues(t, 3, calls.Load(), "only the three failed inputs are tried again")
-	assert.Contains(t, stdout.String(), "3 skipped")
+	assert.Equal(t, ExitPartial, ExitCode(err), "failures of an earlier run still make the archive partial: %v", err)
+	assert.EqualValues(t, 1, calls.Load(), "only the crashed input is tried again")
+	assert.Contains(t, stdout.String(), "0 done, 0 partial, 1 failed, 5 skipped (3 already done, 2 failed before with the same content and options)")
+	assert.Contains(t, stdout.String(), "not retried ward1/b.jpg: b.jpg: unreadable input: not a PNG file")
+	assert.Contains(t, stdout.String(), "not retried ward2/d.png: d.png: no ECG found: blank page")
+	assert.Contains(t, stdout.String(), "--retry-failed")
 
-	// A changed input is redone even though it had finished.
-	writeTree(t, in, map[string]string{"ward1/a.png": "good a, rescanned"})
+	// --retry-failed tries the failed inputs (and only them) again.
+	calls.Store(0)
+	ios, stdout, _ = testIOS()
+	retry := *opts
+	retry.RetryFailed = true
+	_ = runBatch(context.Background(), ios, &retry)
+	assert.EqualValues(t, 3, calls.Load())
+	assert.Contains(t, stdout.String(), "3 failed, 3 skipped (already done)")
+
+	// Options that shape the result redo everything, failed or not.
 	calls.Store(0)
 	ios, _, _ = testIOS()
-	_ = runBatch(context.Background(), ios, opts)
-	assert.EqualValues(t, 4, calls.Load())
+	other := *opts
+	other.Pipe.RateHz = 250
+	_ = runBatch(context.Background(), ios, &other)
+	assert.EqualValues(t, 6, calls.Load(), "every input is redone at another sample rate")
+	assert.Equal(t, optionsFingerprint(&other.Pipe), catalogRows(t, filepath.Join(out, "catalog.sqlite"))["ward1/b.jpg"].Options)
+
+	// -j, --quiet and --shard do not change results: nothing is redone.
+	calls.Store(0)
+	ios, _, _ = testIOS()
+	same := other
+	same.Workers, same.Quiet = 1, true
+	_ = runBatch(context.Background(), ios, &same)
+	assert.EqualValues(t, 1, calls.Load(), "only the crash again")
+
+	// A changed input is redone even though it had finished, and a
+	// corrupt file that was replaced by a good one is read again.
+	writeTree(t, in, map[string]string{"ward1/a.png": "good a, rescanned", "ward1/b.jpg": "good b, rescanned"})
+	calls.Store(0)
+	ios, _, _ = testIOS()
+	_ = runBatch(context.Background(), ios, &other)
+	assert.EqualValues(t, 3, calls.Load())
+	assert.Equal(t, catalog.StatusDone, catalogRows(t, filepath.Join(out, "catalog.sqlite"))["ward1/b.jpg"].Status)
 }
 
 func TestBatchShardsAndMerge(t *testing.T) {
@@ -176,6 +210,46 @@ func TestBatchShardsAndMerge(t *testing.T) {
 	assert.True(t, strings.HasPrefix(stdout.String(), strings.Join(catalog.Columns, ",")))
 }
 
+// checkConsistent verifies what a stopped batch must leave in out: every
+// catalogued done input has all its outputs, complete (want), under their
+// final names; every final-named CSV is complete; no temporary file
+// remains unless temps is true. It returns the rows.
+func checkConsistent(t *testing.T, out string, want string, temps bool) map[string]catalog.Entry {
+	t.Helper()
+	rows := catalogRows(t, filepath.Join(out, "catalog.sqlite"))
+	for rel, e := range rows {
+		switch e.Status {
+		case catalog.StatusDone:
+			require.NotEmpty(t, e.Outputs, rel)
+			for _, o := range e.Outputs {
+				b, err := os.ReadFile(filepath.Join(out, filepath.FromSlash(o)))
+				require.NoError(t, err, "output of a finished input is missing: %s", o)
+				assert.Equal(t, want, string(b), "output %s is incomplete", o)
+			}
+		case catalog.StatusStarted:
+			assert.Empty(t, e.Outputs, rel)
+		default:
+			t.Errorf("%s: unexpected status %s", rel, e.Status)
+		}
+	}
+	err := filepath.WalkDir(out, func(p string, d os.DirEntry, err error) error {
+		require.NoError(t, err)
+		switch {
+		case strings.Contains(d.Name(), ".tmp"):
+			assert.True(t, temps, "temporary file left: %s", p)
+		case strings.HasSuffix(p, ".csv") && d.Name() != "catalog.csv":
+			b, err := os.ReadFile(p)
+			require.NoError(t, err)
+			assert.Equal(t, want, string(b), "half-written output under its final name: %s", p)
+		}
+		return nil
+	})
+	require.NoError(t, err)
+	return rows
+}
+
+const fakeCSV = "time_s,I\n0,0.1\n"
+
 func TestBatchInterruptKeepsFinishedWork(t *testing.T) {
 	in, out := t.TempDir(), t.TempDir()
 	files := map[string]string{}
@@ -189,31 +263,187 @@ func TestBatchInterruptKeepsFinishedWork(t *testing.T) {
 	proc := func(c context.Context, p, o string) (fileResult, error) {
 		if calls.Load() == 5 {
 			cancel()
+			// An input interrupted in flight: the pipeline returns the
+			// context's error and writes nothing.
+			calls.Add(1)
+			return fileResult{}, c.Err()
+		}
+		if calls.Load() == 4 {
+			// An input that completes just as the run is stopped is
+			// recorded, not thrown away.
+			defer cancel()
 		}
 		return inner(c, p, o)
 	}
 	ios, _, _ := testIOS()
-	err := runBatch(ctx, ios, &batchOptions{InputDir: in, OutDir: out, Workers: 1, process: proc})
+	err := runBatch(ctx, ios, &batchOptions{InputDir: in, OutDir: out, Workers: 2, process: proc})
 	require.Error(t, err)
 	assert.Equal(t, ExitInterrupted, ExitCode(err))
-	rows := catalogRows(t, filepath.Join(out, "catalog.sqlite"))
-	assert.Len(t, rows, 5, "inputs finished before the interruption are catalogued, the one in flight is not")
-	for rel, e := range rows {
-		assert.FileExists(t, filepath.Join(out, strings.TrimSuffix(rel, ".png")+".csv"))
-		assert.Equal(t, catalog.StatusDone, e.Status)
+	rows := checkConsistent(t, out, fakeCSV, false)
+	done, started := 0, 0
+	for _, e := range rows {
+		switch e.Status {
+		case catalog.StatusDone:
+			done++
+		case catalog.StatusStarted:
+			started++
+		}
 	}
-	// No temporary files anywhere.
+	assert.GreaterOrEqual(t, done, 5, "inputs finished before the interruption are catalogued")
+	assert.GreaterOrEqual(t, started, 1, "the input in flight is marked started")
+	assert.LessOrEqual(t, started, 2, "at most one input in flight per worker")
+	assert.Equal(t, int(calls.Load()), done+started)
+
+	// Resuming finishes the rest, redoing the started ones but none of
+	// the finished.
+	calls.Store(0)
+	ios, _, stderr := testIOS()
+	require.NoError(t, runBatch(context.Background(), ios, &batchOptions{InputDir: in, OutDir: out, Workers: 2, process: inner}))
+	assert.EqualValues(t, 20-done, calls.Load())
+	assert.Contains(t, stderr.String(), "in flight when an earlier run stopped")
+	rows = checkConsistent(t, out, fakeCSV, false)
+	assert.Len(t, rows, 20)
+	for rel, e := range rows {
+		assert.Equal(t, catalog.StatusDone, e.Status, rel)
+	}
+}
+
+// TestBatchKilledProcess kills (SIGKILL: no clean-up code runs) a batch
+// in a child process while files are being written, then checks that the
+// catalogue opens and agrees with the outputs, that no output is
+// half-written under its final name, and that a rerun completes the
+// archive and removes the leftover temporary files.
+func TestBatchKilledProcess(t *testing.T) {
+	if dir := os.Getenv("TRACELIFT_TEST_KILL_CHILD"); dir != "" {
+		killChild(t, dir)
+		return
+	}
+	if testing.Short() {
+		t.Skip("starts a child process")
+	}
+	base := t.TempDir()
+	in, out := filepath.Join(base, "in"), filepath.Join(base, "out")
+	files := map[string]string{}
+	for i := range 24 {
+		files[fmt.Sprintf("w%d/s%02d.png", i%2, i)] = "good"
+	}
+	writeTree(t, in, files)
+	cmd := exec.Command(os.Args[0], "-test.run=^TestBatchKilledProcess$")
+	cmd.Env = append(os.Environ(), "TRACELIFT_TEST_KILL_CHILD="+base)
+	require.NoError(t, cmd.Start())
+	// Kill once a few inputs are finished, at an arbitrary moment inside
+	// the writing of others.
+	deadline := time.Now().Add(30 * time.Second)
+	for {
+		n := 0
+		for _, w := range []string{"w0", "w1"} {
+			ents, _ := os.ReadDir(filepath.Join(out, w))
+			for _, e := range ents {
+				if strings.HasSuffix(e.Name(), ".csv") && !strings.HasPrefix(e.Name(), ".") {
+					n++
+				}
+			}
+		}
+		if n >= 4 {
+			break
+		}
+		if time.Now().After(deadline) {
+			cmd.Process.Kill()
+			t.Fatal("the child batch did not get going")
+		}
+		time.Sleep(5 * time.Millisecond)
+	}
+	time.Sleep(37 * time.Millisecond)
+	require.NoError(t, cmd.Process.Kill())
+	_ = cmd.Wait()
+
+	want := slowCSV()
+	rows := checkConsistent(t, out, want, true)
+	done := 0
+	for _, e := range rows {
+		if e.Status == catalog.StatusDone {
+			done++
+		}
+	}
+	var temps []string
 	filepath.WalkDir(out, func(p string, d os.DirEntry, err error) error {
-		assert.NotContains(t, d.Name(), ".tmp-", p)
+		if err == nil && strings.Contains(d.Name(), ".tmp") {
+			temps = append(temps, d.Name())
+		}
 		return nil
 	})
+	t.Logf("killed with %d of 24 inputs done; temporary files left: %v", done, temps)
+	assert.Less(t, done, 24, "killed before the end")
+	assert.GreaterOrEqual(t, done, 3)
 
-	// Resuming finishes the rest without redoing the first five.
-	calls.Store(0)
-	ios, _, _ = testIOS()
-	require.NoError(t, runBatch(context.Background(), ios, &batchOptions{InputDir: in, OutDir: out, Workers: 2, process: inner}))
-	assert.EqualValues(t, 15, calls.Load())
-	assert.Len(t, catalogRows(t, filepath.Join(out, "catalog.sqlite")), 20)
+	var calls atomic.Int32
+	ios, _, _ := testIOS()
+	require.NoError(t, runBatch(context.Background(), ios, &batchOptions{InputDir: in, OutDir: out, Workers: 2, process: slowProcess(&calls, 0)}))
+	assert.EqualValues(t, 24-done, calls.Load(), "the rerun redoes exactly the unfinished inputs")
+	rows = checkConsistent(t, out, want, false)
+	assert.Len(t, rows, 24)
+}
+
+// slowCSV is the output of slowProcess: 64 lines of 1 kB.
+func slowCSV() string {
+	var b strings.Builder
+	for i := range 64 {
+		fmt.Fprintf(&b, "%04d,%s\n", i, strings.Repeat("x", 1018))
+	}
+	return b.String()
+}
+
+// slowProcess writes slowCSV to outBase.csv through atomicfile, pausing
+// between lines so that a kill lands inside a write.
+func slowProcess(calls *atomic.Int32, pause time.Duration) fileProcessor {
+	want := slowCSV()
+	return func(ctx context.Context, in, outBase string) (fileResult, error) {
+		calls.Add(1)
+		out := outBase + ".csv"
+		err := atomicfile.WriteFile(out, func(w io.Writer) error {
+			for _, line := range strings.SplitAfter(want, "\n") {
+				if _, err := io.WriteString(w, line); err != nil {
+					return err
+				}
+				if f, ok := w.(interface{ Flush() error }); ok {
+					f.Flush()
+				}
+				time.Sleep(pause)
+			}
+			return nil
+		})
+		if err != nil {
+			return fileResult{}, err
+		}
+		return fileResult{Pages: 1, Outputs: []string{out}, First: unknownSummary()}, nil
+	}
+}
+
+// killChild is the batch run that TestBatchKilledProcess kills.
+func killChild(t *testing.T, base string) {
+	var calls atomic.Int32
+	ios, _, _ := testIOS()
+	_ = runBatch(context.Background(), ios, &batchOptions{InputDir: filepath.Join(base, "in"),
+		OutDir: filepath.Join(base, "out"), Workers: 2, process: slowProcess(&calls, time.Millisecond)})
+	t.Error("the child batch was not killed")
+}
+
+func TestRemoveStaleTemps(t *testing.T) {
+	dir := t.TempDir()
+	names := []string{
+		"a.csv", ".a.csv.tmp123", ".a-p2.json.tmp9", ".a-overlay.png.tmp44", // a's
+		".a-b.csv.tmp5", ".ab.csv.tmp6", ".a.csv", "a.csv.tmp7", // not a's temporary files
+	}
+	for _, n := range names {
+		require.NoError(t, os.WriteFile(filepath.Join(dir, n), nil, 0o644))
+	}
+	removeStaleTemps(filepath.Join(dir, "a"))
+	var left []string
+	ents, _ := os.ReadDir(dir)
+	for _, e := range ents {
+		left = append(left, e.Name())
+	}
+	assert.ElementsMatch(t, []string{"a.csv", ".a-b.csv.tmp5", ".ab.csv.tmp6", ".a.csv", "a.csv.tmp7"}, left)
 }
 
 func TestBatchOutputUnwritable(t *testing.T) {
