@@ -80,24 +80,19 @@ func globalRef(leads [][]wave) refIntervals {
 		}
 		beats = append(beats, beat{r: p, qOn: nan, qOff: nan, pOn: nan, pOff: nan, tOff: nan})
 	}
-	minN := func(a, b float64) float64 {
-		if math.IsNaN(a) {
-			return b
+	// skipNaN makes a two-argument min or max ignore a NaN argument.
+	skipNaN := func(f func(a, b float64) float64) func(a, b float64) float64 {
+		return func(a, b float64) float64 {
+			if math.IsNaN(a) {
+				return b
+			}
+			if math.IsNaN(b) {
+				return a
+			}
+			return f(a, b)
 		}
-		if math.IsNaN(b) {
-			return a
-		}
-		return math.Min(a, b)
 	}
-	maxN := func(a, b float64) float64 {
-		if math.IsNaN(a) {
-			return b
-		}
-		if math.IsNaN(b) {
-			return a
-		}
-		return math.Max(a, b)
-	}
+	minN, maxN := skipNaN(math.Min), skipNaN(math.Max)
 	for _, ws := range leads {
 		for i, w := range ws {
 			if w.sym != "N" {
@@ -193,40 +188,56 @@ var ludbLeads = []string{"i", "ii", "iii", "avr", "avl", "avf", "v1", "v2", "v3"
 // are the target; the asserted bounds are set just above what this
 // implementation reaches, and the gap is reported.
 func TestIntervalsLUDB(t *testing.T) {
-	st := evalLUDB(t, nil, true)
-	for _, s := range st {
-		t.Logf("LUDB %s", s)
-	}
-	checkBounds(t, "LUDB", st, ludbBounds)
-	// P presence: found in all 22 records whose experts marked P;
-	// reported in 1 of the 7 without (record 45, atrial and ventricular
-	// pacing).
-	if st[0].foundP < 22 || st[0].falseP > 1 {
-		t.Errorf("LUDB P found in %d of %d (want 22), reported in %d of %d without (want ≤ 1)", st[0].foundP, st[0].refP, st[0].falseP, st[0].noRefP)
-	}
-}
-
-func evalLUDB(t *testing.T, opt *Options, verbose bool) []*diffStats {
 	dir := refdataDir(t, "ludb")
-	st := intervalStats()
+	var recs []refRecord
 	for _, n := range ludbRecords {
 		rec, h := readWFDB(t, filepath.Join(dir, fmt.Sprint(n)+".hea"))
 		var leads [][]wave
 		for _, l := range ludbLeads {
 			leads = append(leads, readWaves(t, filepath.Join(dir, fmt.Sprintf("%d.%s", n, l)), h.Fs))
 		}
-		ref := globalRef(leads)
-		rep, err := Measure(rec, opt)
-		if err != nil {
-			t.Fatalf("ludb %d: %v", n, err)
-		}
-		addIntervals(st, rep, ref)
-		st[0].countP(rep.PMS, ref.p)
-		if verbose {
-			logIntervals(t, fmt.Sprintf("ludb %3d", n), rep, ref)
-		}
+		recs = append(recs, refRecord{fmt.Sprintf("ludb %3d", n), rec, globalRef(leads)})
 	}
-	return st
+	// P presence: found in all 22 records whose experts marked P;
+	// reported in 1 of the 7 without (record 45, atrial and ventricular
+	// pacing).
+	checkIntervals(t, "LUDB", recs, ludbBounds, 22, 1)
+}
+
+// refRecord is one record with expert delineation: its label in the
+// logs, the signals to measure and the reference global intervals.
+type refRecord struct {
+	label string
+	rec   ecg.Record
+	ref   refIntervals
+}
+
+// checkIntervals measures each record of set with the default options,
+// logs each record's and the set's global intervals against the
+// reference, checks the set's differences against bounds (checkBounds)
+// and that a P wave is found in at least wantP records whose reference
+// has one and reported in at most maxFalseP of those whose reference has
+// none.
+func checkIntervals(t *testing.T, set string, recs []refRecord, bounds map[string][2]float64, wantP, maxFalseP int) {
+	t.Helper()
+	st := intervalStats()
+	for _, r := range recs {
+		rep, err := Measure(r.rec, nil)
+		if err != nil {
+			t.Fatalf("%s: %v", r.label, err)
+		}
+		addIntervals(st, rep, r.ref)
+		st[0].countP(rep.PMS, r.ref.p)
+		logIntervals(t, r.label, rep, r.ref)
+	}
+	for _, s := range st {
+		t.Logf("%s %s", set, s)
+	}
+	checkBounds(t, set, st, bounds)
+	if st[0].foundP < wantP || st[0].falseP > maxFalseP {
+		t.Errorf("%s P found in %d of %d (want %d), reported in %d of %d without (want ≤ %d)",
+			set, st[0].foundP, st[0].refP, wantP, st[0].falseP, st[0].noRefP, maxFalseP)
+	}
 }
 
 // Bounds asserted on |mean| and SD (ms). Measured on 2026-12-01 with the
@@ -272,33 +283,13 @@ func checkBounds(t *testing.T, set string, st []*diffStats, b map[string][2]floa
 // manual wave boundaries (annotator 1, second pass, .q1c; Laguna et al.
 // 1997) on the annotated stretch of each of the ten records.
 func TestIntervalsQTDB(t *testing.T) {
-	st := evalQTDB(t, nil, true)
-	for _, s := range st {
-		t.Logf("QTDB %s", s)
-	}
-	checkBounds(t, "QTDB", st, qtdbBounds)
-	if st[0].foundP < 9 || st[0].falseP > 0 {
-		t.Errorf("QTDB P found in %d of %d (want 9), reported in %d of %d without (want 0)", st[0].foundP, st[0].refP, st[0].falseP, st[0].noRefP)
-	}
-}
-
-func evalQTDB(t *testing.T, opt *Options, verbose bool) []*diffStats {
 	dir := refdataDir(t, "qtdb")
-	st := intervalStats()
+	var recs []refRecord
 	for _, name := range qtdbRecords {
 		cut, ws := qtdbStretch(t, dir, name)
-		ref := globalRef([][]wave{ws})
-		rep, err := Measure(cut, opt)
-		if err != nil {
-			t.Fatalf("qtdb %s: %v", name, err)
-		}
-		addIntervals(st, rep, ref)
-		st[0].countP(rep.PMS, ref.p)
-		if verbose {
-			logIntervals(t, fmt.Sprintf("qtdb %-9s", name), rep, ref)
-		}
+		recs = append(recs, refRecord{fmt.Sprintf("qtdb %-9s", name), cut, globalRef([][]wave{ws})})
 	}
-	return st
+	checkIntervals(t, "QTDB", recs, qtdbBounds, 9, 0)
 }
 
 // intervalStats returns empty statistics of the four global intervals,
