@@ -2,6 +2,7 @@ package render
 
 import (
 	"math"
+	"testing"
 
 	"tracelift/ecg"
 )
@@ -37,4 +38,27 @@ func testRecord(fs, dur float64) ecg.Record {
 		rec.Beats = append(rec.Beats, ecg.NewBeat(ecg.BeatNormal, float64(b)+0.4))
 	}
 	return rec
+}
+
+// panelPolylines returns, for each panel of tr in order, the panel's
+// trace of rec as a polyline in image pixels, placed by the truth's own
+// geometry (PanelPoint, PaperToPx): the samples within the panel's time
+// span, NaN samples left out.
+func panelPolylines(t *testing.T, tr Truth, rec ecg.Record) [][][2]float64 {
+	t.Helper()
+	var lines [][][2]float64
+	for _, pn := range tr.Panels {
+		sig := rec.Signal(mustLead(t, pn.Lead))
+		var l [][2]float64
+		for i, v := range sig.Samples {
+			ts := sig.Time(i)
+			if ts >= pn.T0-1e-9 && ts <= pn.T1+1e-9 && !math.IsNaN(v) {
+				x, y := tr.PanelPoint(pn, ts, v)
+				u, w := tr.PaperToPx(x, y)
+				l = append(l, [2]float64{u, w})
+			}
+		}
+		lines = append(lines, l)
+	}
+	return lines
 }

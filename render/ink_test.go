@@ -24,21 +24,7 @@ func TestAllInkAccounted(t *testing.T) {
 		img := p.Image.(*image.RGBA)
 		s := tr.PxPerMMX
 		half := math.Max(tr.TraceWidthMM*s/2, 0.5) + 1 // stroke plus its anti-aliased rim
-		back := tr.Record()
-		var lines [][][2]float64
-		for _, pn := range tr.Panels {
-			sig := back.Signal(mustLead(t, pn.Lead))
-			var l [][2]float64
-			for i, v := range sig.Samples {
-				ts := sig.Time(i)
-				if ts >= pn.T0-1e-9 && ts <= pn.T1+1e-9 && !math.IsNaN(v) {
-					x, y := tr.PanelPoint(pn, ts, v)
-					u, w := tr.PaperToPx(x, y)
-					l = append(l, [2]float64{u, w})
-				}
-			}
-			lines = append(lines, l)
-		}
+		lines := panelPolylines(t, tr, tr.Record())
 		for _, tk := range tr.Ticks {
 			u0, v0 := tr.PaperToPx(tk[0], tk[1])
 			u1, v1 := tr.PaperToPx(tk[0], tk[2])

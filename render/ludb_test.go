@@ -31,22 +31,7 @@ func TestTraceCoverageLUDB(t *testing.T) {
 	img := p.Image.(*image.RGBA)
 	tr := p.Truth
 	h := tr.TraceWidthMM * tr.PxPerMMX / 2
-	// Every panel's polyline in image px.
-	var lines [][][2]float64
-	for _, pn := range tr.Panels {
-		s := rec.Signal(mustLead(t, pn.Lead))
-		var l [][2]float64
-		for i, v := range s.Samples {
-			ts := s.Time(i)
-			if ts < pn.T0-1e-9 || ts > pn.T1+1e-9 {
-				continue
-			}
-			x, y := tr.PanelPoint(pn, ts, v)
-			u, w := tr.PaperToPx(x, y)
-			l = append(l, [2]float64{u, w})
-		}
-		lines = append(lines, l)
-	}
+	lines := panelPolylines(t, tr, rec) // the record has no NaN samples
 	inside := func(u, v float64) bool {
 		for _, l := range lines {
 			if len(l) == 0 || u < l[0][0]-h-1 || u > l[len(l)-1][0]+h+1 {
