@@ -20,6 +20,18 @@ func gen(t *testing.T, p Params, seed uint64) ecg.Record {
 	return rec
 }
 
+// leadEnvelope returns the function giving the largest |amplitude| (mV) over
+// rec's leads at sample i.
+func leadEnvelope(rec ecg.Record) func(i int) float64 {
+	return func(i int) float64 {
+		m := 0.0
+		for _, s := range rec.Signals {
+			m = max(m, math.Abs(s.Samples[i]))
+		}
+		return m
+	}
+}
+
 // globalFiducials measures a beat's wave boundaries back from a noise-free
 // record, independently of the generator's bookkeeping: the envelope is the
 // largest |amplitude| over the twelve leads at each sample, and each wave
@@ -32,13 +44,7 @@ type measured struct{ pOn, qrsOn, qrsOff, tOn, tEnd float64 }
 func measureBeat(rec ecg.Record, rTime, rr float64) measured {
 	fs := rec.Signals[0].SampleRate
 	n := len(rec.Signals[0].Samples)
-	env := func(i int) float64 {
-		m := 0.0
-		for _, s := range rec.Signals {
-			m = max(m, math.Abs(s.Samples[i]))
-		}
-		return m
-	}
+	env := leadEnvelope(rec)
 	idx := func(t float64) int { return min(n-1, max(0, int(math.Round(t*fs)))) }
 	// wave finds the envelope peak in [a, b] s and walks out to 5 %.
 	wave := func(a, b float64) (on, off float64) {
@@ -578,13 +584,7 @@ func TestFiducialsIrregular(t *testing.T) {
 	rec := gen(t, p, 17)
 	fs := p.SampleRate
 	n := len(rec.Signals[0].Samples)
-	env := func(i int) float64 {
-		m := 0.0
-		for _, s := range rec.Signals {
-			m = max(m, math.Abs(s.Samples[i]))
-		}
-		return m
-	}
+	env := leadEnvelope(rec)
 	// bounds finds the envelope peak within [a, b] s and walks out to 5 %.
 	bounds := func(a, b float64) (float64, float64) {
 		ia, ib := int(math.Ceil(a*fs)), int(math.Floor(b*fs))
