@@ -11,6 +11,7 @@ import (
 	"path/filepath"
 	"regexp"
 	"runtime"
+	"runtime/debug"
 	"sort"
 	"strings"
 	"sync"
@@ -32,6 +33,7 @@ type batchOptions struct {
 	CatalogPath string // default OutDir/catalog.sqlite
 	Force       bool   // redo inputs even when catalogued as finished
 	RetryFailed bool   // try again inputs that failed with the same content and options
+	MaxMemoryMB int    // soft limit of the Go heap for the run, MB; 0 = none (or GOMEMLIMIT)
 	Quiet       bool
 	Pipe        pipelineFlags
 
@@ -103,6 +105,9 @@ qualified clinicians under local rules and licensed practice.`,
 			if opts.Workers < 1 {
 				return flagErrorf("batch: -j must be at least 1, got %d", opts.Workers)
 			}
+			if opts.MaxMemoryMB < 0 {
+				return flagErrorf("batch: --max-memory must be a size in MB (0 = no limit), got %d", opts.MaxMemoryMB)
+			}
 			if shard != "" {
 				s, err := catalog.ParseShard(shard)
 				if err != nil {
@@ -121,12 +126,13 @@ qualified clinicians under local rules and licensed practice.`,
 	}
 	f := cmd.Flags()
 	f.StringVarP(&opts.OutDir, "out", "o", "", "output folder (created if missing)")
-	f.IntVarP(&opts.Workers, "jobs", "j", runtime.NumCPU(), "files digitised in parallel")
+	f.IntVarP(&opts.Workers, "jobs", "j", runtime.NumCPU(), "files digitised in parallel, on at most this many cores")
 	f.StringVar(&shard, "shard", "", "process only share K of N of the inputs, e.g. 2/8")
 	f.StringVar(&opts.CatalogPath, "catalog", "", "catalogue file (default DIR/catalog.sqlite)")
 	f.BoolVar(&opts.Force, "force", false, "redo every input, even those already finished or failed")
 	f.BoolVar(&opts.RetryFailed, "retry-failed", false, "try again inputs that failed before with the same content and options")
 	f.BoolVarP(&opts.Quiet, "quiet", "q", false, "print only the final summary")
+	f.IntVar(&opts.MaxMemoryMB, "max-memory", 0, "soft memory limit for the whole run in MB (the collector works harder near it); 0 = none")
 	opts.Pipe.register(cmd)
 	cmd.AddCommand(newBatchMergeCmd(ios), newBatchExportCmd(ios))
 	return cmd
@@ -207,6 +213,7 @@ func runBatch(ctx context.Context, ios *IOStreams, opts *batchOptions) error {
 	if process == nil {
 		process = opts.Pipe.processor(ios)
 	}
+	defer runtimeLimits(opts.Workers, opts.MaxMemoryMB)()
 
 	prog := newProgress(ios.ErrOut, ios.IsTerminal && !opts.Quiet, len(inputs))
 	if !opts.Quiet && !ios.IsTerminal {
@@ -384,6 +391,33 @@ func batchOne(ctx context.Context, db *catalog.DB, in catalog.Input, opts *batch
 		return e, false, err
 	}
 	return e, false, nil
+}
+
+// runtimeLimits makes -j a bound on the cores used: the front end spreads
+// each page's full-page pass over GOMAXPROCS threads, so without the bound
+// "-j 1" would still occupy every core for part of each page (about a
+// third of its CPU time on a 300-dpi A4 page, measured 2026-12-01). With
+// N workers on N or more cores nothing changes. maxMemMB > 0 sets a soft
+// memory limit (runtime/debug.SetMemoryLimit) for machines or job slots
+// with little memory: the collector then runs more often near it, trading
+// CPU time for resident memory. The returned function restores both.
+func runtimeLimits(workers, maxMemMB int) (restore func()) {
+	procs := runtime.GOMAXPROCS(0)
+	if workers < procs {
+		runtime.GOMAXPROCS(workers)
+	}
+	mem := int64(-1)
+	if maxMemMB > 0 {
+		mem = debug.SetMemoryLimit(int64(maxMemMB) << 20)
+	}
+	return func() {
+		if workers < procs {
+			runtime.GOMAXPROCS(procs)
+		}
+		if mem >= 0 {
+			debug.SetMemoryLimit(mem)
+		}
+	}
 }
 
 // removeStaleTemps deletes the hidden temporary files (".NAME.tmpNNN",
