@@ -8,7 +8,6 @@ import (
 	"testing"
 
 	"tracelift/ecg"
-	"tracelift/export/wfdb"
 )
 
 // wave is one annotated wave: onset, peak, offset (s; NaN when unmarked)
@@ -22,10 +21,7 @@ type wave struct {
 // ')' offset — LUDB and QT Database q1c conventions) into waves.
 func readWaves(t testing.TB, path string, fs float64) []wave {
 	t.Helper()
-	anns, err := wfdb.ReadAnnotations(path, fs)
-	if err != nil {
-		t.Fatalf("read %s: %v", path, err)
-	}
+	anns := readAnnotations(t, path, fs)
 	var out []wave
 	nan := math.NaN()
 	for i, a := range anns {

@@ -42,13 +42,21 @@ func isBeat(code int) bool {
 	return false
 }
 
-// refBeats returns the times (s) of the beat annotations in path.
-func refBeats(t testing.TB, path string, fs float64) []float64 {
+// readAnnotations reads the WFDB annotation file at path (record at fs
+// Hz), failing t when it cannot.
+func readAnnotations(t testing.TB, path string, fs float64) []wfdb.Annotation {
 	t.Helper()
 	anns, err := wfdb.ReadAnnotations(path, fs)
 	if err != nil {
 		t.Fatalf("read %s: %v", path, err)
 	}
+	return anns
+}
+
+// refBeats returns the times (s) of the beat annotations in path.
+func refBeats(t testing.TB, path string, fs float64) []float64 {
+	t.Helper()
+	anns := readAnnotations(t, path, fs)
 	var out []float64
 	for _, a := range anns {
 		if isBeat(a.Code) {
@@ -174,10 +182,7 @@ func TestDetectQTDB(t *testing.T) {
 // and others) against detected classes, for matched beats.
 func classAgreement(t *testing.T, atr string, fs float64, beats []ecg.Beat) map[[2]string]int {
 	t.Helper()
-	anns, err := wfdb.ReadAnnotations(atr, fs)
-	if err != nil {
-		t.Fatal(err)
-	}
+	anns := readAnnotations(t, atr, fs)
 	conf := map[[2]string]int{}
 	j := 0
 	for _, a := range anns {
