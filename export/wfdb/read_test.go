@@ -193,10 +193,7 @@ func TestLUDB1Header(t *testing.T) {
 // README: 2,274 annotations, 2,239 N, 33 A, 1 V, 1 '+' with aux "(N".
 func TestMITDBAnnotationsMatchRdann(t *testing.T) {
 	dir := refdata.Dir(t, "mitdb")
-	anns, err := ReadAnnotations(filepath.Join(dir, "100.atr"), 360)
-	if err != nil {
-		t.Fatal(err)
-	}
+	anns := readAnnotations(t, filepath.Join(dir, "100.atr"), 360)
 	if len(anns) != 2274 {
 		t.Fatalf("%d annotations, want 2274", len(anns))
 	}
@@ -252,10 +249,7 @@ func TestMITDBAnnotationsMatchRdann(t *testing.T) {
 func TestQTDBSel100Beats(t *testing.T) {
 	q := refdata.Dir(t, "qtdb")
 	m := refdata.Dir(t, "mitdb")
-	sel, err := ReadAnnotations(filepath.Join(q, "sel100.atr"), 250)
-	if err != nil {
-		t.Fatal(err)
-	}
+	sel := readAnnotations(t, filepath.Join(q, "sel100.atr"), 250)
 	if len(sel) != 1134 {
 		t.Fatalf("sel100.atr: %d annotations, want 1134", len(sel))
 	}
@@ -266,10 +260,7 @@ func TestQTDBSel100Beats(t *testing.T) {
 	if cnt["N"] != 1115 || cnt["A"] != 19 {
 		t.Errorf("sel100.atr counts %v", cnt)
 	}
-	full, err := ReadAnnotations(filepath.Join(m, "100.atr"), 360)
-	if err != nil {
-		t.Fatal(err)
-	}
+	full := readAnnotations(t, filepath.Join(m, "100.atr"), 360)
 	j := 0
 	for _, a := range sel {
 		for j < len(full) && (full[j].Symbol == "+" || float64(full[j].Sample-151201)*250/360 < float64(a.Sample)-1.5) {
@@ -290,10 +281,7 @@ func TestQTDBSel100Beats(t *testing.T) {
 // README (ludb worked facts).
 func TestLUDB1iiDelineation(t *testing.T) {
 	dir := refdata.Dir(t, "ludb")
-	anns, err := ReadAnnotations(filepath.Join(dir, "1.ii"), 500)
-	if err != nil {
-		t.Fatal(err)
-	}
+	anns := readAnnotations(t, filepath.Join(dir, "1.ii"), 500)
 	if len(anns) != 48 {
 		t.Fatalf("%d marks, want 48", len(anns))
 	}
@@ -403,4 +391,15 @@ func TestFormatFacts(t *testing.T) {
 			t.Errorf("format %d: %d bits, ADC resolution %d, invalid %d; want %d, %d, %d", c.format, b, r, v, c.bits, c.adcRes, c.invalid)
 		}
 	}
+}
+
+// readAnnotations reads the annotation file at path (record at fs Hz),
+// failing t when it cannot.
+func readAnnotations(t *testing.T, path string, fs float64) []Annotation {
+	t.Helper()
+	anns, err := ReadAnnotations(path, fs)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return anns
 }

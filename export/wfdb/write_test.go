@@ -146,10 +146,7 @@ func TestAnnotationRoundTrip(t *testing.T) {
 // 100.atr decoded, encoded again and decoded gives the same annotations.
 func TestReencodeMITDBAnnotations(t *testing.T) {
 	dir := refdata.Dir(t, "mitdb")
-	a, err := ReadAnnotations(filepath.Join(dir, "100.atr"), 360)
-	if err != nil {
-		t.Fatal(err)
-	}
+	a := readAnnotations(t, filepath.Join(dir, "100.atr"), 360)
 	var b bytes.Buffer
 	if err := EncodeAnnotations(&b, a); err != nil {
 		t.Fatal(err)
@@ -173,10 +170,7 @@ func TestReencodeMITDBAnnotations(t *testing.T) {
 // the QRS at 1342; T (776, 843, 878) to the QRS at 662).
 func TestBeatsFromLUDBDelineation(t *testing.T) {
 	dir := refdata.Dir(t, "ludb")
-	anns, err := ReadAnnotations(filepath.Join(dir, "1.ii"), 500)
-	if err != nil {
-		t.Fatal(err)
-	}
+	anns := readAnnotations(t, filepath.Join(dir, "1.ii"), 500)
 	beats := Beats(anns, 500)
 	if len(beats) != 6 {
 		t.Fatalf("%d beats, want 6 (README: 6 QRS in lead ii)", len(beats))
@@ -348,10 +342,7 @@ func TestHeaderLineLength(t *testing.T) {
 // = 412 ms; 30 beats in all.
 func TestBeatsFromQTDBq1c(t *testing.T) {
 	dir := refdata.Dir(t, "qtdb")
-	anns, err := ReadAnnotations(filepath.Join(dir, "sel100.q1c"), 250)
-	if err != nil {
-		t.Fatal(err)
-	}
+	anns := readAnnotations(t, filepath.Join(dir, "sel100.q1c"), 250)
 	if len(anns) != 240 {
 		t.Errorf("%d marks, want 240", len(anns))
 	}
