@@ -122,14 +122,7 @@ func TestAnnotationRoundTrip(t *testing.T) {
 		{Sample: 5000, Code: CodeWaveOn, Sub: 2, Chan: 1},
 		{Sample: 90_000_000, Code: CodeAPC, Aux: "odd"},
 	}
-	var b bytes.Buffer
-	if err := EncodeAnnotations(&b, in); err != nil {
-		t.Fatal(err)
-	}
-	out, err := DecodeAnnotations(&b, 250)
-	if err != nil {
-		t.Fatal(err)
-	}
+	out := reencode(t, in, 250)
 	if len(out) != len(in) {
 		t.Fatalf("%d annotations back, want %d", len(out), len(in))
 	}
@@ -143,18 +136,26 @@ func TestAnnotationRoundTrip(t *testing.T) {
 	}
 }
 
+// reencode encodes anns as an annotation file and decodes it again at fs
+// Hz.
+func reencode(t *testing.T, anns []Annotation, fs float64) []Annotation {
+	t.Helper()
+	var b bytes.Buffer
+	if err := EncodeAnnotations(&b, anns); err != nil {
+		t.Fatal(err)
+	}
+	out, err := DecodeAnnotations(&b, fs)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return out
+}
+
 // 100.atr decoded, encoded again and decoded gives the same annotations.
 func TestReencodeMITDBAnnotations(t *testing.T) {
 	dir := refdata.Dir(t, "mitdb")
 	a := readAnnotations(t, filepath.Join(dir, "100.atr"), 360)
-	var b bytes.Buffer
-	if err := EncodeAnnotations(&b, a); err != nil {
-		t.Fatal(err)
-	}
-	a2, err := DecodeAnnotations(&b, 360)
-	if err != nil {
-		t.Fatal(err)
-	}
+	a2 := reencode(t, a, 360)
 	if len(a2) != len(a) {
 		t.Fatalf("%d vs %d", len(a2), len(a))
 	}
