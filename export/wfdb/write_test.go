@@ -190,15 +190,7 @@ func TestBeatsFromLUDBDelineation(t *testing.T) {
 func TestWaveAnnotationsRoundTrip(t *testing.T) {
 	rec := testRecord(1, 3)
 	anns := WaveAnnotations(rec.Beats, 500, 0)
-	var b bytes.Buffer
-	if err := EncodeAnnotations(&b, anns); err != nil {
-		t.Fatal(err)
-	}
-	back, err := DecodeAnnotations(&b, 500)
-	if err != nil {
-		t.Fatal(err)
-	}
-	beats := Beats(back, 500)
+	beats := Beats(reencode(t, anns, 500), 500)
 	if len(beats) != len(rec.Beats) {
 		t.Fatalf("%d beats", len(beats))
 	}
