@@ -45,12 +45,17 @@ func pngBytes(t testing.TB, img image.Image, extra ...[]byte) []byte {
 	if err := png.Encode(&b, img); err != nil {
 		t.Fatal(err)
 	}
-	raw := b.Bytes()
-	out := append([]byte{}, raw[:33]...)
-	for _, c := range extra {
+	return insertAt(b.Bytes(), 33, extra...)
+}
+
+// insertAt returns a copy of raw with the byte strings ins inserted, in
+// order, at offset at.
+func insertAt(raw []byte, at int, ins ...[]byte) []byte {
+	out := append([]byte{}, raw[:at]...)
+	for _, c := range ins {
 		out = append(out, c...)
 	}
-	return append(out, raw[33:]...)
+	return append(out, raw[at:]...)
 }
 
 // pHYs builds a pHYs chunk: X and Y pixels per unit, unit 1 = metre
@@ -71,12 +76,7 @@ func jpegBytes(t testing.TB, img image.Image, q int, segs ...[]byte) []byte {
 	if err := jpeg.Encode(&b, img, &jpeg.Options{Quality: q}); err != nil {
 		t.Fatal(err)
 	}
-	raw := b.Bytes()
-	out := append([]byte{}, raw[:2]...)
-	for _, s := range segs {
-		out = append(out, s...)
-	}
-	return append(out, raw[2:]...)
+	return insertAt(b.Bytes(), 2, segs...)
 }
 
 // segment builds a JPEG marker segment: 0xFF, marker, 2-byte length
