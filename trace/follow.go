@@ -134,6 +134,7 @@ func defaultFollow(pxPerMM, baseline float64) followParams {
 // carrying the last interval across a column without ink on the path.
 type state struct {
 	top, bot float32
+	yIn      float32 // where the path enters the run: the point nearest the previous column's exit
 	cost     float32
 	back     int32 // index of the predecessor state, -1 at the first column
 	run      int32 // index into columnRuns.runs, -1 for a gap state
@@ -193,6 +194,7 @@ func follow(cr *columnRuns, p followParams) pathResult {
 			unary := float32(baseW*distToBase(r, p.baseline) - inkW*math.Max(0, float64(r.bot-r.top+1)-2*pen))
 			if c == 0 {
 				s.cost = unary
+				s.yIn = clampf(float32(p.baseline), s.top, s.bot)
 			} else {
 				best := float32(math.Inf(1))
 				for j := prevLo; j < prevHi; j++ {
@@ -205,7 +207,11 @@ func follow(cr *columnRuns, p followParams) pathResult {
 					}
 					v := q.cost + gap*float32(jumpW)
 					if v < best {
-						best, s.back = v, int32(j)
+						// The pen leaves q's run at the point nearest
+						// this run, having entered it at q.yIn, and enters
+						// this run at the point nearest that.
+						out := clampf(clampf(q.yIn, s.top, s.bot), q.top, q.bot)
+						best, s.back, s.yIn = v, int32(j), clampf(out, s.top, s.bot)
 					}
 				}
 				s.cost = best + unary
@@ -227,10 +233,10 @@ func follow(cr *columnRuns, p followParams) pathResult {
 				}
 				taken = append(taken, bj)
 				q := states[bj]
-				states = append(states, state{top: q.top, bot: q.bot, cost: q.cost + float32(p.gapCost), back: int32(bj), run: -1})
+				states = append(states, state{top: q.top, bot: q.bot, yIn: q.yIn, cost: q.cost + float32(p.gapCost), back: int32(bj), run: -1})
 			}
 		} else if len(states) == 0 {
-			states = append(states, state{top: float32(p.baseline), bot: float32(p.baseline), cost: float32(p.gapCost), back: -1, run: -1})
+			states = append(states, state{top: float32(p.baseline), bot: float32(p.baseline), yIn: float32(p.baseline), cost: float32(p.gapCost), back: -1, run: -1})
 		}
 		prevLo, prevHi = int(off[c]), len(states)
 	}
@@ -372,8 +378,13 @@ func pathPoints(cr *columnRuns, states []state, path []int32, pen, penLo, pxPerM
 		s := states[path[c]]
 		return s.top, s.bot, true
 	}
+	cross := crossings(cr, states, path, thin, pen, 2.5*pxPerMMHint, 2*pxPerMMHint)
 	var jumpSum float64
 	var jumpN int
+	// Extent of the previous column's point on the path: the run, or the
+	// path's own level where a crossing stroke was passed through.
+	var effT, effB float32
+	effC := -2
 	for c := 0; c < W; c++ {
 		if path[c] < 0 {
 			continue
@@ -383,6 +394,8 @@ func pathPoints(cr *columnRuns, states []state, path []int32, pen, penLo, pxPerM
 			continue
 		}
 		res.onInk++
+		prevT, prevB, prevOK := effT, effB, effC == c-1
+		effT, effB, effC = s.top, s.bot, c
 		if pt, pb, ok := iv(c - 1); ok {
 			gap := 0.0
 			if s.top > pb+1 {
@@ -402,6 +415,10 @@ func pathPoints(cr *columnRuns, states []state, path []int32, pen, penLo, pxPerM
 				hi = math.Min(hi, float64(b)-sk[k+kr])
 			}
 		}
+		if !math.IsNaN(cross[c]) {
+			pts = append(pts, Point{x, cross[c]})
+			continue
+		}
 		h := float64(ru.bot - ru.top + 1)
 		if h <= thin {
 			y := ru.centre()
@@ -409,6 +426,23 @@ func pathPoints(cr *columnRuns, states []state, path []int32, pen, penLo, pxPerM
 				y = math.Min(math.Max(y, lo), hi)
 			}
 			pts = append(pts, Point{x, y})
+			continue
+		}
+		// A run reaching well past both where the path enters it and
+		// where it leaves it is another trace's stroke crossing this one
+		// (tall complexes of a neighbouring row): keep the path's level.
+		yin, yout := s.yIn, s.yIn
+		if c+1 < W && path[c+1] >= 0 {
+			yout = clampf(states[path[c+1]].yIn, s.top, s.bot)
+		}
+		if m := float32(math.Max(thin, 2*pxPerMMHint)); s.top < min(yin, yout)-m && s.bot > max(yin, yout)+m &&
+			prevOK && prevT > s.top+m && prevB < s.bot-m {
+			effT, effB = min(yin, yout), max(yin, yout)
+			if absf(yout-yin) <= 1 {
+				pts = append(pts, Point{x, float64(yin+yout) / 2})
+			} else {
+				pts = append(pts, Point{x - 0.25, float64(yin)}, Point{x + 0.25, float64(yout)})
+			}
 			continue
 		}
 		pt, pb, okp := iv(c - 1)
@@ -461,6 +495,73 @@ func pathPoints(cr *columnRuns, states []state, path []int32, pen, penLo, pxPerM
 		res.meanJump = jumpSum / float64(jumpN)
 	}
 	return pts
+}
+
+// crossings finds the stretches of the path where another trace's stroke
+// crosses it: at most maxW columns whose runs are all taller than thin,
+// between two columns with thin runs, where every run contains the line
+// joining the two thin runs' centres (within pen px) and the runs reach
+// more than reach px beyond it both above and below, the two thin runs
+// being less than reach px apart. Own peaks leave that
+// line (their apex columns hold no ink at the baseline); a stroke of a
+// neighbouring row passing through the trace does not. The returned slice
+// holds, per column, the trace's level there, px, or NaN.
+func crossings(cr *columnRuns, states []state, path []int32, thin, pen, maxW, reach float64) []float64 {
+	W := len(path)
+	out := make([]float64, W)
+	for i := range out {
+		out[i] = math.NaN()
+	}
+	h := func(c int) (run, bool) {
+		if c < 0 || c >= W || path[c] < 0 || states[path[c]].run < 0 {
+			return run{}, false
+		}
+		return cr.runs[states[path[c]].run], true
+	}
+	for c := 0; c < W; {
+		r, ok := h(c)
+		if !ok || float64(r.bot-r.top+1) <= thin {
+			c++
+			continue
+		}
+		a := c
+		for c < W {
+			r, ok := h(c)
+			if !ok || float64(r.bot-r.top+1) <= thin {
+				break
+			}
+			c++
+		}
+		b := c // tall stretch is [a, b)
+		pr, okp := h(a - 1)
+		nr, okn := h(b)
+		if !okp || !okn || float64(b-a) > maxW || float64(nr.bot-nr.top+1) > thin {
+			continue
+		}
+		y0, y1 := pr.centre(), nr.centre()
+		if math.Abs(y1-y0) > reach {
+			continue
+		}
+		inside := true
+		lo, hi := math.Inf(1), math.Inf(-1)
+		for k := a; k < b && inside; k++ {
+			r, _ := h(k)
+			y := y0 + (y1-y0)*float64(k-a+1)/float64(b-a+1)
+			inside = float64(r.top) <= y+pen && float64(r.bot) >= y-pen
+			lo, hi = math.Min(lo, float64(r.top)-y), math.Max(hi, float64(r.bot)-y)
+		}
+		if !inside || lo > -reach || hi < reach {
+			continue
+		}
+		for k := a; k < b; k++ {
+			out[k] = y0 + (y1-y0)*float64(k-a+1)/float64(b-a+1)
+		}
+	}
+	return out
+}
+
+func clampf(v, lo, hi float32) float32 {
+	return min(max(v, lo), hi)
 }
 
 func absf(v float32) float32 {

@@ -204,3 +204,74 @@ func TestFollowNarrowPeakOnNoisyTrace(t *testing.T) {
 		t.Errorf("apex at y = %.1f px, drawn at %.0f (pen median %.0f px)", got, apex, pr.penPx)
 	}
 }
+
+// TestFollowWideCrossingStroke draws a flat trace crossed by a near-
+// vertical stroke several columns wide that reaches far above and below
+// it, as a tall QRS stroke of a neighbouring row does on a 20 mm/mV page
+// (the thin mark of TestFollowCrossingMark spans one or two columns). The
+// path keeps the trace's level in every column of the stroke instead of
+// jumping to the stroke's ends.
+func TestFollowWideCrossingStroke(t *testing.T) {
+	const base = 100.0
+	tests := []struct {
+		name  string
+		other []Point
+		pen   float64
+	}{
+		{"vertical, 7 px wide", []Point{{100, 0}, {100, 199}}, 3},
+		{"slanted down-stroke", []Point{{96, 0}, {104, 199}}, 3},
+		{"slanted up-stroke", []Point{{104, 0}, {96, 199}}, 3},
+	}
+	for _, tc := range tests {
+		t.Run(tc.name, func(t *testing.T) {
+			m := image.NewGray(image.Rect(0, 0, 200, 200))
+			stroke(m, []Point{{0, base}, {200, base}}, 1.5)
+			stroke(m, tc.other, tc.pen)
+			pr := followMask(m, base)
+			for _, p := range pr.points {
+				if math.Abs(p.Y-base) > 2 {
+					t.Errorf("path at (%.2f, %.1f): left the trace at y %g", p.X, p.Y, base)
+				}
+			}
+		})
+	}
+}
+
+// TestFollowNeighbourCrossing draws a flat trace crossed by a tall complex
+// of a neighbouring row (20 mm/mV pages and 12 × 1 layouts print such
+// complexes across the rows next to them): a neighbour's S wave coming
+// down from above and reaching past the trace, a neighbour's R wave
+// coming up from below, and a trace's own R wave beside a crossing S
+// wave. The path must keep the trace's level where the neighbour's
+// strokes cross it and keep its own R apex.
+func TestFollowNeighbourCrossing(t *testing.T) {
+	const base = 100.0
+	tests := []struct {
+		name    string
+		own     []Point // the row's own trace
+		other   []Point // the neighbour's complex
+		flatX   [2]float64
+		apex    float64 // y of the own R apex, 0 = none
+		apexWin [2]float64
+	}{
+		{"own R beside a crossing S wave", []Point{{0, base}, {88, base}, {92, 30}, {96, base}, {200, base}}, []Point{{106, 0}, {110, 160}, {114, 0}}, [2]float64{100, 125}, 30, [2]float64{85, 99}},
+	}
+	for _, tc := range tests {
+		t.Run(tc.name, func(t *testing.T) {
+			m := image.NewGray(image.Rect(0, 0, 200, 200))
+			stroke(m, tc.own, 1.5)
+			stroke(m, tc.other, 1.5)
+			pr := followMask(m, base)
+			for _, p := range pr.points {
+				if p.X >= tc.flatX[0] && p.X <= tc.flatX[1] && math.Abs(p.Y-base) > 2 {
+					t.Errorf("path at (%.1f, %.1f): left the flat trace at y %g for the neighbour's stroke", p.X, p.Y, base)
+				}
+			}
+			if tc.apex > 0 {
+				if got := minY(pr.points, tc.apexWin[0], tc.apexWin[1]); math.Abs(got-tc.apex) > 1.5 {
+					t.Errorf("own R apex at y %.1f, drawn at %g", got, tc.apex)
+				}
+			}
+		})
+	}
+}
