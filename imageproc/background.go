@@ -17,6 +17,10 @@ type background struct {
 	col    [3][]float64 // scratch: one row of interpolated block values
 }
 
+// gainScratch holds one row of interpolated block gains per channel, so
+// that rows can be processed concurrently (one scratch per worker).
+type gainScratch [3][]float64
+
 // estimateBackground measures the background of m with blocks of about
 // block px; scale converts m's pixels into those of the image the
 // estimate will be applied to (full-resolution px per m px).
@@ -81,6 +85,12 @@ func estimateBackground(m *image.NRGBA, block int, scale float64) *background {
 // column for row y, interpolated between the two nearest block rows. The
 // slices are bg.col, reused from row to row.
 func (bg *background) blockGains(y int, scale float64) [3][]float64 {
+	bg.blockGainsInto((*gainScratch)(&bg.col), y, scale)
+	return bg.col
+}
+
+// blockGainsInto is blockGains writing into sc (resized as needed).
+func (bg *background) blockGainsInto(sc *gainScratch, y int, scale float64) {
 	fy := (float64(y)+0.5)/bg.cell - 0.5
 	y0 := int(fy)
 	if fy < 0 {
@@ -91,17 +101,16 @@ func (bg *background) blockGains(y int, scale float64) [3][]float64 {
 	}
 	y1 := min(y0+1, bg.ny-1)
 	ay := fy - float64(y0)
-	if len(bg.col[0]) != bg.nx {
-		for c := range bg.col {
-			bg.col[c] = make([]float64, bg.nx)
+	if len(sc[0]) != bg.nx {
+		for c := range sc {
+			sc[c] = make([]float64, bg.nx)
 		}
 	}
 	for c := 0; c < 3; c++ {
 		for i := 0; i < bg.nx; i++ {
-			bg.col[c][i] = scale * ((1-ay)/bg.v[c][y0*bg.nx+i] + ay/bg.v[c][y1*bg.nx+i])
+			sc[c][i] = scale * ((1-ay)/bg.v[c][y0*bg.nx+i] + ay/bg.v[c][y1*bg.nx+i])
 		}
 	}
-	return bg.col
 }
 
 // gainRow fills dst (3 per pixel) with 255/background for row y of a
@@ -132,7 +141,13 @@ func (bg *background) gainRow(dst []float32, y, w int) {
 // block pair the gain is linear in x, so one add per pixel replaces the
 // per-pixel division and clamping of gainRow.
 func (bg *background) gainRowFixed(dst []uint32, y, w int) {
-	col := bg.blockGains(y, 255*256)
+	bg.gainRowFixedInto(dst, (*gainScratch)(&bg.col), y, w)
+}
+
+// gainRowFixedInto is gainRowFixed with the caller's scratch.
+func (bg *background) gainRowFixedInto(dst []uint32, sc *gainScratch, y, w int) {
+	bg.blockGainsInto(sc, y, 255*256)
+	col := *sc
 	inv := 1 / bg.cell
 	dst = dst[:3*w]
 	for x := 0; x < w; {

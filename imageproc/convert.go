@@ -114,33 +114,11 @@ func downscale(src *image.NRGBA, f int) *image.NRGBA {
 		clear(acc)
 		clear(cnt)
 		for sy := oy * f; sy < min(sh, oy*f+f); sy++ {
-			row := src.Pix[sy*src.Stride : sy*src.Stride+4*sw]
 			// Block by block: the sums stay in registers (no division
 			// or accumulator access per source pixel).
-			for ox := 0; ox < w; ox++ {
-				blk := row[4*ox*f : 4*min(sw, ox*f+f)]
-				var r, g, b uint32
-				for i := 0; i+3 < len(blk); i += 4 {
-					p := blk[i : i+3 : i+3]
-					r += uint32(p[0])
-					g += uint32(p[1])
-					b += uint32(p[2])
-				}
-				a := acc[4*ox : 4*ox+3 : 4*ox+3]
-				a[0] += r
-				a[1] += g
-				a[2] += b
-				cnt[ox] += uint32(len(blk) / 4)
-			}
+			accumulateRow(acc, cnt, src.Pix[sy*src.Stride:sy*src.Stride+4*sw], f, w, sw)
 		}
-		d := dst.Pix[oy*dst.Stride : oy*dst.Stride+4*w]
-		for ox := 0; ox < w; ox++ {
-			n := cnt[ox]
-			d[4*ox] = uint8((acc[4*ox] + n/2) / n)
-			d[4*ox+1] = uint8((acc[4*ox+1] + n/2) / n)
-			d[4*ox+2] = uint8((acc[4*ox+2] + n/2) / n)
-			d[4*ox+3] = 255
-		}
+		finishRow(dst.Pix[oy*dst.Stride:oy*dst.Stride+4*w], acc, cnt)
 	}
 	return dst
 }
@@ -209,22 +187,7 @@ func chromaShift(r image.YCbCrSubsampleRatio) (uint, bool) {
 func ycbcrRows(dst *image.NRGBA, m *image.YCbCr, hs uint) {
 	w, h := m.Rect.Dx(), m.Rect.Dy()
 	for y := 0; y < h; y++ {
-		yr := m.Y[y*m.YStride : y*m.YStride+w]
-		c0 := m.COffset(0, y)
-		cw := (w-1)>>hs + 1
-		cbr := m.Cb[c0 : c0+cw]
-		crr := m.Cr[c0 : c0+cw]
-		d := dst.Pix[y*dst.Stride : y*dst.Stride+4*w]
-		for x, yv := range yr {
-			yy1 := int32(yv) * 0x10101
-			cb1 := int32(cbr[x>>hs]) - 128
-			cr1 := int32(crr[x>>hs]) - 128
-			o := d[4*x : 4*x+4 : 4*x+4]
-			o[0] = clip16(yy1 + 91881*cr1)
-			o[1] = clip16(yy1 - 22554*cb1 - 46802*cr1)
-			o[2] = clip16(yy1 + 116130*cb1)
-			o[3] = 255
-		}
+		ycbcrRow(dst.Pix[y*dst.Stride:y*dst.Stride+4*w], m, hs, y)
 	}
 }
 

@@ -85,7 +85,7 @@ func Prepare(img image.Image, opt *Options) (*Page, error) {
 	if W*H > o.MaxPixels {
 		return nil, fmt.Errorf("imageproc: image %d×%d px exceeds %d pixels: %w", W, H, o.MaxPixels, ecg.ErrUnreadable)
 	}
-	src := toNRGBA(img)
+	src := newSource(img)
 	// Anisotropic resolution (a fax: 204 × 98 or 196 dpi, standards.md
 	// §6.1): resample to square pixels at the x resolution first, so that
 	// a rotation of the paper is a rotation of the image.
@@ -98,12 +98,12 @@ func Prepare(img image.Image, opt *Options) (*Page, error) {
 		}
 		pre = Homography{1, 0, 0, 0, 1 / rx, 0, 0, 0, 1}
 		sq := image.NewNRGBA(image.Rect(0, 0, W, nh))
-		warpNRGBA(sq, src, pre)
-		src, H = sq, nh
+		warpNRGBA(sq, src.nrgba(), pre)
+		src, H = newSource(sq), nh
 		o.DPIY = o.DPIX
 	}
 	f := max(1, (max(W, H)+workSide-1)/workSide)
-	work := downscale(src, f)
+	work := downscaleSource(src, f)
 	bgw := estimateBackground(work, blockSize(work), 1)
 	workN := normalise(work, bgw)
 	mblock := blockSize(work)
@@ -184,19 +184,14 @@ func Prepare(img image.Image, opt *Options) (*Page, error) {
 		return nil, fmt.Errorf("imageproc: rectified page would be %d×%d px: %w", OW, OH, ecg.ErrNoECG)
 	}
 	p.ToSource = Mul(pre, toSrc)
-	if toSrc == identity {
-		p.Color = src
-	} else {
-		p.Color = image.NewNRGBA(image.Rect(0, 0, OW, OH))
-		warpNRGBA(p.Color, src, toSrc)
-	}
 	// The upright page's background: the work estimate carried through
 	// the geometry (no second pass over the full page).
 	ub := max(8, min(OW, OH)/f/24)
 	// toSrc ends in the (square) source the work copy was made from.
 	fullToWork := Homography{1 / s, 0, -(s - 1) / (2 * s), 0, 1 / s, -(s - 1) / (2 * s), 0, 0, 1}
 	bg := bgw.resample(Mul(fullToWork, toSrc), OW, OH, ub*f)
-	p.Gray, p.Ink, p.Grid = sep.maps(p.Color, bg)
+	// One pass: resample (or convert) each row and separate it.
+	p.Color, p.Gray, p.Ink, p.Grid = sep.upright(src, toSrc, OW, OH, bg)
 	if m := paperMask(bg); m != nil {
 		// A photo: blank out the table around the sheet.
 		applyMask(m, ub*f, p.Ink, p.Grid)

@@ -168,45 +168,11 @@ func (s *separator) maps(src *image.NRGBA, bg *background) (gray, ink, grd *imag
 	r := image.Rect(0, 0, w, h)
 	gray, ink, grd = image.NewGray(r), image.NewGray(r), image.NewGray(r)
 	g := make([]uint32, 3*w)
-	span := 255 / (s.inkHi - s.inkLo)
-	var ka, kb [3]int32
-	for j := 0; j < 3; j++ {
-		ka[j] = int32(math.Round(s.ka[j] * 255 * 1024))
-		kb[j] = int32(math.Round(s.kb[j] * span * 1024))
-	}
-	off := int32(math.Round(s.inkLo * span))
-	spanG := int32(math.Round(span * 1024))
-	loG := int32(math.Round(s.inkLo))
+	f := s.fixed()
 	for y := 0; y < h; y++ {
 		bg.gainRowFixed(g, y, w)
-		row := src.Pix[y*src.Stride : y*src.Stride+4*w]
-		gr := gray.Pix[y*gray.Stride : y*gray.Stride+w]
-		ir := ink.Pix[y*ink.Stride : y*ink.Stride+w]
-		dr := grd.Pix[y*grd.Stride : y*grd.Stride+w]
-		if s.colour {
-			for x := range gr {
-				p := row[4*x : 4*x+3 : 4*x+3]
-				k := g[3*x : 3*x+3 : 3*x+3]
-				rr := min(255, (uint32(p[0])*k[0]+128)>>8)
-				gg := min(255, (uint32(p[1])*k[1]+128)>>8)
-				bb := min(255, (uint32(p[2])*k[2]+128)>>8)
-				gr[x] = uint8((77*rr + 150*gg + 29*bb + 128) >> 8)
-				a0, a1, a2 := 255-int32(rr), 255-int32(gg), 255-int32(bb)
-				dr[x] = sat8((ka[0]*a0 + ka[1]*a1 + ka[2]*a2) >> 10)
-				ir[x] = sat8((kb[0]*a0+kb[1]*a1+kb[2]*a2)>>10 - off)
-			}
-			continue
-		}
-		for x := range gr {
-			p := row[4*x : 4*x+3 : 4*x+3]
-			k := g[3*x : 3*x+3 : 3*x+3]
-			rr := min(255, (uint32(p[0])*k[0]+128)>>8)
-			gg := min(255, (uint32(p[1])*k[1]+128)>>8)
-			bb := min(255, (uint32(p[2])*k[2]+128)>>8)
-			lum := (77*rr + 150*gg + 29*bb + 128) >> 8
-			gr[x] = uint8(lum)
-			ir[x] = sat8(((255 - int32(lum) - loG) * spanG) >> 10)
-		}
+		f.row(src.Pix[y*src.Stride:y*src.Stride+4*w], g, gray.Pix[y*gray.Stride:y*gray.Stride+w],
+			ink.Pix[y*ink.Stride:y*ink.Stride+w], grd.Pix[y*grd.Stride:y*grd.Stride+w])
 	}
 	return gray, ink, grd
 }

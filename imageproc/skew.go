@@ -129,8 +129,12 @@ func estimateSkew(m *image.Gray, maxSkew float64, fam family) float64 {
 	step := 0.2 * math.Pi / 180
 	a0, _ := pc.searchAngle(-maxSkew, maxSkew, step, fam)
 	pf := collectPoints(m, thr, 250000)
+	// Fine search in two stages (0.1° over the coarse step's ±2, then
+	// 0.02° over ±0.1° around the best): 20 projections instead of 41.
+	mid := 0.1 * math.Pi / 180
+	am, _ := pf.searchAngle(a0-2*step, a0+2*step, mid, fam)
 	fineStep := 0.02 * math.Pi / 180
-	a1, _ := pf.searchAngle(a0-2*step, a0+2*step, fineStep, fam)
+	a1, _ := pf.searchAngle(am-mid, am+mid, fineStep, fam)
 	return a1
 }
 

@@ -1,0 +1,95 @@
+package imageproc
+
+import (
+	"bytes"
+	"image"
+	"image/jpeg"
+	"testing"
+)
+
+// preparePair runs Prepare on img read in place and on img converted to
+// NRGBA first (the reference path), and returns both pages.
+func preparePair(t *testing.T, img image.Image) (got, ref *Page) {
+	t.Helper()
+	var err error
+	if got, err = Prepare(img, nil); err != nil {
+		t.Fatal(err)
+	}
+	if ref, err = Prepare(toNRGBA(img), nil); err != nil {
+		t.Fatal(err)
+	}
+	if got.RotationDeg != ref.RotationDeg || got.QuarterTurns != ref.QuarterTurns || got.GridColor != ref.GridColor {
+		t.Fatalf("geometry differs: %.4f° q%d %s, reference %.4f° q%d %s", got.RotationDeg, got.QuarterTurns, got.GridColor,
+			ref.RotationDeg, ref.QuarterTurns, ref.GridColor)
+	}
+	return got, ref
+}
+
+// mapDiff returns the largest absolute difference between two byte maps
+// of the same size and the fraction of entries differing by more than tol.
+func mapDiff(t *testing.T, a, b []uint8, tol int) (int, float64) {
+	t.Helper()
+	if len(a) != len(b) {
+		t.Fatalf("map sizes %d and %d", len(a), len(b))
+	}
+	mx, n := 0, 0
+	for i := range a {
+		d := int(a[i]) - int(b[i])
+		d = max(d, -d)
+		mx = max(mx, d)
+		if d > tol {
+			n++
+		}
+	}
+	return mx, float64(n) / float64(len(a))
+}
+
+// TestPrepareReadsInputsInPlace: the in-place readers (opaque RGBA as
+// NRGBA, grey rows, Y′CbCr rows converted in a sliding window) give, byte
+// for byte, the pages of the reference path that converts the whole input
+// to NRGBA first. Interpolating the Y′CbCr planes before converting is not
+// equivalent: the conversion clips (a pink grid's red channel saturates
+// on white paper), so rows are converted first.
+func TestPrepareReadsInputsInPlace(t *testing.T) {
+	for _, deg := range []float64{0, 2.7} {
+		nrgba := rotatedSheet(110, 70, 6, deg).draw()
+		rgba := &image.RGBA{Pix: nrgba.Pix, Stride: nrgba.Stride, Rect: nrgba.Rect}
+		got, ref := preparePair(t, rgba)
+		for name, m := range map[string][2][]uint8{"ink": {got.Ink.Pix, ref.Ink.Pix}, "grid": {got.Grid.Pix, ref.Grid.Pix},
+			"gray": {got.Gray.Pix, ref.Gray.Pix}, "colour": {got.Color.Pix, ref.Color.Pix}} {
+			if mx, _ := mapDiff(t, m[0], m[1], 0); mx != 0 {
+				t.Errorf("RGBA %.1f°: %s differs by up to %d", deg, name, mx)
+			}
+		}
+
+		grey := image.NewGray(nrgba.Rect)
+		for i := range grey.Pix {
+			grey.Pix[i] = uint8((77*int(nrgba.Pix[4*i]) + 150*int(nrgba.Pix[4*i+1]) + 29*int(nrgba.Pix[4*i+2]) + 128) >> 8)
+		}
+		got, ref = preparePair(t, grey)
+		for name, m := range map[string][2][]uint8{"ink": {got.Ink.Pix, ref.Ink.Pix}, "grid": {got.Grid.Pix, ref.Grid.Pix}} {
+			if mx, _ := mapDiff(t, m[0], m[1], 0); mx != 0 {
+				t.Errorf("grey %.1f°: %s differs by up to %d", deg, name, mx)
+			}
+		}
+
+		var buf bytes.Buffer
+		if err := jpeg.Encode(&buf, nrgba, &jpeg.Options{Quality: 90}); err != nil {
+			t.Fatal(err)
+		}
+		ycc, err := jpeg.Decode(&buf)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if _, ok := ycc.(*image.YCbCr); !ok {
+			t.Fatalf("jpeg decoded to %T", ycc)
+		}
+		got, ref = preparePair(t, ycc)
+		for name, m := range map[string][2][]uint8{"ink": {got.Ink.Pix, ref.Ink.Pix}, "grid": {got.Grid.Pix, ref.Grid.Pix},
+			"gray": {got.Gray.Pix, ref.Gray.Pix}, "colour": {got.Color.Pix, ref.Color.Pix}} {
+			if mx, _ := mapDiff(t, m[0], m[1], 0); mx != 0 {
+				t.Errorf("Y′CbCr %.1f°: %s differs by up to %d", deg, name, mx)
+			}
+		}
+	}
+}

@@ -1,0 +1,216 @@
+package imageproc
+
+import (
+	"image"
+	"math"
+	"runtime"
+	"sync"
+)
+
+// sepFixed holds a separator's coefficients in the fixed point of the
+// full-page pass: gains in 1/256, coefficients in 1/1024.
+type sepFixed struct {
+	colour     bool
+	ka, kb     [3]int32
+	off        int32 // ink offset (colour pages)
+	spanG, loG int32 // ink ramp (grey pages)
+}
+
+// fixed returns s's coefficients in fixed point.
+func (s *separator) fixed() sepFixed {
+	span := 255 / (s.inkHi - s.inkLo)
+	f := sepFixed{colour: s.colour}
+	for j := 0; j < 3; j++ {
+		f.ka[j] = int32(math.Round(s.ka[j] * 255 * 1024))
+		f.kb[j] = int32(math.Round(s.kb[j] * span * 1024))
+	}
+	f.off = int32(math.Round(s.inkLo * span))
+	f.spanG = int32(math.Round(span * 1024))
+	f.loG = int32(math.Round(s.inkLo))
+	return f
+}
+
+// row separates one row: row holds NRGBA bytes, g the row's gains (3 per
+// pixel, 8.8 fixed point); gr, ir, dr receive luminance, ink and grid
+// strength. Grey pages leave dr untouched (structureSplit fills it).
+func (f *sepFixed) row(row []uint8, g []uint32, gr, ir, dr []uint8) {
+	w := len(gr)
+	row = row[:4*w]
+	g = g[:3*w]
+	ir = ir[:w]
+	if f.colour {
+		dr = dr[:w]
+		ka, kb, off := f.ka, f.kb, f.off
+		for x := range gr {
+			p := row[4*x : 4*x+3 : 4*x+3]
+			k := g[3*x : 3*x+3 : 3*x+3]
+			rr := min(255, (uint32(p[0])*k[0]+128)>>8)
+			gg := min(255, (uint32(p[1])*k[1]+128)>>8)
+			bb := min(255, (uint32(p[2])*k[2]+128)>>8)
+			gr[x] = uint8((77*rr + 150*gg + 29*bb + 128) >> 8)
+			a0, a1, a2 := 255-int32(rr), 255-int32(gg), 255-int32(bb)
+			dr[x] = sat8((ka[0]*a0 + ka[1]*a1 + ka[2]*a2) >> 10)
+			ir[x] = sat8((kb[0]*a0+kb[1]*a1+kb[2]*a2)>>10 - off)
+		}
+		return
+	}
+	loG, spanG := f.loG, f.spanG
+	for x := range gr {
+		p := row[4*x : 4*x+3 : 4*x+3]
+		k := g[3*x : 3*x+3 : 3*x+3]
+		rr := min(255, (uint32(p[0])*k[0]+128)>>8)
+		gg := min(255, (uint32(p[1])*k[1]+128)>>8)
+		bb := min(255, (uint32(p[2])*k[2]+128)>>8)
+		lum := (77*rr + 150*gg + 29*bb + 128) >> 8
+		gr[x] = uint8(lum)
+		ir[x] = sat8(((255 - int32(lum) - loG) * spanG) >> 10)
+	}
+}
+
+// upright makes the w×h upright page in one pass over its rows: each row
+// is sampled from the input through toSrc (upright px → input px; a plain
+// copy or conversion when toSrc is the identity) into the colour image
+// and separated while it is still in cache. The input is never converted
+// as a whole, and no map is read back from memory. Rows are independent,
+// so they are shared among GOMAXPROCS workers; the result does not depend
+// on their number. A projective toSrc (photos) takes the general warp
+// first.
+func (s *separator) upright(src *source, toSrc Homography, w, h int, bg *background) (col *image.NRGBA, gray, ink, grd *image.Gray) {
+	r := image.Rect(0, 0, w, h)
+	gray, ink, grd = image.NewGray(r), image.NewGray(r), image.NewGray(r)
+	f := s.fixed()
+	hm := toSrc
+	affine := hm[6] == 0 && hm[7] == 0
+	if affine && hm[8] != 1 {
+		for i := range hm {
+			hm[i] /= toSrc[8]
+		}
+	}
+	ident := toSrc == identity && w == src.w && h == src.h
+	// Y′CbCr input under a small rotation is read through a window of
+	// converted rows; under a quarter turn (rows of the upright page run
+	// down the input's columns) it is converted as a whole.
+	span := windowRows(hm, w)
+	windowed := !ident && affine && src.ycc != nil && hm[4] > 0 && span < src.h/3
+	var whole *image.NRGBA
+	switch {
+	case ident && src.rgb != nil:
+		col = src.rgb
+	case !affine:
+		col = image.NewNRGBA(r)
+		warpNRGBA(col, src.nrgba(), toSrc)
+	case !ident && src.ycc != nil && !windowed:
+		col = image.NewNRGBA(r)
+		whole = src.nrgba()
+	default:
+		col = image.NewNRGBA(r)
+	}
+	stepX, stepY := toFix32(hm[0]), toFix32(hm[3])
+	band := func(y0, y1 int) {
+		g := make([]uint32, 3*w)
+		var sc gainScratch
+		var win *rowWindow
+		if windowed {
+			win = newRowWindow(src, 2*span+8)
+		}
+		for y := y0; y < y1; y++ {
+			row := col.Pix[y*col.Stride : y*col.Stride+4*w]
+			switch {
+			case !affine || col == src.rgb:
+				// Already in place.
+			case ident:
+				row = src.row(row, y)
+			default:
+				fy := float64(y)
+				sx, sy := toFix32(hm[1]*fy+hm[2]), toFix32(hm[4]*fy+hm[5])
+				switch {
+				case whole != nil:
+					affineRowNRGBA(row, whole.Pix, whole.Stride, src.w, src.h, 0, sx, sy, stepX, stepY)
+				case win != nil:
+					end := sy + stepY*int64(w-1)
+					win.need(int(min(sy, end)>>32)-1, int(max(sy, end)>>32)+2)
+					src.affineRow(row, win, sx, sy, stepX, stepY)
+				default:
+					src.affineRow(row, nil, sx, sy, stepX, stepY)
+				}
+			}
+			bg.gainRowFixedInto(g, &sc, y, w)
+			f.row(row, g, gray.Pix[y*gray.Stride:y*gray.Stride+w],
+				ink.Pix[y*ink.Stride:y*ink.Stride+w], grd.Pix[y*grd.Stride:y*grd.Stride+w])
+		}
+	}
+	workers := min(runtime.GOMAXPROCS(0), max(1, h/256))
+	if workers == 1 {
+		band(0, h)
+		return col, gray, ink, grd
+	}
+	var wg sync.WaitGroup
+	for k := 0; k < workers; k++ {
+		y0, y1 := k*h/workers, (k+1)*h/workers
+		wg.Go(func() { band(y0, y1) })
+	}
+	wg.Wait()
+	return col, gray, ink, grd
+}
+
+// windowRows returns how many input rows one upright row of width w
+// touches under the affine map hm (upright px → input px), plus margins.
+func windowRows(hm Homography, w int) int {
+	return int(math.Ceil(math.Abs(hm[3])*float64(w-1))) + 4
+}
+
+// downscaleSource is downscale for any source: rows are converted one at
+// a time (the same bytes as downscaling the converted input).
+func downscaleSource(src *source, f int) *image.NRGBA {
+	if src.rgb != nil {
+		return downscale(src.rgb, f)
+	}
+	if f < 1 {
+		f = 1
+	}
+	sw, sh := src.w, src.h
+	w, h := (sw+f-1)/f, (sh+f-1)/f
+	dst := image.NewNRGBA(image.Rect(0, 0, w, h))
+	acc := make([]uint32, 4*w)
+	cnt := make([]uint32, w)
+	buf := make([]uint8, 4*sw)
+	for oy := 0; oy < h; oy++ {
+		clear(acc)
+		clear(cnt)
+		for sy := oy * f; sy < min(sh, oy*f+f); sy++ {
+			accumulateRow(acc, cnt, src.row(buf, sy), f, w, sw)
+		}
+		finishRow(dst.Pix[oy*dst.Stride:oy*dst.Stride+4*w], acc, cnt)
+	}
+	return dst
+}
+
+// accumulateRow adds the NRGBA row (sw px) block by block (f px per
+// block, w blocks) to the colour sums acc and pixel counts cnt.
+func accumulateRow(acc, cnt []uint32, row []uint8, f, w, sw int) {
+	for ox := 0; ox < w; ox++ {
+		blk := row[4*ox*f : 4*min(sw, ox*f+f)]
+		var r, g, b uint32
+		for i := 0; i+3 < len(blk); i += 4 {
+			p := blk[i : i+3 : i+3]
+			r += uint32(p[0])
+			g += uint32(p[1])
+			b += uint32(p[2])
+		}
+		a := acc[4*ox : 4*ox+3 : 4*ox+3]
+		a[0] += r
+		a[1] += g
+		a[2] += b
+		cnt[ox] += uint32(len(blk) / 4)
+	}
+}
+
+// finishRow writes the rounded block means into d (NRGBA, opaque).
+func finishRow(d []uint8, acc, cnt []uint32) {
+	for ox, n := range cnt {
+		d[4*ox] = uint8((acc[4*ox] + n/2) / n)
+		d[4*ox+1] = uint8((acc[4*ox+1] + n/2) / n)
+		d[4*ox+2] = uint8((acc[4*ox+2] + n/2) / n)
+		d[4*ox+3] = 255
+	}
+}

@@ -1,0 +1,283 @@
+package imageproc
+
+import (
+	"image"
+	"math"
+)
+
+// source is the decoded input as Prepare reads it: row by row or sampled
+// bilinearly, straight from the decoder's own pixel layout (8-bit RGBA,
+// JPEG's Y′CbCr planes, 8-bit grey), so that no full-page NRGBA copy of
+// the input is made unless a rare path needs one.
+type source struct {
+	w, h int
+	rgb  *image.NRGBA // NRGBA input, or opaque RGBA input read as NRGBA
+	ycc  *image.YCbCr // Rect.Min at the origin, known subsampling
+	hs   uint         // ycc: horizontal chroma shift (chroma x = x >> hs)
+	gray *image.Gray  // Rect.Min at the origin
+	img  image.Image  // the input, for the general conversion
+}
+
+// newSource wraps img. Inputs of other types (paletted, 16-bit, images
+// whose Rect does not start at the origin, RGBA with transparency) are
+// converted to NRGBA once, here.
+func newSource(img image.Image) *source {
+	b := img.Bounds()
+	s := &source{w: b.Dx(), h: b.Dy(), img: img}
+	switch m := img.(type) {
+	case *image.NRGBA:
+		if b.Min == (image.Point{}) {
+			s.rgb = m
+			return s
+		}
+	case *image.RGBA:
+		// Opaque RGBA has the bytes of NRGBA (premultiplying by 255
+		// changes nothing): read it in place.
+		if b.Min == (image.Point{}) && opaque(m) {
+			s.rgb = &image.NRGBA{Pix: m.Pix, Stride: m.Stride, Rect: m.Rect}
+			return s
+		}
+	case *image.YCbCr:
+		if hs, ok := chromaShift(m.SubsampleRatio); ok && b.Min == (image.Point{}) {
+			s.ycc, s.hs = m, hs
+			return s
+		}
+	case *image.Gray:
+		if b.Min == (image.Point{}) {
+			s.gray = m
+			return s
+		}
+	}
+	s.rgb = toNRGBA(img)
+	return s
+}
+
+// opaque reports whether every alpha byte of m is 255.
+func opaque(m *image.RGBA) bool {
+	w, h := m.Rect.Dx(), m.Rect.Dy()
+	for y := 0; y < h; y++ {
+		row := m.Pix[y*m.Stride : y*m.Stride+4*w]
+		for i := 3; i < len(row); i += 4 {
+			if row[i] != 255 {
+				return false
+			}
+		}
+	}
+	return true
+}
+
+// nrgba returns the input as an *image.NRGBA (the input itself when it
+// already is one; otherwise a conversion, made on every call).
+func (s *source) nrgba() *image.NRGBA {
+	if s.rgb != nil {
+		return s.rgb
+	}
+	return toNRGBA(s.img)
+}
+
+// row returns the NRGBA bytes of row y (4·w): a slice of the input when
+// it is NRGBA, otherwise converted into buf (len ≥ 4·w).
+func (s *source) row(buf []uint8, y int) []uint8 {
+	w := s.w
+	switch {
+	case s.rgb != nil:
+		return s.rgb.Pix[y*s.rgb.Stride : y*s.rgb.Stride+4*w]
+	case s.ycc != nil:
+		ycbcrRow(buf[:4*w], s.ycc, s.hs, y)
+	default:
+		d := buf[:4*w]
+		for x, v := range s.gray.Pix[y*s.gray.Stride : y*s.gray.Stride+w] {
+			o := d[4*x : 4*x+4 : 4*x+4]
+			o[0], o[1], o[2], o[3] = v, v, v, 255
+		}
+	}
+	return buf[:4*w]
+}
+
+// ycbcrRow converts row y of m (Rect.Min at the origin) into d (4 bytes
+// per pixel): the JFIF full-range conversion (ITU-T T.871 §7) in the
+// 16-bit fixed point of image/color's YCbCrToRGB, which gives identical
+// bytes. The chroma terms are computed once per chroma sample.
+func ycbcrRow(d []uint8, m *image.YCbCr, hs uint, y int) {
+	w := m.Rect.Dx()
+	yr := m.Y[y*m.YStride : y*m.YStride+w]
+	c0 := m.COffset(0, y)
+	cw := (w-1)>>hs + 1
+	cbr := m.Cb[c0 : c0+cw]
+	crr := m.Cr[c0 : c0+cw]
+	d = d[:4*w]
+	n := 1 << hs
+	for cx := range cbr {
+		cb1 := int32(cbr[cx]) - 128
+		cr1 := int32(crr[cx]) - 128
+		dr := 91881 * cr1
+		dg := -22554*cb1 - 46802*cr1
+		db := 116130 * cb1
+		x0 := cx << hs
+		x1 := min(w, x0+n)
+		for x, yv := range yr[x0:x1] {
+			yy1 := int32(yv) * 0x10101
+			o := d[4*(x0+x) : 4*(x0+x)+4 : 4*(x0+x)+4]
+			o[0] = clip16(yy1 + dr)
+			o[1] = clip16(yy1 + dg)
+			o[2] = clip16(yy1 + db)
+			o[3] = 255
+		}
+	}
+}
+
+// affineRow fills d (4 bytes per pixel, one dst row) by sampling the
+// source bilinearly along a line: the source point starts at (sx, sy)
+// and advances by (stepX, stepY) per pixel, all in 32.32 fixed point.
+// Samples outside the source are white paper. The bytes equal
+// warpAffineNRGBA's on the converted input. Y′CbCr input is read through
+// a window of converted rows (win), which must hold every row the dst row
+// touches; other inputs are read in place.
+func (s *source) affineRow(d []uint8, win *rowWindow, sx, sy, stepX, stepY int64) {
+	switch {
+	case s.rgb != nil:
+		affineRowNRGBA(d, s.rgb.Pix, s.rgb.Stride, s.w, s.h, 0, sx, sy, stepX, stepY)
+	case s.gray != nil:
+		affineRowGray(d, s.gray, sx, sy, stepX, stepY)
+	default:
+		affineRowNRGBA(d, win.pix, win.stride, s.w, s.h, win.lo, sx, sy, stepX, stepY)
+	}
+}
+
+// rowWindow holds converted input rows lo … lo+n−1 contiguously (NRGBA
+// bytes), sliding down the input as the upright rows advance: each input
+// row is converted once, and only a band of rows is ever in memory.
+type rowWindow struct {
+	src    *source
+	pix    []uint8
+	stride int
+	lo, n  int // rows held
+	cap    int // rows the buffer can hold
+}
+
+// newRowWindow returns a window of capacity rows over src.
+func newRowWindow(src *source, capacity int) *rowWindow {
+	return &rowWindow{src: src, stride: 4 * src.w, cap: capacity, pix: make([]uint8, 4*src.w*capacity)}
+}
+
+// need makes the window hold input rows y0 … y1 (clamped to the input).
+// Rows must be requested in non-decreasing order of y0, and y1 − y0 must
+// be below the capacity.
+func (r *rowWindow) need(y0, y1 int) {
+	y0, y1 = max(y0, 0), min(y1, r.src.h-1)
+	if y1 < y0 {
+		return
+	}
+	if y0 < r.lo || y0 >= r.lo+r.n {
+		// Jump: start afresh at y0.
+		r.lo, r.n = y0, 0
+	} else if y1 >= r.lo+r.cap {
+		// Slide: keep rows from y0 on at the buffer's start.
+		keep := r.lo + r.n - y0
+		copy(r.pix, r.pix[(y0-r.lo)*r.stride:(y0-r.lo+keep)*r.stride])
+		r.lo, r.n = y0, keep
+	}
+	for y := r.lo + r.n; y <= y1; y++ {
+		k := y - r.lo
+		r.src.row(r.pix[k*r.stride:(k+1)*r.stride], y)
+		r.n++
+	}
+}
+
+// chromaVShift returns log2 of the vertical chroma subsampling of r.
+func chromaVShift(r image.YCbCrSubsampleRatio) uint {
+	switch r {
+	case image.YCbCrSubsampleRatio420, image.YCbCrSubsampleRatio440, image.YCbCrSubsampleRatio410:
+		return 1
+	}
+	return 0
+}
+
+const fixOne = 1 << 32
+
+// toFix32 converts v to 32.32 fixed point, rounded.
+func toFix32(v float64) int64 { return int64(math.Round(v * fixOne)) }
+
+// affineRowNRGBA is one row of warpAffineNRGBA for a sw×sh NRGBA input
+// whose row y starts at sp[(y−lo)·ss] (lo > 0 for a window of rows).
+func affineRowNRGBA(d []uint8, sp []uint8, ss, sw, sh, lo int, sx, sy, stepX, stepY int64) {
+	loX, loY := int64(-fixOne), int64(-fixOne)
+	hiX, hiY := int64(sw)<<32, int64(sh)<<32
+	var white = [4]uint8{255, 255, 255, 255}
+	pick := func(xx, yy int) []uint8 {
+		if xx < 0 || yy < 0 || xx >= sw || yy >= sh {
+			return white[:]
+		}
+		i := (yy-lo)*ss + 4*xx
+		return sp[i : i+4 : i+4]
+	}
+	dw := len(d) / 4
+	for x := 0; x < dw; x, sx, sy = x+1, sx+stepX, sy+stepY {
+		o := d[4*x : 4*x+4 : 4*x+4]
+		if !(sx > loX && sy > loY && sx < hiX && sy < hiY) {
+			o[0], o[1], o[2], o[3] = 255, 255, 255, 255
+			continue
+		}
+		x0, y0 := int(sx>>32), int(sy>>32)
+		// Rounded 8-bit weights, as round(frac·256).
+		ax := uint32(((sx & (fixOne - 1)) + 1<<23) >> 24)
+		ay := uint32(((sy & (fixOne - 1)) + 1<<23) >> 24)
+		w00 := (256 - ax) * (256 - ay)
+		w10 := ax * (256 - ay)
+		w01 := (256 - ax) * ay
+		w11 := ax * ay
+		if x0 >= 0 && y0 >= 0 && x0+1 < sw && y0+1 < sh {
+			i := (y0-lo)*ss + 4*x0
+			c0 := sp[i : i+8 : i+8]
+			c1 := sp[i+ss : i+ss+8 : i+ss+8]
+			o[0] = uint8((w00*uint32(c0[0]) + w10*uint32(c0[4]) + w01*uint32(c1[0]) + w11*uint32(c1[4]) + 32768) >> 16)
+			o[1] = uint8((w00*uint32(c0[1]) + w10*uint32(c0[5]) + w01*uint32(c1[1]) + w11*uint32(c1[5]) + 32768) >> 16)
+			o[2] = uint8((w00*uint32(c0[2]) + w10*uint32(c0[6]) + w01*uint32(c1[2]) + w11*uint32(c1[6]) + 32768) >> 16)
+			o[3] = 255
+			continue
+		}
+		c00, c10, c01, c11 := pick(x0, y0), pick(x0+1, y0), pick(x0, y0+1), pick(x0+1, y0+1)
+		o[0] = uint8((w00*uint32(c00[0]) + w10*uint32(c10[0]) + w01*uint32(c01[0]) + w11*uint32(c11[0]) + 32768) >> 16)
+		o[1] = uint8((w00*uint32(c00[1]) + w10*uint32(c10[1]) + w01*uint32(c01[1]) + w11*uint32(c11[1]) + 32768) >> 16)
+		o[2] = uint8((w00*uint32(c00[2]) + w10*uint32(c10[2]) + w01*uint32(c01[2]) + w11*uint32(c11[2]) + 32768) >> 16)
+		o[3] = 255
+	}
+}
+
+// affineRowGray is affineRowNRGBA for a grey input (one channel, copied
+// to the three colour bytes).
+func affineRowGray(d []uint8, src *image.Gray, sx, sy, stepX, stepY int64) {
+	sw, sh := src.Rect.Dx(), src.Rect.Dy()
+	sp := src.Pix
+	ss := src.Stride
+	loX, loY := int64(-fixOne), int64(-fixOne)
+	hiX, hiY := int64(sw)<<32, int64(sh)<<32
+	pick := func(xx, yy int) uint32 {
+		if xx < 0 || yy < 0 || xx >= sw || yy >= sh {
+			return 255
+		}
+		return uint32(sp[yy*ss+xx])
+	}
+	dw := len(d) / 4
+	for x := 0; x < dw; x, sx, sy = x+1, sx+stepX, sy+stepY {
+		o := d[4*x : 4*x+4 : 4*x+4]
+		if !(sx > loX && sy > loY && sx < hiX && sy < hiY) {
+			o[0], o[1], o[2], o[3] = 255, 255, 255, 255
+			continue
+		}
+		x0, y0 := int(sx>>32), int(sy>>32)
+		ax := uint32(((sx & (fixOne - 1)) + 1<<23) >> 24)
+		ay := uint32(((sy & (fixOne - 1)) + 1<<23) >> 24)
+		var c00, c10, c01, c11 uint32
+		if x0 >= 0 && y0 >= 0 && x0+1 < sw && y0+1 < sh {
+			i := y0*ss + x0
+			c0 := sp[i : i+2 : i+2]
+			c1 := sp[i+ss : i+ss+2 : i+ss+2]
+			c00, c10, c01, c11 = uint32(c0[0]), uint32(c0[1]), uint32(c1[0]), uint32(c1[1])
+		} else {
+			c00, c10, c01, c11 = pick(x0, y0), pick(x0+1, y0), pick(x0, y0+1), pick(x0+1, y0+1)
+		}
+		v := uint8(((256-ax)*(256-ay)*c00 + ax*(256-ay)*c10 + (256-ax)*ay*c01 + ax*ay*c11 + 32768) >> 16)
+		o[0], o[1], o[2], o[3] = v, v, v, 255
+	}
+}
