@@ -234,6 +234,9 @@ func runBatch(ctx context.Context, ios *IOStreams, opts *batchOptions) error {
 			for in := range jobs {
 				old, hadOld := prev[in.Rel]
 				e, skipped, err := batchOne(ctx, db, in, opts, fingerprint, old, hadOld, bases[in.Rel], process)
+				if !skipped {
+					collectBetweenInputs()
+				}
 				mu.Lock()
 				switch {
 				case err != nil:
@@ -392,6 +395,19 @@ func batchOne(ctx context.Context, db *catalog.DB, in catalog.Input, opts *batch
 	}
 	return e, false, nil
 }
+
+// collectBetweenInputs runs a garbage collection, and is called by each
+// worker after every digitised input. A page allocates
+// some 150–200 MB of full-page images that are garbage once its outputs
+// are written; left to the pacer (GOGC=100) the heap grows to about twice
+// the previous live heap while the next page is decoded on top of the last
+// one's garbage. Collecting between inputs keeps a worker's peak near that
+// of a single page: batch on 8 A4 scans, peak resident memory -j 1 258 →
+// 169–177 MB, -j 2 391 → 296–308 MB (measured 2026-12-01, /usr/bin/time).
+// A cycle takes under 10 ms of a page's second (the big buffers hold no
+// pointers, so marking is quick). Collecting in the background instead,
+// without the worker waiting, saved less (-j 1 191–218 MB).
+func collectBetweenInputs() { runtime.GC() }
 
 // runtimeLimits makes -j a bound on the cores used: the front end spreads
 // each page's full-page pass over GOMAXPROCS threads, so without the bound
