@@ -83,7 +83,11 @@ func loadFrontEnd(t testing.TB, c accuracy.Case, dir string) (*frontEnd, error) 
 // end output is cached in $TRACELIFT_FOLLOW_CACHE (built on first use), so
 // that changes to trace following can be measured quickly. Conditions and
 // layouts come from TRACELIFT_TRACE_CONDS and TRACELIFT_FOLLOW_LAYOUTS,
-// the number of seeds from TRACELIFT_TRACE_CORPUS (default 2).
+// the number of seeds from TRACELIFT_TRACE_CORPUS (default 2). Per page it
+// logs the SNR (PhysioNet/CinC Challenge 2024 metric, lenient variant) and
+// how the error splits between the QRS complexes and the rest; with
+// TRACELIFT_TRACE_OVERLAY it draws the ink, the truth (pale yellow, placed
+// by the panel's geometry) and the followed paths (one colour per row).
 func TestFollowCorpus(t *testing.T) {
 	dir := os.Getenv("TRACELIFT_FOLLOW_CACHE")
 	if dir == "" {
@@ -146,6 +150,69 @@ func TestFollowCorpus(t *testing.T) {
 						nsw++
 					}
 				}
+			}
+			{
+				// Where the error is: inside the QRS complexes (±20 ms) or
+				// elsewhere, and how much of the QRS error is amplitude the
+				// estimate has beyond the truth (a neighbour's stroke taken)
+				// rather than amplitude missed.
+				var eq, eo, sig, ex float64
+				for _, s := range fe.Printed.Signals {
+					e := est.Signal(s.Lead)
+					var mx, my float64
+					var n int
+					for i, v := range s.Samples {
+						if math.IsNaN(v) {
+							continue
+						}
+						w := math.NaN()
+						if e != nil {
+							w = e.At(s.Time(i) + sc.ShiftS)
+						}
+						if math.IsNaN(w) {
+							w = 0
+						}
+						mx += v
+						my += w
+						n++
+					}
+					if n == 0 {
+						continue
+					}
+					mx /= float64(n)
+					my /= float64(n)
+					for i, v := range s.Samples {
+						if math.IsNaN(v) {
+							continue
+						}
+						w := math.NaN()
+						if e != nil {
+							w = e.At(s.Time(i) + sc.ShiftS)
+						}
+						if math.IsNaN(w) {
+							w = 0
+						}
+						d := (v - mx) - (w - my)
+						sig += (v - mx) * (v - mx)
+						tt := s.Time(i)
+						inQ := false
+						for _, b := range fe.Full.Beats {
+							if tt >= b.QRSOn-0.02 && tt <= b.QRSOff+0.02 {
+								inQ = true
+								break
+							}
+						}
+						if inQ {
+							if math.Abs(w-my) > math.Abs(v-mx) {
+								ex += d * d
+							}
+							eq += d * d
+						} else {
+							eo += d * d
+						}
+					}
+				}
+				t.Logf("  error in QRS %.0f %% (excess amplitude %.0f %% of it), page SNR %.1f dB, without QRS errors %.1f dB", 100*eq/(eq+eo), 100*ex/eq, 10*math.Log10(sig/(eq+eo)), 10*math.Log10(sig/eo))
 			}
 			sort.Float64s(pv)
 			printed += np
