@@ -148,7 +148,7 @@ func Extract(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse, opt *Op
 	lay := o.Layout
 	detected := lay == nil
 	if detected {
-		lay = detectLayout(rows, cal)
+		lay, rows = detectLayout(ink, rows, cal)
 	}
 	if len(lay.Rows) == 0 {
 		return nil, fmt.Errorf("trace: extract: layout has no rows: %w", ecg.ErrNoECG)
@@ -861,7 +861,9 @@ func alignToTicks(rows []rowInfo, lay *Layout, cal grid.Calibration) {
 			n++
 		}
 	}
-	if n < 2 || 2*n < len(ds) {
+	// A tick's centre is good to about half a pixel, no better than the
+	// pulse's edge: shifts under 0.25 mm are left to the pulses.
+	if n < 2 || 2*n < len(ds) || math.Abs(sum/float64(n)) < 0.25*pxX {
 		return
 	}
 	for i := range rows {

@@ -2,6 +2,7 @@ package trace
 
 import (
 	"errors"
+	"image"
 	"math"
 	"strings"
 	"testing"
@@ -162,5 +163,66 @@ func TestSNR(t *testing.T) {
 	}
 	if got := SNR(tr, half, SNROptions{}).PerLead[ecg.LeadII]; math.Abs(got) > 1e-9 {
 		t.Errorf("estimate only where the truth is unprinted: %g dB, want 0", got)
+	}
+}
+
+func TestFillPitchGaps(t *testing.T) {
+	// Baselines at a 15 mm pitch (12 rows on A4 at 8 px/mm ≈ 120 px)
+	// with the scatter of profile peaks on a fax (±8 px); one row lost.
+	ys := []float64{373, 493, 608, 734, 841, 1084, 1190, 1311, 1423, 1543, 1658}
+	var rows []rowInfo
+	for _, y := range ys {
+		rows = append(rows, rowInfo{baseY: y, hasPulse: true, zeroY: y})
+	}
+	got := fillPitchGaps(rows)
+	if len(got) != 12 {
+		t.Fatalf("%d rows, want 12", len(got))
+	}
+	if ph := got[5]; ph.hasPulse || !math.IsNaN(ph.zeroY) || math.Abs(ph.baseY-962.5) > 1 {
+		t.Errorf("placeholder %+v, want a pulse-less row at y 962.5", ph)
+	}
+	// A gap of 1.5 pitches is not a lost row.
+	rows = []rowInfo{{baseY: 100}, {baseY: 220}, {baseY: 340}, {baseY: 520}}
+	if got := fillPitchGaps(rows); len(got) != 4 {
+		t.Errorf("1.5-pitch gap: %d rows, want 4", len(got))
+	}
+}
+
+func TestRowEcho(t *testing.T) {
+	// Four rows 20 mm apart at 10 px/mm; rows 0 and 2 print the same
+	// curve, rows 1 and 3 others (a sine of another period and its
+	// negative).
+	const px = 10.0
+	ink := image.NewGray(image.Rect(0, 0, 2600, 900))
+	curves := []func(x float64) float64{
+		func(x float64) float64 { return 40 * math.Sin(x/37) * math.Sin(x/211) },
+		func(x float64) float64 { return 40 * math.Sin(x/53) },
+		func(x float64) float64 { return 40 * math.Sin(x/37) * math.Sin(x/211) },
+		func(x float64) float64 { return -40 * math.Sin(x/37) * math.Sin(x/211) },
+	}
+	var rows []rowInfo
+	for i, f := range curves {
+		base := 150 + 200*float64(i)
+		for x := 100; x < 2600; x++ {
+			y := int(math.Round(base + f(float64(x))))
+			for d := -1; d <= 1; d++ {
+				ink.Pix[(y+d)*ink.Stride+x] = 255
+			}
+		}
+		rows = append(rows, rowInfo{baseY: base, traceX0: 100, x1: 2600})
+	}
+	if e := rowEcho(ink, rows, 2, 0, 0, 0.25, px, px); e < 0.99 {
+		t.Errorf("same curve: echo %.2f, want ≈ 1", e)
+	}
+	if e := rowEcho(ink, rows, 1, 0, 0, 0.25, px, px); e > 0.5 {
+		t.Errorf("different curves: echo %.2f, want low", e)
+	}
+	if e := rowEcho(ink, rows, 3, 0, 0, 0.25, px, px); e > -0.9 {
+		t.Errorf("inverted curve: echo %.2f, want ≈ −1", e)
+	}
+	// No ink in the window: no echo.
+	empty := image.NewGray(ink.Rect)
+	if e := rowEcho(empty, rows, 2, 0, 0, 0.25, px, px); !math.IsNaN(e) {
+		t.Errorf("empty page: echo %.2f, want NaN", e)
 	}
 }

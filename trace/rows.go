@@ -19,6 +19,7 @@ type rowInfo struct {
 	score    float64   // coverage of the row's extent by ink near the baseline, 0..1
 	ticks    []float64 // x of tall isolated strokes (column separators), px
 	loose    bool      // found only on the looser reading (gaps up to 12 mm)
+	cols     []bool    // image columns (from the ink map's left edge) with ink within 3 mm of the baseline
 }
 
 // inkProfile returns the number of ink pixels of each image row.
@@ -135,7 +136,7 @@ func findRows(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse) []rowI
 		if x0 < 0 || float64(x1-x0) < 25*pxX {
 			continue
 		}
-		r := rowInfo{baseY: float64(py), zeroY: math.NaN(), x0: x0 + b.Min.X, x1: x1 + 1 + b.Min.X, score: cov, loose: loose}
+		r := rowInfo{baseY: float64(py), zeroY: math.NaN(), x0: x0 + b.Min.X, x1: x1 + 1 + b.Min.X, score: cov, loose: loose, cols: append([]bool(nil), has...)}
 		rows = append(rows, r)
 	}
 	// Keep rows whose extent is comparable with the widest one (drops
@@ -184,6 +185,7 @@ func findRows(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse) []rowI
 			}
 		}
 		rows = out
+		commonStart(rows, pxX)
 	}
 	if np >= 2 {
 		// Keep rows without a pulse (one may be crossed by tall complexes)
@@ -222,6 +224,25 @@ func findRows(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse) []rowI
 		spansLate := func(r rowInfo) bool {
 			return math.Abs(float64(r.x1)-refX1) <= 5*pxX && float64(r.x0) > refX0-25*pxX && float64(r.x1-r.x0) >= 0.5*(refX1-refX0)
 		}
+		// A row may also reach past both ends of the pulse rows' stretch
+		// (grid dashes left in the ink): it then needs the coverage of a
+		// trace row over that stretch.
+		covers := func(r rowInfo) bool {
+			if float64(r.x0) > refX0+5*pxX || float64(r.x1) < refX1-5*pxX {
+				return false
+			}
+			a, z := int(refX0)-b.Min.X, int(refX1)-b.Min.X
+			if a < 0 || z > len(r.cols) || z-a < 2 {
+				return false
+			}
+			n := 0
+			for _, h := range r.cols[a:z] {
+				if h {
+					n++
+				}
+			}
+			return float64(n) >= 0.6*float64(z-a)
+		}
 		var gaps []float64
 		prev = math.NaN()
 		for _, r := range rows {
@@ -252,6 +273,12 @@ func findRows(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse) []rowI
 				r.x0 = min(r.x0, int(refX0))
 				r.traceX0 = refX0
 			}
+			if !keep && !spans(r) && covers(r) {
+				// Dashes of grid left in the ink (a grey page) run the
+				// row's stretch on past both ends of the trace: the row
+				// takes the pulse rows' stretch.
+				r.x0, r.x1, r.traceX0 = max(r.x0, int(refX0)), int(refX1), refX0
+			}
 			if !keep && spans(r) {
 				keep = true
 				for _, q := range rows {
@@ -259,6 +286,11 @@ func findRows(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse) []rowI
 						keep = false
 					}
 				}
+			}
+			if keep && !r.hasPulse && r.traceX0 < refX0 {
+				// Ink before the pulse rows' trace start (remnants of a
+				// pulse, grid dashes) is not trace: rows start together.
+				r.traceX0 = refX0
 			}
 			if keep {
 				out = append(out, r)
@@ -392,8 +424,9 @@ func findPulse(ink *image.Gray, r *rowInfo, cal grid.Calibration) {
 }
 
 // findTicks records tall, isolated vertical strokes in a row: printed
-// column separators. A stroke counts when it is at least 3 mm tall and the
-// trace 1.5 mm to either side is thin.
+// column separators. A stroke counts when it crosses the baseline by 1.2–5
+// mm each way, the trace 1.5 mm to one side of it is thin and its ends
+// stand alone (tickCentre), which a steep QRS stroke's do not.
 func findTicks(ink *image.Gray, r *rowInfo, cal grid.Calibration, rowsAbove, rowsBelow float64) {
 	pxX, pxY := cal.PxPerMMX.V, cal.PxPerMMY.V
 	band := image.Rect(int(r.traceX0), int(r.baseY-rowsAbove), r.x1, int(r.baseY+rowsBelow)).Intersect(ink.Rect)
@@ -439,10 +472,93 @@ func findTicks(ink *image.Gray, r *rowInfo, cal grid.Calibration, rowsAbove, row
 		for e+1 < cr.width() && isTick(e+1) {
 			e++
 		}
-		if e-c <= d && maxH(c-d) <= 2*pen+1 && maxH(e+d) <= 2*pen+1 {
-			// The stroke's centre, px.
-			r.ticks = append(r.ticks, float64(cr.x0)+float64(c+e)/2)
+		if e-c <= d && (maxH(c-d) <= 2*pen+1 || maxH(e+d) <= 2*pen+1) {
+			if x, ok := tickCentre(ink, &cr, c, e, base, pxX, pxY); ok {
+				r.ticks = append(r.ticks, x)
+			}
 		}
 		c = e
+	}
+}
+
+// tickCentre checks that the vertical stroke in columns [c, e] of cr
+// stands alone above and below the baseline and returns its ink-weighted
+// centre, px. A printed separator is crossed by the trace only near the
+// baseline, while a steep QRS stroke (which blurs into one tall run per
+// column on a scan) is joined by the rest of its complex beside its top or
+// bottom end: beside the stroke (1 px clear of it, 0.8 mm wide) and away
+// from the baseline (0.7 mm) at most 8 % of the pixels may be ink. The
+// centre is the median over the same rows (clear of the trace) of each
+// row's ink-weighted centre, so it is sub-pixel.
+func tickCentre(ink *image.Gray, cr *columnRuns, c, e int, base, pxX, pxY float64) (float64, bool) {
+	top, bot := math.Inf(1), math.Inf(-1)
+	for k := c; k <= e; k++ {
+		for _, ru := range cr.col(k) {
+			if float64(ru.top) < base && float64(ru.bot) > base {
+				top, bot = math.Min(top, float64(ru.top)), math.Max(bot, float64(ru.bot))
+			}
+		}
+	}
+	if math.IsInf(top, 0) {
+		return 0, false
+	}
+	g := max(2, int(math.Round(0.8*pxX)))
+	xl0, xr1 := cr.x0+c-1-g, cr.x0+e+1+g
+	xl1, xr0 := cr.x0+c-2, cr.x0+e+2
+	clear := 0.7 * pxY
+	inkN, area := 0, 0
+	var centres []float64
+	b := ink.Rect
+	for _, ys := range [2][2]int{{int(top), int(base - clear)}, {int(math.Ceil(base + clear)), int(bot)}} {
+		for y := max(ys[0], b.Min.Y); y <= min(ys[1], b.Max.Y-1); y++ {
+			row := ink.Pix[(y-b.Min.Y)*ink.Stride:]
+			var sw, swx float64
+			for x := max(xl0, b.Min.X); x <= min(xr1, b.Max.X-1); x++ {
+				v := row[x-b.Min.X]
+				if x > xl1 && x < xr0 {
+					sw += float64(v)
+					swx += float64(v) * float64(x)
+					continue
+				}
+				area++
+				if v >= inkThreshold {
+					inkN++
+				}
+			}
+			if sw > 0 {
+				centres = append(centres, swx/sw)
+			}
+		}
+	}
+	if area == 0 || len(centres) == 0 || float64(inkN) > 0.08*float64(area) {
+		return 0, false
+	}
+	// The median of the rows' centres: a complex touching the stroke
+	// over a few rows does not pull it aside.
+	sort.Float64s(centres)
+	return centres[len(centres)/2], true
+}
+
+// commonStart moves the start of rows without a pulse whose ink begins
+// left of the page's common trace start (the median start of the rows) to
+// that start: the rows of a page start together (common practice), and ink
+// before the start is a pulse whose strokes a fax broke, or grid dashes.
+// Rows starting later are left alone (a fax may drop a row's first
+// centimetres).
+func commonStart(rows []rowInfo, pxX float64) {
+	if len(rows) < 3 {
+		return
+	}
+	xs := make([]float64, 0, len(rows))
+	for _, r := range rows {
+		xs = append(xs, r.traceX0)
+	}
+	sort.Float64s(xs)
+	med := xs[len(xs)/2]
+	for i := range rows {
+		r := &rows[i]
+		if !r.hasPulse && r.traceX0 < med-pxX && float64(r.x1) > med+100*pxX {
+			r.traceX0 = med
+		}
 	}
 }
