@@ -413,14 +413,27 @@ func collectBetweenInputs() { runtime.GC() }
 // each page's full-page pass over GOMAXPROCS threads, so without the bound
 // "-j 1" would still occupy every core for part of each page (about a
 // third of its CPU time on a 300-dpi A4 page, measured 2026-12-01). With
-// N workers on N or more cores nothing changes. maxMemMB > 0 sets a soft
-// memory limit (runtime/debug.SetMemoryLimit) for machines or job slots
-// with little memory: the collector then runs more often near it, trading
-// CPU time for resident memory. The returned function restores both.
+// N workers on N or more cores nothing changes.
+//
+// Since every worker collects after each input (collectBetweenInputs),
+// the pacer is given more room within a page (GOGC 300 instead of 100,
+// unless the user set GOGC): fewer collections in mid-page and less memory
+// handed back to the system only to be faulted in again. On 8 A4 scans
+// with -j 1 this cut page faults from 53–60 k to 45 k and user+system CPU
+// by about 7 %, for 15–20 MB more peak memory (measured 2026-12-01).
+//
+// maxMemMB > 0 sets a soft memory limit (runtime/debug.SetMemoryLimit)
+// for machines or job slots with little memory: the collector then runs
+// more often near it, trading CPU time for resident memory. The returned
+// function restores every setting.
 func runtimeLimits(workers, maxMemMB int) (restore func()) {
 	procs := runtime.GOMAXPROCS(0)
 	if workers < procs {
 		runtime.GOMAXPROCS(workers)
+	}
+	gcPercent := debug.SetGCPercent(300)
+	if gcPercent != 100 {
+		debug.SetGCPercent(gcPercent) // GOGC chosen by the user
 	}
 	mem := int64(-1)
 	if maxMemMB > 0 {
@@ -433,6 +446,7 @@ func runtimeLimits(workers, maxMemMB int) (restore func()) {
 		if mem >= 0 {
 			debug.SetMemoryLimit(mem)
 		}
+		debug.SetGCPercent(gcPercent)
 	}
 }
 

@@ -537,12 +537,22 @@ func TestBatchFlags(t *testing.T) {
 func TestRuntimeLimitsRestore(t *testing.T) {
 	procs := runtime.GOMAXPROCS(0)
 	mem := debug.SetMemoryLimit(-1)
+	gc := debug.SetGCPercent(100)
+	defer debug.SetGCPercent(gc)
 	restore := runtimeLimits(1, 123)
 	assert.Equal(t, 1, runtime.GOMAXPROCS(0), "-j 1 runs on one core")
 	assert.Equal(t, int64(123)<<20, debug.SetMemoryLimit(-1))
+	assert.Equal(t, 300, debug.SetGCPercent(300), "the default GOGC is raised for batch")
 	restore()
 	assert.Equal(t, procs, runtime.GOMAXPROCS(0))
 	assert.Equal(t, mem, debug.SetMemoryLimit(-1))
+	assert.Equal(t, 100, debug.SetGCPercent(100))
+
+	debug.SetGCPercent(50) // as if GOGC=50 were set
+	restore = runtimeLimits(1, 0)
+	assert.Equal(t, 50, debug.SetGCPercent(50), "a GOGC chosen by the user is kept")
+	restore()
+	debug.SetGCPercent(100)
 
 	restore = runtimeLimits(procs+4, 0)
 	assert.Equal(t, procs, runtime.GOMAXPROCS(0), "more workers than cores leave GOMAXPROCS alone")
