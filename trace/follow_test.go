@@ -275,3 +275,34 @@ func TestFollowNeighbourCrossing(t *testing.T) {
 		})
 	}
 }
+
+// TestFollowSteepPeakBesideJitter draws a trace whose sample-to-sample
+// jitter makes its vertical runs ≈ 2 mm tall (at 10 px/mm), and a
+// near-vertical R wave (up 15 mm within 3 columns and down within 3, as
+// 20 mm/mV pages print tall complexes). Pen bounds built from the
+// inflated run heights held such apexes down towards the flat trace's
+// level (65 px, 6.5 mm, short); with the bound radius capped at
+// maxPenRadiusMM the apex comes within 15 px (the 0.3 mm radius is twice
+// this pen's; a smaller cap scored worse on the overlap corpus), and must
+// stay within 2 mm.
+func TestFollowSteepPeakBesideJitter(t *testing.T) {
+	const base, apex = 300.0, 150.0
+	rng := rand.New(rand.NewPCG(9, 9))
+	m := image.NewGray(image.Rect(0, 0, 200, 400))
+	var pts []Point
+	for x := 0.0; x < 200; x++ {
+		y := base + 20*(rng.Float64()-0.5)
+		switch {
+		case x >= 97 && x <= 100:
+			y = base - (base-apex)*(x-97)/3
+		case x > 100 && x <= 103:
+			y = apex + (base-apex)*(x-100)/3
+		}
+		pts = append(pts, Point{x, y})
+	}
+	stroke(m, pts, 1.75)
+	pr := followMask(m, base)
+	if got := minY(pr.points, 90, 110); math.Abs(got-apex) > 20 {
+		t.Errorf("apex at y = %.1f px, drawn at %.0f (pen median %.0f px)", got, apex, pr.penPx)
+	}
+}

@@ -90,11 +90,12 @@ func TestFaxFloor(t *testing.T) {
 // complexes, so QRS strokes of neighbouring rows cross each trace) through
 // the whole front end and asserts that every lead comes back under its own
 // name and the median SNR (PhysioNet/CinC Challenge 2024 metric,
-// standards.md §7, lenient variant) stays above a floor. Measured 13.0 dB
-// on this page; the overlap median over ten pages (3x4, 3x4+1, 3x4+3,
-// 6x2, cabrera-3x4; seeds 1–2) is 8.2 dB with 8 swaps (10 before
-// crossing strokes were passed at the trace's level), far from the 15 dB
-// target: see doc.go, Known limits.
+// standards.md §7, lenient variant) stays above a floor. Measured 18.3 dB
+// on this page (13.0 before the pen-bound radius was capped at
+// maxPenRadiusMM); the overlap median over ten pages (3x4, 3x4+1, 3x4+3,
+// 6x2, cabrera-3x4; seeds 1–2) is 14.8 dB with 7 swaps (8.2 dB and 10
+// swaps before), the 3x4+3 and 6x2 pages still lose or swap complexes:
+// see doc.go, Known limits.
 func TestOverlapFloor(t *testing.T) {
 	if testing.Short() {
 		t.Skip("renders a full page")
@@ -107,8 +108,8 @@ func TestOverlapFloor(t *testing.T) {
 	if cs.found != cs.printed || cs.swaps != 0 {
 		t.Errorf("found %d of %d leads, %d swaps", cs.found, cs.printed, cs.swaps)
 	}
-	if cs.lenient.Median < 12 {
-		t.Errorf("median SNR %.1f dB < 12 dB (%s)", cs.lenient.Median, fmtLeads(cs.lenient.PerLead))
+	if cs.lenient.Median < 16 {
+		t.Errorf("median SNR %.1f dB < 16 dB (%s)", cs.lenient.Median, fmtLeads(cs.lenient.PerLead))
 	}
 	t.Logf("%s: median %.1f dB (strict %.1f)", cs.name, cs.lenient.Median, cs.strict.Median)
 }
