@@ -6,6 +6,7 @@ import (
 	"os"
 	"slices"
 	"strconv"
+	"strings"
 	"testing"
 	"time"
 
@@ -35,7 +36,7 @@ func corpusScore(t testing.TB, cond string, seed uint64, i int) (Score, error) {
 		return Score{}, err
 	}
 	tr := pg.Truth
-	return Evaluate(p, r, Reference{PaperToImage: tr.PaperToImage, GridRectMM: tr.GridRectMM,
+	return Evaluate(p, r, Reference{PaperToImage: tr.PaperToImage, ImageToPaper: tr.PxToPaper, GridRectMM: tr.GridRectMM,
 		RotationDeg: tr.RotationDeg, GainMMPerMV: tr.GainMMPerMV, SpeedMMPerS: tr.SpeedMMPerS}), nil
 }
 
@@ -91,12 +92,20 @@ func TestCorpusEvaluation(t *testing.T) {
 		n = v
 	}
 	fmt.Printf("| condition | pages | fail | skew err median / p95 (°) | px/mm err x median / p95 (%%) | y median / p95 (%%) | gain ok / read from pulses | orient ok | residual p95 (mm) | s/page |\n|---|---|---|---|---|---|---|---|---|---|\n")
-	for _, cond := range []string{"clean", "scan", "gray", "fax", "photo", "lowres"} {
+	conds := []string{"clean", "scan", "gray", "fax", "photo", "lowres"}
+	if v := os.Getenv("TRACELIFT_EVAL_COND"); v != "" {
+		conds = strings.Split(v, ",")
+	}
+	verbose := os.Getenv("TRACELIFT_EVAL_PAGES") != ""
+	for _, cond := range conds {
 		var sk, ex, ey, res []float64
 		fails, gain, read, orient := 0, 0, 0, 0
 		t0 := time.Now()
 		for i := 0; i < n; i++ {
 			s, err := corpusScore(t, cond, 1000, i)
+			if verbose {
+				fmt.Printf("  %s %d: %+v err %v\n", cond, i, s, err)
+			}
 			if err != nil {
 				fails++
 				continue
@@ -128,4 +137,33 @@ func quant(v []float64, q float64) float64 {
 	s := slices.Clone(v)
 	slices.Sort(s)
 	return s[min(len(s)-1, int(q*float64(len(s))))]
+}
+
+// TestCorpusPhoto asserts the photo bounds of the issue on seeded phone
+// photos (render.CorpusPage "photo": perspective, ±10° skew, lens k1
+// ±0.01–0.04, blur, JPEG; the truth sidecar's full mapping, lens included,
+// is the reference): residual distortion ≤ 0.5 mm over the grid area,
+// px/mm within 1 % on both axes, orientation right.
+func TestCorpusPhoto(t *testing.T) {
+	if testing.Short() {
+		t.Skip("renders full pages")
+	}
+	for _, i := range []int{0, 1} {
+		t.Run(strconv.Itoa(i), func(t *testing.T) {
+			s, err := corpusScore(t, "photo", 100, i)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if !s.OrientationOK {
+				t.Fatalf("orientation wrong")
+			}
+			if s.ResidualMM > 0.5 {
+				t.Errorf("residual distortion %.3f mm > 0.5 mm", s.ResidualMM)
+			}
+			if s.PxPerMMErrX > 0.01 || s.PxPerMMErrY > 0.01 {
+				t.Errorf("px/mm error x %.4f y %.4f > 1 %%", s.PxPerMMErrX, s.PxPerMMErrY)
+			}
+			t.Logf("residual %.3f mm, px/mm error x %.4f y %.4f, skew %.3f°", s.ResidualMM, s.PxPerMMErrX, s.PxPerMMErrY, s.SkewErrDeg)
+		})
+	}
 }

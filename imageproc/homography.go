@@ -61,7 +61,7 @@ func EstimateHomography(src, dst []Point) (Homography, error) {
 		a.SetRow(2*k+1, []float64{0, 0, 0, -x, -y, -1, v * x, v * y, v})
 	}
 	var svd mat.SVD
-	if !svd.Factorize(a, mat.SVDFull) {
+	if !svd.Factorize(a, mat.SVDThin) { // V is 9×9 either way; thin keeps U at 2n×9
 		return h, ErrDegenerate
 	}
 	var vt mat.Dense

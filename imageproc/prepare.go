@@ -41,6 +41,11 @@ type Page struct {
 	// ToSource maps upright pixels to input pixels (row-major homography,
 	// pixel centres at integer coordinates).
 	ToSource [9]float64
+	// Mesh, when not nil, is the full map from upright px to input px of a
+	// photo registered to its grid lattice (lens and curl included);
+	// ToSource is then the best homography fit to it. Page.SourcePoint
+	// uses whichever applies.
+	Mesh *Mesh
 	// Rectified reports that a perspective (photo) correction was applied.
 	Rectified bool
 	// GridColor is the grid's colour family: "red", "pink", "orange",
@@ -202,6 +207,10 @@ func Prepare(img image.Image, opt *Options) (*Page, error) {
 			p.GridColor = GridNone
 			p.Warnings = append(p.Warnings, "no grid lines found; calibration must come from pulses, metadata or options")
 		}
+	}
+	if p.Rectified || (mask != nil && !o.NoRectify && !o.NoDeskew) {
+		// A photo: register the page to its grid lattice (photo.go).
+		registerPhoto(p, src.nrgba(), pre, toSrc, bgw, fullToWork, sep, f, wInk)
 	}
 	return p, nil
 }

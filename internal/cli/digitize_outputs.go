@@ -12,7 +12,6 @@ import (
 	"tracelift/export/overlay"
 	"tracelift/export/wfdb"
 	"tracelift/grid"
-	"tracelift/imageproc"
 	"tracelift/imageproc/decode"
 	"tracelift/internal/atomicfile"
 	"tracelift/measure"
@@ -163,7 +162,6 @@ func overlaySegments(r *pipeline.Result) []overlay.Segment {
 	if r.Trace == nil || r.Page == nil {
 		return nil
 	}
-	h := r.Page.ToSource
 	segs := make([]overlay.Segment, 0, len(r.Trace.Panels))
 	for _, p := range r.Trace.Panels {
 		s := overlay.Segment{Lead: p.Lead.String(), Quality: p.Quality, Points: make([][2]float64, len(p.Path))}
@@ -171,7 +169,7 @@ func overlaySegments(r *pipeline.Result) []overlay.Segment {
 			s.Lead = "-" + s.Lead
 		}
 		for i, pt := range p.Path {
-			x, y := imageproc.Apply(h, pt.X, pt.Y)
+			x, y := r.Page.SourcePoint(pt.X, pt.Y)
 			s.Points[i] = [2]float64{x, y}
 		}
 		segs = append(segs, s)

@@ -1,0 +1,617 @@
+package imageproc
+
+import (
+	"image"
+	"math"
+	"slices"
+
+	"gonum.org/v1/gonum/mat"
+)
+
+// Lattice registration of a photographed page.
+//
+// A homography from vanishing points leaves a photo with the lens warp and
+// any paper curl, a few millimetres at the corners. The printed grid is a
+// known lattice, so the coarse-rectified page is registered to it:
+//
+//   - the major-line period (5 mm) along x and y from the power of the
+//     grid map's projection profiles summed over large tiles (power does
+//     not depend on where the lines fall, so a slowly varying position
+//     does not blur it);
+//   - in overlapping tiles of about 4 major periods, the local phase of
+//     that period (one Fourier coefficient of the Hann-windowed column and
+//     row profiles, common practice for fringe and lattice analysis) gives
+//     the position of a major line near the tile centre along each axis;
+//   - the lines' integer indices are unwrapped from the best tile
+//     outwards (quality-guided phase unwrapping: Ghiglia & Pritt,
+//     Two-Dimensional Phase Unwrapping, Wiley 1998, ch. 4, from memory);
+//   - the tie points (lattice position ↔ page px) are fitted by a
+//     homography (normalised DLT, EstimateHomography) and a cubic
+//     polynomial residual field, by least squares with outlier rejection
+//     (3.5 robust standard deviations, iterated), the field clamped to the
+//     tie points' hull so that it cannot run away where no grid was seen.
+//
+// The result maps the registered page's pixels (a square lattice at one
+// px/mm on both axes) to the coarse page's pixels.
+
+// latticeMap maps registered page px to coarse page px.
+type latticeMap struct {
+	h      Homography // lattice px → coarse px
+	cu, cv []float64  // residual polynomial coefficients (coarse px)
+	nrm    [4]float64 // lattice px → normalised: (X−nrm[0])·nrm[1], (Y−nrm[2])·nrm[3]
+	lo, hi Point      // clamp box of the residual field, lattice px
+	x0, y0 float64    // lattice px of registered pixel (0, 0)
+	w, h0  int        // registered page size, px
+	period float64    // lattice px per major period
+	rms    float64    // tie points' rms residual, coarse px
+	ties   int        // inlier tie points
+}
+
+// at maps a registered page pixel to coarse page px.
+func (m *latticeMap) at(x, y float64) (float64, float64) {
+	X, Y := x+m.x0, y+m.y0
+	u, v := Apply(m.h, X, Y)
+	cx := min(max(X, m.lo.X), m.hi.X)
+	cy := min(max(Y, m.lo.Y), m.hi.Y)
+	var t [polyTerms]float64
+	polyBasis(&t, (cx-m.nrm[0])*m.nrm[1], (cy-m.nrm[2])*m.nrm[3])
+	for k := range t {
+		u += m.cu[k] * t[k]
+		v += m.cv[k] * t[k]
+	}
+	return u, v
+}
+
+// polyTerms is the number of terms of the residual polynomial (all
+// monomials x^i·y^j with i+j ≤ 3).
+const polyTerms = 10
+
+func polyBasis(t *[polyTerms]float64, x, y float64) {
+	*t = [polyTerms]float64{1, x, y, x * x, x * y, y * y, x * x * x, x * x * y, x * y * y, y * y * y}
+}
+
+// axisPhase is one tile's measurement along one axis.
+type axisPhase struct {
+	pos float64 // coarse px of a major line near the tile centre
+	q   float64 // quality: share of the windowed profile in the period
+}
+
+// tieTile is one tile's pair of measurements.
+type tieTile struct {
+	x, y   axisPhase
+	jx, jy int  // unwrapped major-line indices
+	seen   bool // index assigned
+}
+
+// registerLattice registers the coarse-rectified page whose grid-strength
+// map is grd. ok is false when the grid does not give a reliable lattice
+// (then the coarse page is kept).
+func registerLattice(grd *image.Gray) (*latticeMap, bool) {
+	w, h := grd.Rect.Dx(), grd.Rect.Dy()
+	mx, okx := majorPeriod(grd, true)
+	my, oky := majorPeriod(grd, false)
+	// The lattice is square: one axis reading about a fifth of the other
+	// did not see its major lines.
+	switch r := mx / my; {
+	case math.Abs(r/5-1) < 0.2:
+		my *= 5
+	case math.Abs(r*5-1) < 0.2:
+		mx *= 5
+	}
+	if !okx || !oky || mx/my > 1.4 || my/mx > 1.4 {
+		return nil, false
+	}
+	// Tiles of 3 major periods, one period apart: neighbours differ by
+	// about one period, so the unwrapping tolerates a scale error of the
+	// coarse page of ±30 %.
+	tile := int(math.Round(3 * max(mx, my)))
+	step := int(math.Round(max(mx, my)))
+	nx, ny := (w-tile)/step+1, (h-tile)/step+1
+	if nx < 4 || ny < 3 || tile < 16 {
+		return nil, false
+	}
+	tiles := make([]tieTile, nx*ny)
+	col := make([]float64, tile)
+	row := make([]float64, tile)
+	win := hann(tile)
+	for ty := 0; ty < ny; ty++ {
+		for tx := 0; tx < nx; tx++ {
+			x0, y0 := tx*step, ty*step
+			clear(col)
+			clear(row)
+			for y := 0; y < tile; y++ {
+				r := grd.Pix[(y0+y)*grd.Stride+x0 : (y0+y)*grd.Stride+x0+tile]
+				s := 0
+				for x, v := range r {
+					col[x] += float64(v)
+					s += int(v)
+				}
+				row[y] = float64(s)
+			}
+			c := float64(tile-1) / 2
+			t := &tiles[ty*nx+tx]
+			t.x = phaseAt(col, win, mx, float64(x0)+c)
+			t.y = phaseAt(row, win, my, float64(y0)+c)
+		}
+	}
+	if !unwrap(tiles, nx, ny, step, mx, my) {
+		return nil, false
+	}
+	// Tie points: lattice px (square, period S per major line) ↔ coarse px.
+	S := math.Sqrt(mx * my)
+	var lat, pg []Point
+	for _, t := range tiles {
+		if t.seen {
+			lat = append(lat, Point{float64(t.jx) * S, float64(t.jy) * S})
+			pg = append(pg, Point{t.x.pos, t.y.pos})
+		}
+	}
+	m, ok := fitLattice(lat, pg, S)
+	if !ok {
+		return nil, false
+	}
+	// Re-index: a tile unwrapped one period off is moved to the index
+	// the fit predicts, then everything is fitted again.
+	for iter := 0; iter < 2; iter++ {
+		lat, pg = lat[:0], pg[:0]
+		for i := range tiles {
+			t := &tiles[i]
+			if !t.seen {
+				continue
+			}
+			t.jx, t.jy = m.reindex(t.jx, t.jy, t.x.pos, t.y.pos, S)
+			lat = append(lat, Point{float64(t.jx) * S, float64(t.jy) * S})
+			pg = append(pg, Point{t.x.pos, t.y.pos})
+		}
+		if m, ok = fitLattice(lat, pg, S); !ok {
+			return nil, false
+		}
+	}
+	// The registered page covers the coarse page: its corners through the
+	// homography's inverse.
+	inv, ok := Invert(m.h)
+	if !ok {
+		return nil, false
+	}
+	lo := Point{math.Inf(1), math.Inf(1)}
+	hi := Point{math.Inf(-1), math.Inf(-1)}
+	for _, c := range [4]Point{{0, 0}, {float64(w - 1), 0}, {0, float64(h - 1)}, {float64(w - 1), float64(h - 1)}} {
+		X, Y := Apply(inv, c.X, c.Y)
+		lo.X, lo.Y = min(lo.X, X), min(lo.Y, Y)
+		hi.X, hi.Y = max(hi.X, X), max(hi.Y, Y)
+	}
+	m.x0, m.y0 = math.Floor(lo.X), math.Floor(lo.Y)
+	m.w, m.h0 = int(math.Ceil(hi.X-m.x0))+1, int(math.Ceil(hi.Y-m.y0))+1
+	if m.w > 3*w || m.h0 > 3*h || m.w < w/3 || m.h0 < h/3 {
+		return nil, false
+	}
+	m.period = S
+	// Tie points scattered by more than a twelfth of a period: the
+	// lattice was not seen well enough (a dotted grid without major
+	// marks on one axis, say); the coarse page is kept.
+	if m.rms > max(3, S/12) {
+		return nil, false
+	}
+	return m, true
+}
+
+// reindex returns the indices (near jx, jy) whose predicted position is
+// closest to the measured one, axis by axis.
+func (m *latticeMap) reindex(jx, jy int, px, py, S float64) (int, int) {
+	bx, by := jx, jy
+	best := math.Inf(1)
+	for d := -1; d <= 1; d++ {
+		u, _ := m.at(float64(jx+d)*S-m.x0, float64(jy)*S-m.y0)
+		if e := math.Abs(u - px); e < best {
+			best, bx = e, jx+d
+		}
+	}
+	best = math.Inf(1)
+	for d := -1; d <= 1; d++ {
+		_, v := m.at(float64(jx)*S-m.x0, float64(jy+d)*S-m.y0)
+		if e := math.Abs(v - py); e < best {
+			best, by = e, jy+d
+		}
+	}
+	return bx, by
+}
+
+// hann returns the n-point Hann window.
+func hann(n int) []float64 {
+	w := make([]float64, n)
+	for i := range w {
+		w[i] = 0.5 - 0.5*math.Cos(2*math.Pi*(float64(i)+0.5)/float64(n))
+	}
+	return w
+}
+
+// phaseAt measures, in a profile whose first sample sits at page
+// coordinate origin+0 − (len−1)/2 relative to centre c, the position of a
+// line of period T (px) nearest the profile's centre c (page px).
+func phaseAt(prof, win []float64, T, c float64) axisPhase {
+	n := len(prof)
+	var mean, ws float64
+	for i, v := range prof {
+		mean += win[i] * v
+		ws += win[i]
+	}
+	mean /= ws
+	var re, im, tot float64
+	mid := float64(n-1) / 2
+	for i, v := range prof {
+		d := win[i] * (v - mean)
+		a := 2 * math.Pi * (float64(i) - mid) / T
+		re += d * math.Cos(a)
+		im -= d * math.Sin(a)
+		tot += math.Abs(d)
+	}
+	if tot == 0 {
+		return axisPhase{}
+	}
+	// Lines (high grid strength) at offsets where cos(2π·off/T − φ) = 1.
+	phi := math.Atan2(-im, re)
+	return axisPhase{pos: c + phi/(2*math.Pi)*T, q: 2 * math.Hypot(re, im) / tot}
+}
+
+// majorPeriod finds the major-line period (px) of grd along x (vertical
+// lines, column profiles) or y. The profiles of tiles of about 512 px are
+// high-passed (a 255-px running mean removed), Hann-windowed, and their
+// normalised power summed over the tiles at log-spaced periods. Each
+// period's prominence is its power over the median power within ±25 %
+// (lighting and the sheet's edges give smooth spectra; a lattice gives
+// peaks); the fundamental is the period whose prominences summed over its
+// first four harmonics are largest (a harmonic sum, common practice in
+// pitch detection). It is replaced by five times itself when that shows
+// a prominent peak of its own (the minor lines were the fundamental).
+func majorPeriod(grd *image.Gray, alongX bool) (float64, bool) {
+	w, h := grd.Rect.Dx(), grd.Rect.Dy()
+	L, across := w, h
+	if !alongX {
+		L, across = h, w
+	}
+	tl := min(1024, L/2)
+	if tl < 96 {
+		return 0, false
+	}
+	nt, na := L/tl, max(1, across/tl)
+	const ratio = 1.005
+	var periods []float64
+	for T := 3.0; T <= float64(tl)/3; T *= ratio {
+		periods = append(periods, T)
+	}
+	np := len(periods)
+	power := make([]float64, np)
+	raw := make([]float64, tl)
+	prof := make([]float64, tl)
+	win := hann(tl)
+	const box = 255 // half width of the running mean
+	for a := 0; a < na; a++ {
+		for t := 0; t < nt; t++ {
+			clear(raw)
+			a0, a1 := a*across/na, (a+1)*across/na
+			for k := a0; k < a1; k++ {
+				if alongX {
+					r := grd.Pix[k*grd.Stride+t*tl : k*grd.Stride+t*tl+tl]
+					for i, v := range r {
+						raw[i] += float64(v)
+					}
+				} else {
+					for i := range raw {
+						raw[i] += float64(grd.Pix[(t*tl+i)*grd.Stride+k])
+					}
+				}
+			}
+			// High-pass: subtract the running mean (prefix sums).
+			cum := make([]float64, tl+1)
+			for i, v := range raw {
+				cum[i+1] = cum[i] + v
+			}
+			var e float64
+			for i := range raw {
+				lo, hi := max(0, i-box), min(tl, i+box+1)
+				prof[i] = win[i] * (raw[i] - (cum[hi]-cum[lo])/float64(hi-lo))
+				e += prof[i] * prof[i]
+			}
+			if e == 0 {
+				continue
+			}
+			for j, T := range periods {
+				// cos/sin by rotation (one complex multiply per sample).
+				dc, ds := math.Cos(2*math.Pi/T), math.Sin(2*math.Pi/T)
+				c, s := 1.0, 0.0
+				var re, im float64
+				for i := range prof {
+					re += prof[i] * c
+					im += prof[i] * s
+					c, s = c*dc-s*ds, s*dc+c*ds
+				}
+				power[j] += (re*re + im*im) / e
+			}
+		}
+	}
+	// Prominence against the local median: within ±(c + 30 %) but
+	// outside the main lobe ±c of a peak (c = 2.5 T/tile, at least 2 %).
+	prom := make([]float64, np)
+	var nb []float64
+	for j, T := range periods {
+		c := max(0.02, 2.5*T/float64(tl))
+		core := int(math.Ceil(math.Log(1+c) / math.Log(ratio)))
+		span := int(math.Ceil(math.Log(1.3+c) / math.Log(ratio)))
+		nb = nb[:0]
+		for i := max(0, j-span); i <= min(np-1, j+span); i++ {
+			if i < j-core || i > j+core {
+				nb = append(nb, power[i])
+			}
+		}
+		slices.Sort(nb)
+		if len(nb) > 4 && nb[len(nb)/2] > 0 {
+			prom[j] = power[j] / nb[len(nb)/2]
+		}
+	}
+	peakProm := func(T float64) float64 {
+		if T < periods[0] || T > periods[np-1] {
+			return 0
+		}
+		k := nearest(periods, T)
+		best := 0.0
+		for d := -2; d <= 2; d++ {
+			if i := k + d; i >= 0 && i < np {
+				best = max(best, prom[i])
+			}
+		}
+		return best
+	}
+	// A sheet in view spans at least about 30 major periods (150 mm) on
+	// its short side.
+	maxT := float64(min(w, h)) / 30
+	best, bestScore := -1, 0.0
+	for j, T := range periods {
+		if prom[j] < 4 || T > maxT {
+			continue
+		}
+		sc := prom[j]
+		for k := 2; k <= 4; k++ {
+			sc += peakProm(T / float64(k))
+		}
+		if sc > bestScore {
+			best, bestScore = j, sc
+		}
+	}
+	if best < 0 {
+		return 0, false
+	}
+	T := refinePeak(periods, power, best)
+	// The major lines' peak: within its main lobe of 5T.
+	k5 := nearest(periods, 5*T)
+	lobe := int(math.Ceil(math.Log(1+1.25*5*T/float64(tl)) / math.Log(ratio)))
+	p5 := 0.0
+	for i := max(0, k5-lobe); i <= min(np-1, k5+lobe); i++ {
+		p5 = max(p5, prom[i])
+	}
+	if p5 >= 4 && 5*T <= min(periods[np-1], 1.1*maxT) {
+		k := k5
+		for d := -lobe; d <= lobe; d++ {
+			if i := k + d; i >= 0 && i < np && power[i] > power[k] {
+				k = i
+			}
+		}
+		return refinePeak(periods, power, k), true
+	}
+	return T, true
+}
+
+// refinePeak fits a parabola (in log period) through the peak and its
+// neighbours.
+func refinePeak(periods, power []float64, j int) float64 {
+	if j <= 0 || j >= len(power)-1 {
+		return periods[j]
+	}
+	a, b, c := power[j-1], power[j], power[j+1]
+	d := a - 2*b + c
+	if d >= 0 {
+		return periods[j]
+	}
+	off := min(max(0.5*(a-c)/d, -1), 1)
+	return periods[j] * math.Pow(1.005, off)
+}
+
+func nearest(periods []float64, T float64) int {
+	i, _ := slices.BinarySearch(periods, T)
+	if i > 0 && (i == len(periods) || T/periods[i-1] < periods[i]/T) {
+		i--
+	}
+	return min(i, len(periods)-1)
+}
+
+// unwrap assigns major-line indices to the reliable tiles, from the best
+// tile outwards (each tile from its most reliable assigned neighbour):
+// the neighbour's line plus the whole number of periods between them.
+// Reliable tiles not connected to each other form separate regions; only
+// the largest is kept. It reports false when too few tiles are reliable.
+func unwrap(tiles []tieTile, nx, ny, step int, mx, my float64) bool {
+	qs := make([]float64, len(tiles))
+	for i, t := range tiles {
+		qs[i] = min(t.x.q, t.y.q)
+	}
+	sorted := slices.Clone(qs)
+	slices.Sort(sorted)
+	// Reliable: clearly periodic on both axes (the best tiles set the
+	// scale of what a grid tile looks like on this page).
+	thr := max(0.15, 0.35*sorted[len(sorted)*9/10])
+	comp := make([]int, len(tiles))
+	for i := range comp {
+		comp[i] = -1
+	}
+	type edge struct {
+		q        float64
+		from, to int
+	}
+	var heap []edge
+	push := func(i int) {
+		tx, ty := i%nx, i/nx
+		for _, d := range [4][2]int{{1, 0}, {-1, 0}, {0, 1}, {0, -1}} {
+			x, y := tx+d[0], ty+d[1]
+			if x < 0 || y < 0 || x >= nx || y >= ny {
+				continue
+			}
+			if j := y*nx + x; comp[j] < 0 && qs[j] >= thr {
+				heap = append(heap, edge{min(qs[i], qs[j]), i, j})
+			}
+		}
+	}
+	var sizes []int
+	for c := 0; ; c++ {
+		start := -1
+		for i := range tiles {
+			if comp[i] < 0 && qs[i] >= thr && (start < 0 || qs[i] > qs[start]) {
+				start = i
+			}
+		}
+		if start < 0 {
+			break
+		}
+		comp[start] = c
+		tiles[start].jx, tiles[start].jy = 0, 0
+		n := 1
+		push(start)
+		for len(heap) > 0 {
+			// Most reliable edge first.
+			k := 0
+			for i := range heap {
+				if heap[i].q > heap[k].q {
+					k = i
+				}
+			}
+			e := heap[k]
+			heap[k] = heap[len(heap)-1]
+			heap = heap[:len(heap)-1]
+			if comp[e.to] >= 0 {
+				continue
+			}
+			t, f := &tiles[e.to], tiles[e.from]
+			t.jx = f.jx + int(math.Round((t.x.pos-f.x.pos)/mx))
+			t.jy = f.jy + int(math.Round((t.y.pos-f.y.pos)/my))
+			comp[e.to] = c
+			n++
+			push(e.to)
+		}
+		sizes = append(sizes, n)
+	}
+	if len(sizes) == 0 {
+		return false
+	}
+	big := 0
+	for c, n := range sizes {
+		if n > sizes[big] {
+			big = c
+		}
+	}
+	for i := range tiles {
+		tiles[i].seen = comp[i] == big
+	}
+	return sizes[big] >= 12
+}
+
+// fitLattice fits lattice px → coarse px: a homography by the normalised
+// DLT, then a cubic residual field, both by least squares with iterated
+// rejection of tie points beyond 3.5 robust standard deviations (and at
+// least 2 px).
+func fitLattice(lat, pg []Point, S float64) (*latticeMap, bool) {
+	n := len(lat)
+	if n < 12 {
+		return nil, false
+	}
+	in := make([]bool, n)
+	for i := range in {
+		in[i] = true
+	}
+	m := &latticeMap{}
+	// Normalisation of lattice coordinates for the polynomial, and the
+	// clamp box of the field: the tie points' extent.
+	m.lo = Point{math.Inf(1), math.Inf(1)}
+	m.hi = Point{math.Inf(-1), math.Inf(-1)}
+	for _, p := range lat {
+		m.lo.X, m.lo.Y = min(m.lo.X, p.X), min(m.lo.Y, p.Y)
+		m.hi.X, m.hi.Y = max(m.hi.X, p.X), max(m.hi.Y, p.Y)
+	}
+	if m.hi.X-m.lo.X < 4*S || m.hi.Y-m.lo.Y < 3*S {
+		return nil, false
+	}
+	m.nrm = [4]float64{(m.lo.X + m.hi.X) / 2, 2 / (m.hi.X - m.lo.X), (m.lo.Y + m.hi.Y) / 2, 2 / (m.hi.Y - m.lo.Y)}
+	m.cu, m.cv = make([]float64, polyTerms), make([]float64, polyTerms)
+	res := make([]float64, n)
+	for iter := 0; iter < 4; iter++ {
+		var src, dst []Point
+		for i := range lat {
+			if in[i] {
+				src, dst = append(src, lat[i]), append(dst, pg[i])
+			}
+		}
+		if len(src) < 12 {
+			return nil, false
+		}
+		H, err := EstimateHomography(src, dst)
+		if err != nil {
+			return nil, false
+		}
+		m.h = H
+		clear(m.cu)
+		clear(m.cv)
+		if len(src) >= 3*polyTerms {
+			a := mat.NewDense(len(src), polyTerms, nil)
+			bu := mat.NewVecDense(len(src), nil)
+			bv := mat.NewVecDense(len(src), nil)
+			var t [polyTerms]float64
+			for k, p := range src {
+				polyBasis(&t, (p.X-m.nrm[0])*m.nrm[1], (p.Y-m.nrm[2])*m.nrm[3])
+				a.SetRow(k, t[:])
+				u, v := Apply(H, p.X, p.Y)
+				bu.SetVec(k, dst[k].X-u)
+				bv.SetVec(k, dst[k].Y-v)
+			}
+			var qr mat.QR
+			qr.Factorize(a)
+			var xu, xv mat.VecDense
+			if qr.SolveVecTo(&xu, false, bu) == nil && qr.SolveVecTo(&xv, false, bv) == nil {
+				for k := 0; k < polyTerms; k++ {
+					m.cu[k], m.cv[k] = xu.AtVec(k), xv.AtVec(k)
+				}
+			}
+		}
+		for i := range lat {
+			u, v := m.at(lat[i].X, lat[i].Y) // x0 = y0 = 0 during the fit
+			res[i] = math.Hypot(u-pg[i].X, v-pg[i].Y)
+		}
+		var r []float64
+		for i := range res {
+			if in[i] {
+				r = append(r, res[i])
+			}
+		}
+		slices.Sort(r)
+		sigma := 1.4826 * r[len(r)/2]
+		lim := max(2, 3.5*sigma)
+		changed := false
+		for i := range res {
+			if now := res[i] <= lim; now != in[i] {
+				in[i], changed = now, true
+			}
+		}
+		if !changed {
+			break
+		}
+	}
+	var ss float64
+	m.ties = 0
+	for i := range res {
+		if in[i] {
+			ss += res[i] * res[i]
+			m.ties++
+		}
+	}
+	if m.ties < 12 {
+		return nil, false
+	}
+	m.rms = math.Sqrt(ss / float64(m.ties))
+	return m, true
+}
