@@ -312,8 +312,12 @@ feed:
 	case csvErr != nil:
 		return fmt.Errorf("batch: %w", csvErr)
 	case st.Failed > 0 || st.Partial > 0:
-		return fmt.Errorf("batch: %w: %d of %d inputs failed and %d were partial; reasons are in %s",
-			ecg.ErrPartial, st.Failed, st.Total, st.Partial, csvPath)
+		earlier := ""
+		if st.SkippedFailed > 0 {
+			earlier = fmt.Sprintf(" (and %d failed in an earlier run, not retried)", st.SkippedFailed)
+		}
+		return fmt.Errorf("batch: %w: %d of %d inputs failed%s and %d were partial; reasons are in %s",
+			ecg.ErrPartial, st.Failed, st.Total, earlier, st.Partial, csvPath)
 	case st.SkippedFailed > 0:
 		// Nothing new failed, but the archive still holds failures: the
 		// same exit code as the run that found them.

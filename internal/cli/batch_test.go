@@ -144,6 +144,7 @@ func TestBatchBadFilesDoNotStopTheRun(t *testing.T) {
 	assert.Contains(t, stdout.String(), "not retried ward1/b.jpg: b.jpg: unreadable input: not a PNG file")
 	assert.Contains(t, stdout.String(), "not retried ward2/d.png: d.png: no ECG found: blank page")
 	assert.Contains(t, stdout.String(), "--retry-failed")
+	assert.Contains(t, err.Error(), "1 of 6 inputs failed (and 2 failed in an earlier run, not retried)")
 
 	// --retry-failed tries the failed inputs (and only them) again.
 	calls.Store(0)
@@ -591,12 +592,45 @@ func benchArchive(b *testing.B, n int) string {
 	return dir
 }
 
+// processCPU returns the CPU time (user + system) this process has used,
+// from /proc/self/stat (Linux; clock ticks of 1/100 s, the Linux
+// USER_HZ); ok is false elsewhere.
+func processCPU() (seconds float64, ok bool) {
+	b, err := os.ReadFile("/proc/self/stat")
+	if err != nil {
+		return 0, false
+	}
+	// Fields after the parenthesised command name: state is field 3,
+	// utime 14 and stime 15.
+	i := bytes.LastIndexByte(b, ')')
+	if i < 0 {
+		return 0, false
+	}
+	f := strings.Fields(string(b[i+1:]))
+	if len(f) < 13 {
+		return 0, false
+	}
+	var u, st float64
+	if _, err := fmt.Sscan(f[11], &u); err != nil {
+		return 0, false
+	}
+	if _, err := fmt.Sscan(f[12], &st); err != nil {
+		return 0, false
+	}
+	return (u + st) / 100, true
+}
+
 // BenchmarkBatchWorkers runs the whole batch (scan, hash, catalogue, the
 // real pipeline, CSV + JSON outputs) on 8 rendered pages with 1 and 2
 // workers and reports pages/s; the target is j=2 ≥ 1.8 × j=1 on
 // two cores. Run it on an otherwise idle machine:
 //
 //	go test ./internal/cli -run XXX -bench BatchWorkers -benchtime 2x
+//
+// It also reports the CPU seconds per page (Linux): on a machine shared
+// with other work the wall clock says little (the scheduler shares the
+// cores among sessions, not threads), but with W workers on W free cores
+// the throughput is at most W / (CPU seconds per page).
 func BenchmarkBatchWorkers(b *testing.B) {
 	const pages = 8
 	in := benchArchive(b, pages)
@@ -605,6 +639,7 @@ func BenchmarkBatchWorkers(b *testing.B) {
 			pf := pipelineFlags{Layout: "auto", RateHz: 500, MaxPixels: 200_000_000, formatArg: "csv,json"}
 			require.NoError(b, pf.check("bench"))
 			var total time.Duration
+			cpu0, cpuOK := processCPU()
 			for b.Loop() {
 				out := b.TempDir()
 				ios, _, _ := testIOS()
@@ -616,6 +651,9 @@ func BenchmarkBatchWorkers(b *testing.B) {
 				}
 			}
 			b.ReportMetric(float64(pages*b.N)/total.Seconds(), "pages/s")
+			if cpu1, ok := processCPU(); ok && cpuOK {
+				b.ReportMetric((cpu1-cpu0)/float64(pages*b.N), "cpu-s/page")
+			}
 		})
 	}
 }
