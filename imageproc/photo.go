@@ -156,8 +156,10 @@ func registerPhoto(p *Page, src *image.NRGBA, pre, toSrc Homography, bgw *backgr
 // (1/f of the page): the desk around the sheet, empty on both axes, must
 // not weigh in the empty-row test.
 func photoOrientation(lm *latticeMap, toWork func(x, y float64) (float64, float64), wInk *image.Gray, f int) int {
-	x0, y0 := lm.lo.X-lm.x0, lm.lo.Y-lm.y0
-	x1, y1 := lm.hi.X-lm.x0, lm.hi.Y-lm.y0
+	// Two major periods inside the tie points' extent: the sheet's edge
+	// (dark against the desk, read as ink) stays out.
+	x0, y0 := lm.lo.X-lm.x0+2*lm.period, lm.lo.Y-lm.y0+2*lm.period
+	x1, y1 := lm.hi.X-lm.x0-2*lm.period, lm.hi.Y-lm.y0-2*lm.period
 	s := float64(f)
 	w, h := int((x1-x0)/s), int((y1-y0)/s)
 	if w < 16 || h < 16 {

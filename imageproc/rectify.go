@@ -613,5 +613,14 @@ func fitLattice(lat, pg []Point, S float64) (*latticeMap, bool) {
 		return nil, false
 	}
 	m.rms = math.Sqrt(ss / float64(m.ties))
+	// The field's clamp box (and the grid area seen): the inliers' extent.
+	m.lo = Point{math.Inf(1), math.Inf(1)}
+	m.hi = Point{math.Inf(-1), math.Inf(-1)}
+	for i, p := range lat {
+		if in[i] {
+			m.lo.X, m.lo.Y = min(m.lo.X, p.X), min(m.lo.Y, p.Y)
+			m.hi.X, m.hi.Y = max(m.hi.X, p.X), max(m.hi.Y, p.Y)
+		}
+	}
 	return m, true
 }
