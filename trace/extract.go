@@ -861,9 +861,11 @@ func alignToTicks(rows []rowInfo, lay *Layout, cal grid.Calibration) {
 			n++
 		}
 	}
-	// A tick's centre is good to about half a pixel, no better than the
-	// pulse's edge: shifts under 0.25 mm are left to the pulses.
-	if n < 2 || 2*n < len(ds) || math.Abs(sum/float64(n)) < 0.25*pxX {
+	// A tick's centre is good to half a pixel on a scan and a dot or two
+	// on a fax, no better than the pulse's edge: shifts under 0.5 mm are
+	// left to the pulses (a 0.26 mm shift from two fax ticks flipped a
+	// Cabrera page to the standard order).
+	if n < 2 || 2*n < len(ds) || math.Abs(sum/float64(n)) < 0.5*pxX {
 		return
 	}
 	for i := range rows {

@@ -3,6 +3,8 @@ package trace
 import (
 	"image"
 	"math"
+
+	"tracelift/ecg"
 )
 
 // A lead printed twice on a page (the rhythm strip of a 3 × 4 + 1 page
@@ -13,33 +15,42 @@ import (
 // repeats II, V1 and V5 in its rhythm strips, 6 × 2 repeats nothing.
 
 // inkCentres writes to dst, for each image column x in [x0, x0+len(dst)),
-// the ink-weighted mean y of the ink between rows y0 and y1 (inclusive)
-// minus ref, px; NaN where the column holds no ink there.
+// the centre of the column's ink run nearest to the row's baseline y ref
+// among the runs between rows y0 and y1 (inclusive), minus ref, px; NaN
+// where the column holds no ink there. The nearest run is the row's own
+// trace (a complex's strokes start at the baseline), while strokes of a
+// neighbouring row's tall complexes reaching into the band lie farther.
 func inkCentres(dst []float64, ink *image.Gray, x0, y0, y1 int, ref float64) {
-	n := len(dst)
-	sw := make([]float64, n)
-	swy := make([]float64, n)
 	b := ink.Rect
-	xa, xb := max(x0, b.Min.X), min(x0+n, b.Max.X)
-	for y := max(y0, b.Min.Y); y <= min(y1, b.Max.Y-1); y++ {
-		if xa >= xb {
-			break
-		}
-		row := ink.Pix[(y-b.Min.Y)*ink.Stride+(xa-b.Min.X) : (y-b.Min.Y)*ink.Stride+(xb-b.Min.X)]
-		fy := float64(y)
-		for i, v := range row {
-			if v >= inkThreshold {
-				w := float64(v)
-				sw[xa-x0+i] += w
-				swy[xa-x0+i] += w * fy
-			}
-		}
-	}
+	y0, y1 = max(y0, b.Min.Y), min(y1, b.Max.Y-1)
 	for i := range dst {
-		if sw[i] > 0 {
-			dst[i] = swy[i]/sw[i] - ref
-		} else {
-			dst[i] = math.NaN()
+		dst[i] = math.NaN()
+		x := x0 + i
+		if x < b.Min.X || x >= b.Max.X || y0 > y1 {
+			continue
+		}
+		off := (y0-b.Min.Y)*ink.Stride + (x - b.Min.X)
+		best := math.Inf(1)
+		top := -1
+		for y := y0; y <= y1+1; y, off = y+1, off+ink.Stride {
+			in := y <= y1 && ink.Pix[off] >= inkThreshold
+			switch {
+			case in && top < 0:
+				top = y
+			case !in && top >= 0:
+				bot := y - 1
+				d := 0.0
+				if float64(bot) < ref {
+					d = ref - float64(bot)
+				} else if float64(top) > ref {
+					d = float64(top) - ref
+				}
+				if d < best {
+					best = d
+					dst[i] = float64(top+bot)/2 - ref
+				}
+				top = -1
+			}
 		}
 	}
 }
@@ -119,4 +130,57 @@ func pearson(x, y []float64) (float64, int) {
 		return math.NaN(), m
 	}
 	return (sxy - sx*sy/fm) / math.Sqrt(vx*vy), m
+}
+
+// nameRhythmStrips checks the lead of each rhythm strip below a 3 × 4 grid
+// (rows 3… of lay, one cell each, the grid in rows 0–2 with four 2.5 s
+// columns) against the grid: the strip repeats its lead's grid cell over
+// that cell's time window, so the cell it echoes names it. A strip is
+// renamed only on clear evidence: an echo of at least 0.8 (two copies of
+// one lead score 0.98–1.0 on clean and scanned pages, but similar leads
+// score up to 0.99 too, V5 against I on a synthetic page; a project
+// measurement) that beats the echo of the strip's assumed lead by at
+// least 0.25, or where that lead has no grid cell. It returns whether a
+// strip was renamed.
+func nameRhythmStrips(ink *image.Gray, rows []rowInfo, lay *Layout, pxX, pxY float64) bool {
+	if len(lay.Rows) < 4 || len(rows) < len(lay.Rows) {
+		return false
+	}
+	for g := 0; g < 3; g++ {
+		if lay.Rows[g].Rhythm || len(lay.Rows[g].Cells) != 4 {
+			return false
+		}
+	}
+	renamed := false
+	for ri := 3; ri < len(lay.Rows); ri++ {
+		r := &lay.Rows[ri]
+		if !r.Rhythm || len(r.Cells) != 1 || rows[ri].cols == nil {
+			continue
+		}
+		own := false // the assumed lead has a grid cell
+		best, bestE, ownE := ecg.LeadUnknown, math.Inf(-1), math.NaN()
+		for g := 0; g < 3; g++ {
+			for k, c := range lay.Rows[g].Cells {
+				e := rowEcho(ink, rows, ri, g, float64(k)/4, float64(k+1)/4, pxX, pxY)
+				if c.Lead == r.Cells[0].Lead {
+					own, ownE = true, e
+				}
+				if math.IsNaN(e) {
+					continue
+				}
+				if e > bestE {
+					best, bestE = c.Lead, e
+				}
+			}
+		}
+		if best == ecg.LeadUnknown || best == r.Cells[0].Lead || bestE < 0.8 {
+			continue
+		}
+		if own && !(bestE-ownE >= 0.25) {
+			continue // includes an assumed lead whose cell shows too little ink
+		}
+		r.Cells[0].Lead, r.Cells[0].Negated = best, false
+		renamed = true
+	}
+	return renamed
 }

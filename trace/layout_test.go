@@ -8,6 +8,7 @@ import (
 	"testing"
 
 	"tracelift/ecg"
+	"tracelift/render"
 )
 
 func TestParseLayoutStandard(t *testing.T) {
@@ -224,5 +225,55 @@ func TestRowEcho(t *testing.T) {
 	empty := image.NewGray(ink.Rect)
 	if e := rowEcho(empty, rows, 2, 0, 0, 0.25, px, px); !math.IsNaN(e) {
 		t.Errorf("empty page: echo %.2f, want NaN", e)
+	}
+}
+
+func TestNameRhythmStrips(t *testing.T) {
+	// A clean 3 × 4 + 3 page (rhythm strips II, V1, V5 below the grid,
+	// standards.md §1.2) at 150 dpi, ink and calibration from the truth.
+	rec := synthRecord(t, 3)
+	pg := renderPage(t, rec, render.Options{Layout: "3x4+3", DPI: 150})
+	ink := naiveInk(pg.img)
+	cal := truthCal(pg.truth)
+	rows := findRows(ink, cal, truthPulses(pg.truth))
+	for i := range rows {
+		up, down := bandAround(rows, i, cal.PxPerMMY.V)
+		findTicks(ink, &rows[i], cal, up, down)
+	}
+	if len(rows) != 6 {
+		t.Fatalf("%d rows, want 6", len(rows))
+	}
+	lay, got := detectLayout(ink, rows, cal)
+	if lay.Name != "3x4+3" || len(got) != 6 {
+		t.Fatalf("layout %s with %d rows, want 3x4+3", lay.Name, len(got))
+	}
+	strips := func(l *Layout) []ecg.Lead {
+		var out []ecg.Lead
+		for _, r := range l.Rows[3:] {
+			out = append(out, r.Cells[0].Lead)
+		}
+		return out
+	}
+	if s := strips(lay); s[0] != ecg.LeadII || s[1] != ecg.LeadV1 || s[2] != ecg.LeadV5 {
+		t.Errorf("strips %v, want II V1 V5", s)
+	}
+	// Strips assumed to be other leads are named by the cell they repeat.
+	wrong, _ := StandardLayout("3x4+3")
+	wrong.Rows[3].Cells[0].Lead = ecg.LeadAVR
+	wrong.Rows[5].Cells[0].Lead = ecg.LeadIII
+	if !nameRhythmStrips(ink, rows, wrong, cal.PxPerMMX.V, cal.PxPerMMY.V) {
+		t.Error("wrongly named strips were not renamed")
+	}
+	if s := strips(wrong); s[0] != ecg.LeadII || s[1] != ecg.LeadV1 || s[2] != ecg.LeadV5 {
+		t.Errorf("renamed strips %v, want II V1 V5", s)
+	}
+	// The last strip lost: five rows read as a 3 × 4 grid with strips
+	// assumed to be lead II (detectLayout's reading of an unusual row
+	// count with separators) are named II and V1 by their echoes, not II
+	// twice.
+	lay5, _ := ParseLayout("sec=2.5;cells=I,aVR,V1,V4/II,aVL,V2,V5/III,aVF,V3,V6/II*/II*")
+	nameRhythmStrips(ink, rows[:5], lay5, cal.PxPerMMX.V, cal.PxPerMMY.V)
+	if s := strips(lay5); s[0] != ecg.LeadII || s[1] != ecg.LeadV1 {
+		t.Errorf("5 rows: strips %v, want II V1", s)
 	}
 }
