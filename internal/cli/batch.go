@@ -423,8 +423,10 @@ func collectBetweenInputs() { runtime.GC() }
 // the pacer is given more room within a page (GOGC 300 instead of 100,
 // unless the user set GOGC): fewer collections in mid-page and less memory
 // handed back to the system only to be faulted in again. On 8 A4 scans
-// with -j 1 this cut page faults from 53–60 k to 45 k and user+system CPU
-// by about 7 %, for 15–20 MB more peak memory (measured 2026-12-01).
+// with -j 1 this cut page faults from 53–60 k to 45–53 k and user+system
+// CPU by about 5–7 % (within the noise of a loaded machine), for 15–50 MB
+// more peak memory (190–217 MB; -j 2 unchanged at 288–318 MB; measured
+// 2026-12-01).
 //
 // maxMemMB > 0 sets a soft memory limit (runtime/debug.SetMemoryLimit)
 // for machines or job slots with little memory: the collector then runs
