@@ -407,7 +407,8 @@ func batchOne(ctx context.Context, db *catalog.DB, in catalog.Input, opts *batch
 // the previous live heap while the next page is decoded on top of the last
 // one's garbage. Collecting between inputs keeps a worker's peak near that
 // of a single page: batch on 8 A4 scans, peak resident memory -j 1 258 →
-// 169–177 MB, -j 2 391 → 296–308 MB (measured 2026-12-01, /usr/bin/time).
+// 169–177 MB, -j 2 391 → 296–308 MB (measured 2026-12-01 at GOGC 100,
+// /usr/bin/time; see runtimeLimits for GOGC 300).
 // A cycle takes under 10 ms of a page's second (the big buffers hold no
 // pointers, so marking is quick). Collecting in the background instead,
 // without the worker waiting, saved less (-j 1 191–218 MB).
