@@ -92,11 +92,14 @@ func registerLattice(grd *image.Gray) (*latticeMap, bool) {
 	my, oky := majorPeriod(grd, false)
 	// The lattice is square: one axis reading about a fifth of the other
 	// did not see its major lines.
-	switch r := mx / my; {
-	case math.Abs(r/5-1) < 0.2:
-		my *= 5
-	case math.Abs(r*5-1) < 0.2:
-		mx *= 5
+	// A harmonic (2, 3 or 4 lines per period) taken on one axis shows
+	// the same way.
+	for k := 5.0; k >= 2; k-- {
+		if r := mx / my; math.Abs(r/k-1) < 0.2 {
+			my *= k
+		} else if math.Abs(r*k-1) < 0.2 {
+			mx *= k
+		}
 	}
 	if !okx || !oky || mx/my > 1.4 || my/mx > 1.4 {
 		return nil, false
@@ -186,6 +189,17 @@ func registerLattice(grd *image.Gray) (*latticeMap, bool) {
 		return nil, false
 	}
 	m.period = S
+	// Crop to the grid area seen (the inlier tie points) with three
+	// periods (15 mm) of margin: the desk around the sheet carries nothing
+	// for the later stages.
+	cx0 := max(m.x0, math.Floor(m.lo.X-3*S))
+	cy0 := max(m.y0, math.Floor(m.lo.Y-3*S))
+	cx1 := min(m.x0+float64(m.w-1), math.Ceil(m.hi.X+3*S))
+	cy1 := min(m.y0+float64(m.h0-1), math.Ceil(m.hi.Y+3*S))
+	if cx1-cx0 > 8*S && cy1-cy0 > 6*S {
+		m.x0, m.y0 = cx0, cy0
+		m.w, m.h0 = int(cx1-cx0)+1, int(cy1-cy0)+1
+	}
 	// Tie points scattered by more than a twelfth of a period: the
 	// lattice was not seen well enough (a dotted grid without major
 	// marks on one axis, say); the coarse page is kept.
@@ -489,8 +503,14 @@ func unwrap(tiles []tieTile, nx, ny, step int, mx, my float64) bool {
 				continue
 			}
 			t, f := &tiles[e.to], tiles[e.from]
-			t.jx = f.jx + int(math.Round((t.x.pos-f.x.pos)/mx))
-			t.jy = f.jy + int(math.Round((t.y.pos-f.y.pos)/my))
+			rx, ry := (t.x.pos-f.x.pos)/mx, (t.y.pos-f.y.pos)/my
+			if math.Abs(rx-math.Round(rx)) > 0.3 || math.Abs(ry-math.Round(ry)) > 0.3 {
+				// An ambiguous step (a local scale change, or a line
+				// misread): the tile may be reached by another path.
+				continue
+			}
+			t.jx = f.jx + int(math.Round(rx))
+			t.jy = f.jy + int(math.Round(ry))
 			comp[e.to] = c
 			n++
 			push(e.to)
