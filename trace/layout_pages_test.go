@@ -118,6 +118,12 @@ func TestLayoutPages(t *testing.T) {
 		// A fax that drops most of a row (aVF) left 11 rows, read as
 		// rhythm rows of lead II: 1 of 12 leads.
 		{"12x1 fax lost row", "fax", "12x1", 2, 0, 10, 0},
+		// Six fax rows without a readable separator were taken for
+		// 3 × 4 + 3: five swaps; the leads printed twice (row echo) now
+		// decide. Measured 12.4 dB.
+		{"6x2 fax no ticks", "fax", "6x2", 2, 0, 12, 6},
+		// Measured 11.2 dB, 11 leads (was 9 leads, five swapped).
+		{"3x4+3 fax", "fax", "3x4+3", 1, 0, 11, 6},
 	}
 	for _, tc := range tests {
 		t.Run(tc.name, func(t *testing.T) {
