@@ -1,6 +1,7 @@
 package imageproc
 
 import (
+	"encoding/binary"
 	"image"
 	"math"
 )
@@ -115,13 +116,11 @@ func ycbcrRow(d []uint8, m *image.YCbCr, hs uint, y int) {
 		db := 116130 * cb1
 		x0 := cx << hs
 		x1 := min(w, x0+n)
+		o := d[4*x0 : 4*x1]
 		for x, yv := range yr[x0:x1] {
 			yy1 := int32(yv) * 0x10101
-			o := d[4*(x0+x) : 4*(x0+x)+4 : 4*(x0+x)+4]
-			o[0] = clip16(yy1 + dr)
-			o[1] = clip16(yy1 + dg)
-			o[2] = clip16(yy1 + db)
-			o[3] = 255
+			px := uint32(clip16(yy1+dr)) | uint32(clip16(yy1+dg))<<8 | uint32(clip16(yy1+db))<<16 | 0xff<<24
+			binary.LittleEndian.PutUint32(o[4*x:4*x+4], px)
 		}
 	}
 }
@@ -227,13 +226,18 @@ func affineRowNRGBA(d []uint8, sp []uint8, ss, sw, sh, lo int, sx, sy, stepX, st
 		w01 := (256 - ax) * ay
 		w11 := ax * ay
 		if x0 >= 0 && y0 >= 0 && x0+1 < sw && y0+1 < sh {
+			// Red and blue in two 32-bit lanes of one uint64 (each lane's
+			// weighted sum stays below 255·65536 < 2³²), green alone: the
+			// sums, and so the bytes, are those of the per-channel form.
 			i := (y0-lo)*ss + 4*x0
-			c0 := sp[i : i+8 : i+8]
-			c1 := sp[i+ss : i+ss+8 : i+ss+8]
-			o[0] = uint8((w00*uint32(c0[0]) + w10*uint32(c0[4]) + w01*uint32(c1[0]) + w11*uint32(c1[4]) + 32768) >> 16)
-			o[1] = uint8((w00*uint32(c0[1]) + w10*uint32(c0[5]) + w01*uint32(c1[1]) + w11*uint32(c1[5]) + 32768) >> 16)
-			o[2] = uint8((w00*uint32(c0[2]) + w10*uint32(c0[6]) + w01*uint32(c1[2]) + w11*uint32(c1[6]) + 32768) >> 16)
-			o[3] = 255
+			p00 := binary.LittleEndian.Uint64(sp[i : i+8 : i+8])
+			p01 := binary.LittleEndian.Uint64(sp[i+ss : i+ss+8 : i+ss+8])
+			rb := uint64(w00)*(p00&0xff|(p00>>16&0xff)<<32) + uint64(w10)*(p00>>32&0xff|(p00>>48&0xff)<<32) +
+				uint64(w01)*(p01&0xff|(p01>>16&0xff)<<32) + uint64(w11)*(p01>>32&0xff|(p01>>48&0xff)<<32)
+			g := w00*uint32(p00>>8&0xff) + w10*uint32(p00>>40&0xff) + w01*uint32(p01>>8&0xff) + w11*uint32(p01>>40&0xff)
+			r := uint32((rb&0xffffffff + 32768) >> 16)
+			b := uint32((rb>>32 + 32768) >> 16)
+			binary.LittleEndian.PutUint32(o, r|((g+32768)>>16)<<8|b<<16|0xff<<24)
 			continue
 		}
 		c00, c10, c01, c11 := pick(x0, y0), pick(x0+1, y0), pick(x0, y0+1), pick(x0+1, y0+1)

@@ -164,3 +164,39 @@ func emptyFraction(prof []float64) float64 {
 	}
 	return float64(n) / float64(hi-lo+1)
 }
+
+// Confident-ink levels (of 255) for the orientation cues: colour pages
+// keep ink above orientInkColour, so that light grid lines fall below;
+// grey and 1-bit pages (faxes) use the lower orientInkGrey, because the
+// downscaled work page lightens thin binarised traces (a 2 px baseline
+// at 204 dpi) below the colour level, which emptied the columns between
+// beats and made upright pages look turned. Measured on the fax corpus
+// (seeds 1–2, seven layouts, each upright and turned 90°: 28 pages): 180
+// gave 2 wrong turns and a band cue against the page (6x2 seed 2, decided
+// by the landscape prior alone), 120 none, with |band| ≥ 0.17 throughout.
+const (
+	orientInkColour = 180
+	orientInkGrey   = 120
+)
+
+// orientationInk returns the confident-ink map that orientation reads,
+// on the deskewed work page (cw×ch px; toWork maps its pixels to the
+// work image's): wInk resampled, weaker ink cleared.
+func orientationInk(wInk *image.Gray, toWork Homography, cw, ch int, colour bool) *image.Gray {
+	ci := image.NewGray(image.Rect(0, 0, cw, ch))
+	if toWork != identity {
+		warpGray(ci, wInk, toWork, 0)
+	} else {
+		copy(ci.Pix, wInk.Pix)
+	}
+	var thr uint8 = orientInkColour
+	if !colour {
+		thr = orientInkGrey
+	}
+	for i, v := range ci.Pix {
+		if v < thr {
+			ci.Pix[i] = 0
+		}
+	}
+	return ci
+}

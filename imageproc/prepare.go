@@ -168,18 +168,7 @@ func Prepare(img image.Image, opt *Options) (*Page, error) {
 	}
 	q := 0
 	if !o.NoOrient {
-		ci := wInk
-		if toWork != identity {
-			ci = image.NewGray(image.Rect(0, 0, cw, ch))
-			warpGray(ci, wInk, toWork, 0)
-		}
-		// Keep only confident ink: light grey grid lines fall below.
-		for i, v := range ci.Pix {
-			if v < 180 {
-				ci.Pix[i] = 0
-			}
-		}
-		q = orientation(ci)
+		q = orientation(orientationInk(wInk, toWork, cw, ch, sep.colour))
 	}
 	p.QuarterTurns = q
 	UW, UH := turnedSize(q, OW, OH)
