@@ -27,3 +27,25 @@ func BenchmarkFrontEndA4(b *testing.B) {
 		}
 	}
 }
+
+// BenchmarkFrontEndPhoto runs Prepare and Detect on a phone photo of an A4
+// page (the "photo" condition: about 4000×3200 px with perspective, lens
+// warp and desk), the lattice registration included. Target (issue 3):
+// a photo may cost a few times a scan page, not more.
+func BenchmarkFrontEndPhoto(b *testing.B) {
+	pg, err := render.CorpusPage(7, "photo", 0)
+	if err != nil {
+		b.Fatal(err)
+	}
+	b.ReportAllocs()
+	b.ResetTimer()
+	for i := 0; i < b.N; i++ {
+		p, err := imageproc.Prepare(pg.Image, nil)
+		if err != nil {
+			b.Fatal(err)
+		}
+		if _, err := Detect(p, nil); err != nil {
+			b.Fatal(err)
+		}
+	}
+}
