@@ -45,11 +45,12 @@ func mapDiff(t *testing.T, a, b []uint8, tol int) (int, float64) {
 }
 
 // TestPrepareReadsInputsInPlace: the in-place readers (opaque RGBA as
-// NRGBA, grey rows, Y′CbCr rows converted in a sliding window) give, byte
-// for byte, the pages of the reference path that converts the whole input
-// to NRGBA first. Interpolating the Y′CbCr planes before converting is not
-// equivalent: the conversion clips (a pink grid's red channel saturates
-// on white paper), so rows are converted first.
+// NRGBA, grey rows and grey bilinear samples) and the one-pass resampling
+// and separation give, byte for byte, the pages of the reference path that
+// converts the whole input to NRGBA first; Y′CbCr input (converted up
+// front) too. Interpolating Y′CbCr planes before converting would not be
+// equivalent: the conversion clips (a pink grid's red channel saturates on
+// white paper).
 func TestPrepareReadsInputsInPlace(t *testing.T) {
 	for _, deg := range []float64{0, 2.7} {
 		nrgba := rotatedSheet(110, 70, 6, deg).draw()

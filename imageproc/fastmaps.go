@@ -70,8 +70,9 @@ func (f *sepFixed) row(row []uint8, g []uint32, gr, ir, dr []uint8) {
 // upright makes the w×h upright page in one pass over its rows: each row
 // is sampled from the input through toSrc (upright px → input px; a plain
 // copy or conversion when toSrc is the identity) into the colour image
-// and separated while it is still in cache. The input is never converted
-// as a whole, and no map is read back from memory. Rows are independent,
+// and separated while it is still in cache: no colour image or map is
+// read back from memory, and 8-bit RGBA or grey input is never copied as
+// a whole. Rows are independent,
 // so they are shared among GOMAXPROCS workers; the result does not depend
 // on their number. A projective toSrc (photos) takes the general warp
 // first.
@@ -87,21 +88,12 @@ func (s *separator) upright(src *source, toSrc Homography, w, h int, bg *backgro
 		}
 	}
 	ident := toSrc == identity && w == src.w && h == src.h
-	// Y′CbCr input under a small rotation is read through a window of
-	// converted rows; under a quarter turn (rows of the upright page run
-	// down the input's columns) it is converted as a whole.
-	span := windowRows(hm, w)
-	windowed := !ident && affine && src.ycc != nil && hm[4] > 0 && span < src.h/3
-	var whole *image.NRGBA
 	switch {
 	case ident && src.rgb != nil:
 		col = src.rgb
 	case !affine:
 		col = image.NewNRGBA(r)
 		warpNRGBA(col, src.nrgba(), toSrc)
-	case !ident && src.ycc != nil && !windowed:
-		col = image.NewNRGBA(r)
-		whole = src.nrgba()
 	default:
 		col = image.NewNRGBA(r)
 	}
@@ -109,10 +101,6 @@ func (s *separator) upright(src *source, toSrc Homography, w, h int, bg *backgro
 	band := func(y0, y1 int) {
 		g := make([]uint32, 3*w)
 		var sc gainScratch
-		var win *rowWindow
-		if windowed {
-			win = newRowWindow(src, 2*span+8)
-		}
 		for y := y0; y < y1; y++ {
 			row := col.Pix[y*col.Stride : y*col.Stride+4*w]
 			switch {
@@ -122,17 +110,7 @@ func (s *separator) upright(src *source, toSrc Homography, w, h int, bg *backgro
 				row = src.row(row, y)
 			default:
 				fy := float64(y)
-				sx, sy := toFix32(hm[1]*fy+hm[2]), toFix32(hm[4]*fy+hm[5])
-				switch {
-				case whole != nil:
-					affineRowNRGBA(row, whole.Pix, whole.Stride, src.w, src.h, 0, sx, sy, stepX, stepY)
-				case win != nil:
-					end := sy + stepY*int64(w-1)
-					win.need(int(min(sy, end)>>32)-1, int(max(sy, end)>>32)+2)
-					src.affineRow(row, win, sx, sy, stepX, stepY)
-				default:
-					src.affineRow(row, nil, sx, sy, stepX, stepY)
-				}
+				src.affineRow(row, toFix32(hm[1]*fy+hm[2]), toFix32(hm[4]*fy+hm[5]), stepX, stepY)
 			}
 			bg.gainRowFixedInto(g, &sc, y, w)
 			f.row(row, g, gray.Pix[y*gray.Stride:y*gray.Stride+w],
@@ -151,12 +129,6 @@ func (s *separator) upright(src *source, toSrc Homography, w, h int, bg *backgro
 	}
 	wg.Wait()
 	return col, gray, ink, grd
-}
-
-// windowRows returns how many input rows one upright row of width w
-// touches under the affine map hm (upright px → input px), plus margins.
-func windowRows(hm Homography, w int) int {
-	return int(math.Ceil(math.Abs(hm[3])*float64(w-1))) + 4
 }
 
 // downscaleSource is downscale for any source: rows are converted one at

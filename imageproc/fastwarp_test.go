@@ -7,8 +7,8 @@ import (
 )
 
 // TestAffineRowMatchesWarp: the row sampler of the one-pass front end
-// (two colour channels per 64-bit multiply) gives the bytes of the
-// per-channel affine warp, inside, at the edges and outside the input.
+// gives the bytes of the whole-image affine warp, inside, at the edges and
+// outside the input.
 func TestAffineRowMatchesWarp(t *testing.T) {
 	rng := rand.New(rand.NewPCG(3, 3))
 	src := image.NewNRGBA(image.Rect(0, 0, 61, 47))
