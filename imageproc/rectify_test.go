@@ -3,6 +3,7 @@ package imageproc
 import (
 	"image"
 	"math"
+	"math/rand/v2"
 	"testing"
 )
 
@@ -108,4 +109,21 @@ func maxResidual(xs, ys, Xs, Ys []float64) float64 {
 		m = max(m, math.Hypot(Xs[i]-(a*xs[i]+b), Ys[i]-(c*ys[i]+d)))
 	}
 	return m
+}
+
+// TestRegisterLatticeRefuses checks that a map without a lattice (seeded
+// noise, and a blank page) is not registered: the coarse page must then
+// be kept rather than warped by a fit to nothing.
+func TestRegisterLatticeRefuses(t *testing.T) {
+	noise := image.NewGray(image.Rect(0, 0, 1200, 900))
+	r := rand.New(rand.NewPCG(3, 3))
+	for i := range noise.Pix {
+		noise.Pix[i] = uint8(r.IntN(60))
+	}
+	blankMap := image.NewGray(image.Rect(0, 0, 1200, 900))
+	for name, m := range map[string]*image.Gray{"noise": noise, "blank": blankMap} {
+		if _, ok := registerLattice(m); ok {
+			t.Errorf("%s: registered a lattice that is not there", name)
+		}
+	}
 }
