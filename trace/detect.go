@@ -74,6 +74,15 @@ func chooseLayout(ink *image.Gray, rows []rowInfo, cal grid.Calibration) (*Layou
 		l, _ := StandardLayout(s)
 		return l
 	}
+	ticks := 0
+	for _, r := range rows {
+		ticks += len(r.ticks)
+	}
+	if n >= 2 && ticks == 0 && oneLeadRows(ink, rows, pxY) {
+		// No separator anywhere and one lead's shape in every column:
+		// a single lead printed as consecutive rows.
+		return RhythmLayout(ecg.LeadII, n, rowSeconds(rows[0], cal)), rows
+	}
 	switch {
 	case n == 12:
 		return named("12x1"), rows
@@ -133,16 +142,20 @@ func chooseLayout(ink *image.Gray, rows []rowInfo, cal grid.Calibration) (*Layou
 	// No separators: one lead printed as consecutive rows of rhythm.
 	sec := 10.0
 	if n > 0 {
-		w := float64(rows[0].x1) - rows[0].traceX0
-		sec = math.Round(w/pxX/cal.SpeedMMPerS.V*10) / 10
-		if sec <= 0 {
-			sec = 10
-		}
+		sec = rowSeconds(rows[0], cal)
 	}
-	if n == 1 {
-		return RhythmLayout(ecg.LeadII, 1, sec), rows
+	return RhythmLayout(ecg.LeadII, max(n, 1), sec), rows
+}
+
+// rowSeconds is the time a row's trace covers at the page's speed, s,
+// rounded to 0.1 s (10 s if unknown).
+func rowSeconds(r rowInfo, cal grid.Calibration) float64 {
+	w := float64(r.x1) - r.traceX0
+	sec := math.Round(w/cal.PxPerMMX.V/cal.SpeedMMPerS.V*10) / 10
+	if !(sec > 0) {
+		return 10
 	}
-	return RhythmLayout(ecg.LeadII, n, sec), rows
+	return sec
 }
 
 // meanEcho is the mean of the finite echoes, NaN if there is none.

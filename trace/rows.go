@@ -241,7 +241,9 @@ func findRows(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse) []rowI
 					n++
 				}
 			}
-			return float64(n) >= 0.6*float64(z-a)
+			// and ink in a thin line, not a solid band (a dark desk
+			// around a photographed sheet left in the ink).
+			return float64(n) >= 0.6*float64(z-a) && bandFill(ink, int(r.baseY-3*pxY), int(r.baseY+3*pxY), int(refX0), int(refX1)) < 0.35
 		}
 		var gaps []float64
 		prev = math.NaN()

@@ -1,6 +1,7 @@
 package trace
 
 import (
+	"image"
 	"math"
 	"sort"
 )
@@ -44,4 +45,26 @@ func fillPitchGaps(rows []rowInfo) []rowInfo {
 		out = append(out, b)
 	}
 	return out
+}
+
+// bandFill is the fraction of the pixels of rows [y0, y1] and columns
+// [x0, x1) of ink that are ink: a trace crossing a 6 mm band fills a few
+// tenths of it at most, a dark region left in the ink fills it all.
+func bandFill(ink *image.Gray, y0, y1, x0, x1 int) float64 {
+	b := ink.Rect
+	y0, y1 = max(y0, b.Min.Y), min(y1, b.Max.Y-1)
+	x0, x1 = max(x0, b.Min.X), min(x1, b.Max.X)
+	if y0 > y1 || x0 >= x1 {
+		return 0
+	}
+	n := 0
+	for y := y0; y <= y1; y++ {
+		row := ink.Pix[(y-b.Min.Y)*ink.Stride+(x0-b.Min.X) : (y-b.Min.Y)*ink.Stride+(x1-b.Min.X)]
+		for _, v := range row {
+			if v >= inkThreshold {
+				n++
+			}
+		}
+	}
+	return float64(n) / float64((y1-y0+1)*(x1-x0))
 }
