@@ -6,6 +6,7 @@ import (
 	"math"
 
 	"tracelift/ecg"
+	"tracelift/grid"
 	"tracelift/imageproc/decode"
 	"tracelift/pipeline"
 	"tracelift/render"
@@ -31,7 +32,7 @@ func Score(res *pipeline.Result, err error, truth *render.Truth, full *ecg.Recor
 	}
 	p := Page{Condition: truth.Condition, Layout: truth.Layout}
 	nan := F(math.NaN())
-	p.PxPerMMXErrPct, p.PxPerMMYErrPct, p.SkewErrDeg, p.Seconds = nan, nan, nan, nan
+	p.PxPerMMXErrPct, p.PxPerMMYErrPct, p.SkewErrDeg, p.ResidualMM, p.Seconds = nan, nan, nan, nan, nan
 	p.HRErrBPM, p.PRErrMS, p.QRSErrMS, p.QTErrMS = nan, nan, nan, nan
 	if err != nil {
 		p.Class, p.Error = classOf(err), err.Error()
@@ -45,13 +46,19 @@ func Score(res *pipeline.Result, err error, truth *render.Truth, full *ecg.Recor
 		return p
 	}
 	p.Seconds = F(res.Elapsed().Seconds())
-	if res.Page != nil {
-		p.SkewErrDeg = F(res.Page.RotationDeg - truth.RotationDeg)
+	if res.Page != nil && res.Grid != nil {
+		// Calibration and skew through the page's full mapping (upright
+		// px → input px, a photo's registration mesh included) against
+		// the truth's full mapping (input px → paper mm, lens included):
+		// the upright page's px/mm is what the later stages use, so the
+		// input image's px/mm (which a photo's rectification changes) is
+		// not the reference.
+		s := grid.Evaluate(res.Page, res.Grid, gridReference(truth))
+		p.PxPerMMXErrPct, p.PxPerMMYErrPct = F(100*s.PxPerMMErrX), F(100*s.PxPerMMErrY)
+		p.SkewErrDeg, p.ResidualMM = F(s.SkewErrDeg), F(s.ResidualMM)
 	}
 	if res.Grid != nil {
 		c := res.Grid.Calibration
-		p.PxPerMMXErrPct = F(100 * (c.PxPerMMX.V/truth.PxPerMMX - 1))
-		p.PxPerMMYErrPct = F(100 * (c.PxPerMMY.V/truth.PxPerMMY - 1))
 		p.GainCorrect = math.Abs(c.GainMMPerMV.V/truth.GainMMPerMV-1) < 0.02
 		p.GainFromPulse = string(c.GainMMPerMV.Origin) == "pulse"
 		p.SpeedCorrect = math.Abs(c.SpeedMMPerS.V/truth.SpeedMMPerS-1) < 0.02
@@ -63,6 +70,14 @@ func Score(res *pipeline.Result, err error, truth *render.Truth, full *ecg.Recor
 		p.HRErrBPM, p.PRErrMS, p.QRSErrMS, p.QTErrMS = F(d.HRBPM), F(d.PRMS), F(d.QRSMS), F(d.QTMS)
 	}
 	return p
+}
+
+// gridReference is the truth's geometry as grid.Evaluate takes it: the
+// paper → image homography and the full image → paper map (lens included,
+// render.Truth.PxToPaper).
+func gridReference(t *render.Truth) grid.Reference {
+	return grid.Reference{PaperToImage: t.PaperToImage, ImageToPaper: t.PxToPaper, GridRectMM: t.GridRectMM,
+		RotationDeg: t.RotationDeg, GainMMPerMV: t.GainMMPerMV, SpeedMMPerS: t.SpeedMMPerS}
 }
 
 // classOf names an error's class like the catalogue does.

@@ -22,23 +22,28 @@ type Page struct {
 	Error string `json:"error,omitempty"`
 	// SNRdB and StrictSNRdB give each printed lead's SNR in dB (aligned
 	// and strict Challenge 2024 variants); a lead not returned scores 0.
-	SNRdB          map[string]F `json:"snr_db"`
-	StrictSNRdB    map[string]F `json:"strict_snr_db"`
-	ShiftMS        F            `json:"shift_ms"` // the page's best time shift for the aligned SNR
-	LeadsPrinted   int          `json:"leads_printed"`
-	LeadsFound     int          `json:"leads_found"`
-	Swaps          int          `json:"lead_swaps"` // returned leads that match another printed lead better than their own
-	PxPerMMXErrPct F            `json:"px_per_mm_x_err_pct"`
-	PxPerMMYErrPct F            `json:"px_per_mm_y_err_pct"`
-	GainCorrect    bool         `json:"gain_correct"`    // within 2 % of the truth
-	GainFromPulse  bool         `json:"gain_from_pulse"` // read from the calibration pulses (not assumed)
-	SpeedCorrect   bool         `json:"speed_correct"`   // within 2 % of the truth
-	SkewErrDeg     F            `json:"skew_err_deg"`
-	HRErrBPM       F            `json:"hr_err_bpm"`
-	PRErrMS        F            `json:"pr_err_ms"`
-	QRSErrMS       F            `json:"qrs_err_ms"`
-	QTErrMS        F            `json:"qt_err_ms"`
-	Seconds        F            `json:"seconds"` // digitising time
+	SNRdB        map[string]F `json:"snr_db"`
+	StrictSNRdB  map[string]F `json:"strict_snr_db"`
+	ShiftMS      F            `json:"shift_ms"` // the page's best time shift for the aligned SNR
+	LeadsPrinted int          `json:"leads_printed"`
+	LeadsFound   int          `json:"leads_found"`
+	Swaps        int          `json:"lead_swaps"` // returned leads that match another printed lead better than their own
+	// PxPerMMXErrPct, PxPerMMYErrPct are the calibration's errors, %,
+	// against the true px/mm of the upright page through the page's and
+	// the truth's full mappings (grid.Evaluate); NaN when the page came
+	// out in the wrong orientation.
+	PxPerMMXErrPct F    `json:"px_per_mm_x_err_pct"`
+	PxPerMMYErrPct F    `json:"px_per_mm_y_err_pct"`
+	GainCorrect    bool `json:"gain_correct"`    // within 2 % of the truth
+	GainFromPulse  bool `json:"gain_from_pulse"` // read from the calibration pulses (not assumed)
+	SpeedCorrect   bool `json:"speed_correct"`   // within 2 % of the truth
+	SkewErrDeg     F    `json:"skew_err_deg"`    // skew left on the upright page, degrees (absolute)
+	ResidualMM     F    `json:"residual_mm"`     // largest distortion left over the grid area, mm (grid.Score.ResidualMM)
+	HRErrBPM       F    `json:"hr_err_bpm"`
+	PRErrMS        F    `json:"pr_err_ms"`
+	QRSErrMS       F    `json:"qrs_err_ms"`
+	QTErrMS        F    `json:"qt_err_ms"`
+	Seconds        F    `json:"seconds"` // digitising time
 }
 
 // Row summarises the pages of one condition.

@@ -81,7 +81,8 @@ func TestCorpusAccuracy(t *testing.T) {
 }
 
 // TestCorpusEvaluation prints the per-condition evaluation table over
-// TRACELIFT_EVAL_N pages (default 20) per condition. It runs only when
+// TRACELIFT_EVAL_N pages (default 20) per condition, seed
+// TRACELIFT_EVAL_SEED (default 1000). It runs only when
 // TRACELIFT_EVAL is set: it takes minutes.
 func TestCorpusEvaluation(t *testing.T) {
 	if os.Getenv("TRACELIFT_EVAL") == "" {
@@ -97,12 +98,16 @@ func TestCorpusEvaluation(t *testing.T) {
 		conds = strings.Split(v, ",")
 	}
 	verbose := os.Getenv("TRACELIFT_EVAL_PAGES") != ""
+	seed := uint64(1000)
+	if v, err := strconv.ParseUint(os.Getenv("TRACELIFT_EVAL_SEED"), 10, 64); err == nil {
+		seed = v
+	}
 	for _, cond := range conds {
 		var sk, ex, ey, res []float64
 		fails, gain, read, orient := 0, 0, 0, 0
 		t0 := time.Now()
 		for i := 0; i < n; i++ {
-			s, err := corpusScore(t, cond, 1000, i)
+			s, err := corpusScore(t, cond, seed, i)
 			if verbose {
 				fmt.Printf("  %s %d: %+v err %v\n", cond, i, s, err)
 			}

@@ -29,6 +29,26 @@
 //     §2.7, from memory). EstimateHomography provides the normalised direct
 //     linear transform (Hartley, IEEE TPAMI 1997;19:580–93) for point
 //     correspondences;
+//   - phone photos, grid registration (rectify.go, photo.go, mesh.go):
+//     the homography leaves the lens warp and paper curl, so the coarse
+//     page is registered to the printed lattice. The major (5 mm) period
+//     per axis comes from the summed power spectra of tile profiles, the
+//     fundamental chosen by a harmonic sum (common practice in pitch
+//     detection); in overlapping tiles the local phase of that period (one
+//     Fourier coefficient of the Hann-windowed profile; common practice in
+//     fringe and lattice analysis) places a major line near the tile
+//     centre; line indices are unwrapped from the most reliable tile
+//     outwards (quality-guided phase unwrapping: Ghiglia & Pritt,
+//     Two-Dimensional Phase Unwrapping, Wiley 1998, ch. 4, from memory);
+//     the tie points are fitted by a homography (normalised DLT) plus a
+//     cubic polynomial residual field by least squares with iterated
+//     rejection beyond 3.5 robust standard deviations (1.4826 × median
+//     absolute residual; Rousseeuw & Leroy, Robust Regression and Outlier
+//     Detection, Wiley 1987, from memory). A fit whose rms exceeds a
+//     twelfth of a period is refused and the coarse page kept. The page
+//     is resampled once through a Mesh (nodes every 16 px, bilinear
+//     between them), kept in Page.Mesh; Page.SourcePoint maps upright px
+//     to input px through it;
 //   - one bilinear resampling of the full-resolution page through the
 //     composed homography (upright px → input px), kept in Page.ToSource.
 //
