@@ -28,9 +28,9 @@ func TestPipelineFloors(t *testing.T) {
 	// measured median (clean 25.0, scan 23.5, gray 21.9, penmarks 23.5 dB
 	// when set) and at or above the condition's target. The corpus medians
 	// over four pages per condition were clean 24.9, scan 21.7, gray 19.9,
-	// penmarks 21.6 dB (TestCorpusTable). No floor here for overlap and
-	// photo: they score ≈ 0 dB (crossing complexes; front-end calibration
-	// and orientation), see doc.go. Fax has its own test, TestFaxFloor.
+	// penmarks 21.6 dB (TestCorpusTable). Fax and overlapping rows have
+	// their own tests (TestFaxFloor, TestOverlapFloor); photos are held to
+	// their calibration bounds in grid's TestCorpusPhoto.
 	tests := []struct {
 		c        accuracy.Case
 		medianDB float64
