@@ -193,10 +193,7 @@ func sat8(v int32) uint8 {
 // darkness stands far above the strip's typical row are grid lines (and
 // likewise columns in horizontal bands). Line pixels go to grd and are
 // removed from ink unless the ink continues just beyond the line's
-// thickness (a trace crossing the line), is much darker than the line, or
-// belongs to a dark run along a broken line far longer than its dashes (a
-// trace's flat segment lying on the line; see traceFlats). Line pixels
-// kept as ink are not written to grd.
+// thickness (a trace crossing the line) or is much darker than the line.
 func structureSplit(gray, ink, grd *image.Gray) {
 	w, h := gray.Rect.Dx(), gray.Rect.Dy()
 	if w < 16 || h < 16 {
@@ -251,9 +248,6 @@ func structureSplit(gray, ink, grd *image.Gray) {
 	// typical line are trace baselines or text, not grid.
 	unflagDark(rowLine, rowLevel)
 	unflagDark(colLine, colLevel)
-	// On broken (dashed or dotted) lines, a dark run much longer than the
-	// lines' own dashes is a trace running along the line, not grid.
-	flat := traceFlats(gray, ink, rowLine, colLine, strips, medianLevel(rowLine, rowLevel) >= blackLines)
 	dark := func(x, y int) bool {
 		if x < 0 || y < 0 || x >= w || y >= h {
 			return false
@@ -268,9 +262,6 @@ func structureSplit(gray, ink, grd *image.Gray) {
 			onCol := colLine[b*w+x]
 			if !onRow && !onCol {
 				continue
-			}
-			if flat != nil && flat[y*w+x] {
-				continue // trace ink along a broken grid line
 			}
 			i := y*gray.Stride + x
 			d := 255 - int(gray.Pix[i])
@@ -355,22 +346,6 @@ func markLines(prof []float64, line []bool) {
 	}
 }
 
-// medianLevel returns the median on-level of the flagged lines (0 when
-// none is flagged).
-func medianLevel(line []bool, level []float64) float64 {
-	var lv []float64
-	for i, l := range line {
-		if l {
-			lv = append(lv, level[i])
-		}
-	}
-	if len(lv) == 0 {
-		return 0
-	}
-	slices.Sort(lv)
-	return lv[len(lv)/2]
-}
-
 // unflagDark clears line flags whose on-level is far darker than the
 // median line's (only when lines are grey, not black).
 func unflagDark(line []bool, level []float64) {
@@ -447,114 +422,4 @@ func isStroke(pix []uint8, step int) bool {
 		}
 	}
 	return longest*5 >= n && dark*4 <= 3*n
-}
-
-// blackLines is the median line darkness (on-level, 0..255) from which
-// grid lines count as printed as black as the trace: binarised pages
-// (faxes: 169–192 on the corpus after resampling, against 64–156 for grey
-// scans of light grids).
-const blackLines = 165
-
-// traceFlats marks the pixels of line rows and columns that belong to a
-// dark run far longer than the grid lines' own dashes: a trace flat lying
-// on a grid line. With black lines (a binarised fax prints grid and trace
-// equally black) runs are of dark pixels (darkness above 30, as the line
-// levels are measured); otherwise of ink (strength above 96, as
-// structureSplit's "dark"), which light lines do not hold, so only traces
-// make long runs there and the split is as before. The dash length is the
-// median run over all line rows (or columns); a run counts as trace from
-// max(4·median, median + 6 px) on. Solid lines (median run above a
-// quarter of the strip) give no such contrast: nil.
-func traceFlats(gray, ink *image.Gray, rowLine, colLine []bool, strips int, black bool) []bool {
-	w, h := ink.Rect.Dx(), ink.Rect.Dy()
-	m := ink
-	isDark := func(v uint8) bool { return v > 96 }
-	if black {
-		m = gray
-		isDark = func(v uint8) bool { return 255-int(v) > 30 }
-	}
-	// Runs along line rows (strip s: x in [s·w/strips, (s+1)·w/strips)).
-	var rowRuns, colRuns []int
-	forRuns := func(n int, at func(int) uint8, fn func(a, b int)) {
-		a := -1
-		for i := 0; i <= n; i++ {
-			if i < n && isDark(at(i)) {
-				if a < 0 {
-					a = i
-				}
-				continue
-			}
-			if a >= 0 {
-				fn(a, i)
-				a = -1
-			}
-		}
-	}
-	for s := 0; s < strips; s++ {
-		x0, x1 := s*w/strips, (s+1)*w/strips
-		for y := 0; y < h; y++ {
-			if !rowLine[s*h+y] {
-				continue
-			}
-			row := m.Pix[y*m.Stride+x0 : y*m.Stride+x1]
-			forRuns(len(row), func(i int) uint8 { return row[i] }, func(a, b int) { rowRuns = append(rowRuns, b-a) })
-		}
-	}
-	for b := 0; b < strips; b++ {
-		y0, y1 := b*h/strips, (b+1)*h/strips
-		for x := 0; x < w; x++ {
-			if !colLine[b*w+x] {
-				continue
-			}
-			forRuns(y1-y0, func(i int) uint8 { return m.Pix[(y0+i)*m.Stride+x] }, func(a, b int) { colRuns = append(colRuns, b-a) })
-		}
-	}
-	limit := func(runs []int, seg int) int {
-		if len(runs) < 20 {
-			return 0
-		}
-		slices.Sort(runs)
-		med := runs[len(runs)/2]
-		if 4*med > seg {
-			return 0 // solid lines
-		}
-		return max(4*med, med+6)
-	}
-	lr, lc := limit(rowRuns, w/strips), limit(colRuns, h/strips)
-	if lr == 0 && lc == 0 {
-		return nil
-	}
-	flat := make([]bool, w*h)
-	for s := 0; s < strips && lr > 0; s++ {
-		x0, x1 := s*w/strips, (s+1)*w/strips
-		for y := 0; y < h; y++ {
-			if !rowLine[s*h+y] {
-				continue
-			}
-			row := m.Pix[y*m.Stride+x0 : y*m.Stride+x1]
-			forRuns(len(row), func(i int) uint8 { return row[i] }, func(a, b int) {
-				if b-a >= lr {
-					for x := x0 + a; x < x0+b; x++ {
-						flat[y*w+x] = true
-					}
-				}
-			})
-		}
-	}
-	for b := 0; b < strips && lc > 0; b++ {
-		y0, y1 := b*h/strips, (b+1)*h/strips
-		for x := 0; x < w; x++ {
-			if !colLine[b*w+x] {
-				continue
-			}
-			forRuns(y1-y0, func(i int) uint8 { return m.Pix[(y0+i)*m.Stride+x] }, func(a, b int) {
-				if b-a >= lc {
-					for y := y0 + a; y < y0+b; y++ {
-						flat[y*w+x] = true
-					}
-				}
-			})
-		}
-	}
-	return flat
 }
