@@ -68,8 +68,12 @@ type Entry struct {
 //
 //   - started rows (interrupted) and rows of other content are never
 //     settled;
-//   - done and partial rows are settled when the options match (or the row
-//     predates options fingerprints, so that old catalogues keep resuming);
+//   - done and partial rows are settled when the options match; a row
+//     with an unknown fingerprint ("": written before options were
+//     recorded) is never settled, so every such input is redone once,
+//     under the current options, and its new row carries their
+//     fingerprint (safest: an upgraded catalogue cannot make a later
+//     change of options go unnoticed);
 //   - failed rows are settled when the options match and the failure is
 //     one the input's bytes decide (class "unreadable" or "no-ecg"),
 //     unless retryFailed is set: a corrupt file stays corrupt, the same
@@ -82,11 +86,26 @@ func (e Entry) Settled(sha, options string, retryFailed bool) bool {
 	}
 	switch e.Status {
 	case StatusDone, StatusPartial:
-		return e.Options == "" || e.Options == options
+		return e.Options != "" && e.Options == options
 	case StatusFailed:
-		return !retryFailed && (e.Class == "unreadable" || e.Class == "no-ecg") && e.Options == options
+		return !retryFailed && (e.Class == "unreadable" || e.Class == "no-ecg") &&
+			e.Options != "" && e.Options == options
 	}
 	return false
+}
+
+// Supersedes reports whether e should replace old, an entry for the same
+// path, when catalogues are merged: a started entry never replaces a
+// completed one (done, partial or failed: a later attempt that was killed
+// says nothing about the input), a completed entry always replaces a
+// started one, and between two of the same kind the one finished later
+// wins (ties go to e).
+func (e Entry) Supersedes(old Entry) bool {
+	eStarted, oldStarted := e.Status == StatusStarted, old.Status == StatusStarted
+	if eStarted != oldStarted {
+		return oldStarted
+	}
+	return !old.Finished.After(e.Finished)
 }
 
 // Columns are the catalogue's CSV columns, in order.
@@ -128,8 +147,12 @@ CREATE INDEX IF NOT EXISTS inputs_status ON inputs(status);
 // DB is an open catalogue. It is safe for concurrent use; writes are
 // serialised.
 type DB struct {
-	db   *sql.DB
-	path string
+	db       *sql.DB
+	path     string
+	readOnly bool
+	// hasOptions is false for a read-only catalogue of schema version 1
+	// (no options column): its rows read with Options "".
+	hasOptions bool
 }
 
 // Open opens or creates the catalogue at path (write-ahead-log mode, a
@@ -155,7 +178,65 @@ func Open(path string) (*DB, error) {
 		db.Close()
 		return nil, fmt.Errorf("catalog: open %s: %w: %v", path, ecg.ErrOutput, err)
 	}
-	return &DB{db: db, path: path}, nil
+	return &DB{db: db, path: path, hasOptions: true}, nil
+}
+
+// OpenReadOnly opens the existing catalogue at path for reading only
+// (SQLite URI mode=ro and PRAGMA query_only): nothing is created, migrated
+// or checkpointed, so the file's bytes stay as they are. Catalogues of
+// schema version 1 are read as they are, with every Options "". Put on a
+// read-only catalogue fails. Errors wrap ecg.ErrUnreadable.
+func OpenReadOnly(path string) (*DB, error) {
+	fail := func(err error) error {
+		return fmt.Errorf("catalog: open %s: %w: %v", path, ecg.ErrUnreadable, err)
+	}
+	q := url.Values{}
+	q.Add("mode", "ro")
+	q.Add("_pragma", "busy_timeout(10000)")
+	q.Add("_pragma", "query_only(1)")
+	u := url.URL{Scheme: "file", Opaque: (&url.URL{Path: path}).EscapedPath(), RawQuery: q.Encode()}
+	db, err := sql.Open("sqlite", u.String())
+	if err != nil {
+		return nil, fail(err)
+	}
+	db.SetMaxOpenConns(1)
+	var v int
+	if err := db.QueryRow("PRAGMA user_version").Scan(&v); err != nil {
+		db.Close()
+		return nil, fail(err)
+	}
+	if v > SchemaVersion {
+		db.Close()
+		return nil, fail(fmt.Errorf("catalogue schema version %d is newer than this program's %d", v, SchemaVersion))
+	}
+	cols, err := columnNames(db)
+	if err != nil {
+		db.Close()
+		return nil, fail(err)
+	}
+	if !cols["path"] {
+		db.Close()
+		return nil, fail(errors.New("not a catalogue (no table inputs)"))
+	}
+	return &DB{db: db, path: path, readOnly: true, hasOptions: cols["options"]}, nil
+}
+
+// columnNames returns the columns of table inputs (none if it is missing).
+func columnNames(db *sql.DB) (map[string]bool, error) {
+	rows, err := db.Query("SELECT name FROM pragma_table_info('inputs')")
+	if err != nil {
+		return nil, err
+	}
+	defer rows.Close()
+	cols := make(map[string]bool)
+	for rows.Next() {
+		var name string
+		if err := rows.Scan(&name); err != nil {
+			return nil, err
+		}
+		cols[name] = true
+	}
+	return cols, rows.Err()
 }
 
 // migrate brings a catalogue written by an earlier version to
@@ -170,24 +251,11 @@ func migrate(db *sql.DB) error {
 	if v > SchemaVersion {
 		return fmt.Errorf("catalogue schema version %d is newer than this program's %d", v, SchemaVersion)
 	}
-	rows, err := db.Query("SELECT name FROM pragma_table_info('inputs')")
+	cols, err := columnNames(db)
 	if err != nil {
 		return err
 	}
-	has := false
-	for rows.Next() {
-		var name string
-		if err := rows.Scan(&name); err != nil {
-			rows.Close()
-			return err
-		}
-		has = has || name == "options"
-	}
-	rows.Close()
-	if err := rows.Err(); err != nil {
-		return err
-	}
-	if !has {
+	if !cols["options"] {
 		if _, err := db.Exec("ALTER TABLE inputs ADD COLUMN options TEXT NOT NULL DEFAULT ''"); err != nil {
 			return err
 		}
@@ -203,19 +271,34 @@ func migrate(db *sql.DB) error {
 // Path returns the file the catalogue lives in.
 func (d *DB) Path() string { return d.path }
 
-// Close checkpoints the write-ahead log and closes the database.
+// Close checkpoints the write-ahead log (unless read-only) and closes the
+// database.
 func (d *DB) Close() error {
-	_, _ = d.db.Exec("PRAGMA wal_checkpoint(TRUNCATE)")
+	if !d.readOnly {
+		_, _ = d.db.Exec("PRAGMA wal_checkpoint(TRUNCATE)")
+	}
 	return d.db.Close()
 }
 
 const selectCols = `path, sha256, size_bytes, status, error_class, error, outputs, pages,
 	leads, quality, heart_rate_bpm, pr_ms, qrs_ms, qt_ms, qtc_bazett_ms, seconds, finished_utc, options`
 
+// selectColsV1 reads a schema-1 catalogue (no options column).
+const selectColsV1 = `path, sha256, size_bytes, status, error_class, error, outputs, pages,
+	leads, quality, heart_rate_bpm, pr_ms, qrs_ms, qt_ms, qtc_bazett_ms, seconds, finished_utc, ''`
+
+// cols is the column list to select from d's table.
+func (d *DB) cols() string {
+	if d.hasOptions {
+		return selectCols
+	}
+	return selectColsV1
+}
+
 // Get returns the entry for the relative path p; ok is false if there is
 // none.
 func (d *DB) Get(ctx context.Context, p string) (e Entry, ok bool, err error) {
-	row := d.db.QueryRowContext(ctx, "SELECT "+selectCols+" FROM inputs WHERE path = ?", p)
+	row := d.db.QueryRowContext(ctx, "SELECT "+d.cols()+" FROM inputs WHERE path = ?", p)
 	e, err = scanEntry(row)
 	if errors.Is(err, sql.ErrNoRows) {
 		return Entry{}, false, nil
@@ -229,6 +312,9 @@ func (d *DB) Get(ctx context.Context, p string) (e Entry, ok bool, err error) {
 // Put records e, replacing any earlier entry for the same path, in one
 // transaction. Errors wrap ecg.ErrOutput.
 func (d *DB) Put(ctx context.Context, e Entry) error {
+	if d.readOnly {
+		return fmt.Errorf("catalog: put %s: %w: %s is open read-only", e.Path, ecg.ErrOutput, d.path)
+	}
 	if e.Finished.IsZero() {
 		e.Finished = time.Now()
 	}
@@ -254,7 +340,7 @@ func (d *DB) Put(ctx context.Context, e Entry) error {
 
 // All returns every entry ordered by path.
 func (d *DB) All(ctx context.Context) ([]Entry, error) {
-	rows, err := d.db.QueryContext(ctx, "SELECT "+selectCols+" FROM inputs ORDER BY path")
+	rows, err := d.db.QueryContext(ctx, "SELECT "+d.cols()+" FROM inputs ORDER BY path")
 	if err != nil {
 		return nil, fmt.Errorf("catalog: list: %w", err)
 	}
@@ -293,11 +379,14 @@ func (d *DB) Counts(ctx context.Context) (map[Status]int, error) {
 }
 
 // Merge copies every entry of the catalogue file src into d. Where both
-// hold the same path, the entry finished later wins, except that a
-// started (never finished) entry does not replace a finished or failed
-// one. It returns the number of entries copied or replaced.
+// hold the same path (see Supersedes): a started (never finished) entry
+// never replaces a completed one (done, partial or failed), a completed
+// entry always replaces a started one, and otherwise the entry finished
+// later wins. src is opened read-only (OpenReadOnly) and left byte for
+// byte as it was, whatever its schema version. It returns the number of
+// entries copied or replaced.
 func (d *DB) Merge(ctx context.Context, src string) (int, error) {
-	s, err := Open(src)
+	s, err := OpenReadOnly(src)
 	if err != nil {
 		return 0, fmt.Errorf("catalog: merge %s: %w", src, err)
 	}
@@ -312,7 +401,7 @@ func (d *DB) Merge(ctx context.Context, src string) (int, error) {
 		if err != nil {
 			return n, fmt.Errorf("catalog: merge %s: %w", src, err)
 		}
-		if ok && (old.Finished.After(e.Finished) || e.Status == StatusStarted && old.Status != StatusStarted) {
+		if ok && !e.Supersedes(old) {
 			continue
 		}
 		if err := d.Put(ctx, e); err != nil {

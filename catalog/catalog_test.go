@@ -265,9 +265,9 @@ func TestOpenMigratesVersion1(t *testing.T) {
 	assert.Equal(t, StatusDone, a.Status)
 	assert.Equal(t, 61.0, a.HeartBPM)
 	assert.Equal(t, "", a.Options, "options of old rows are unknown")
-	// Old finished rows keep resuming under any options; old failures are
-	// tried again once, since their options are unknown.
-	assert.True(t, a.Settled("aa", "layout=auto", false))
+	// Rows of unknown options are redone once, finished or failed: a
+	// later change of options must not go unnoticed for ever.
+	assert.False(t, a.Settled("aa", "layout=auto", false))
 	b, _, err := db.Get(ctx, "old/b.png")
 	require.NoError(t, err)
 	assert.False(t, b.Settled("bb", "layout=auto", false))
@@ -323,7 +323,9 @@ func TestSettled(t *testing.T) {
 		{"partial, same", row(StatusPartial, "partial", opts), "h1", opts, false, true},
 		{"done, content changed", row(StatusDone, "", opts), "h2", opts, false, false},
 		{"done, options changed", row(StatusDone, "", opts), "h1", "layout=6x2 rate=500", false, false},
-		{"done, row predates options", row(StatusDone, "", ""), "h1", opts, false, true},
+		{"done, row predates options", row(StatusDone, "", ""), "h1", opts, false, false},
+		{"partial, row predates options", row(StatusPartial, "partial", ""), "h1", opts, false, false},
+		{"done, row predates options, empty run options", row(StatusDone, "", ""), "h1", "", false, false},
 		{"done, retry-failed does not redo it", row(StatusDone, "", opts), "h1", opts, true, true},
 		{"failed corrupt file, same", row(StatusFailed, "unreadable", opts), "h1", opts, false, true},
 		{"failed no ECG, same", row(StatusFailed, "no-ecg", opts), "h1", opts, false, true},
@@ -389,4 +391,134 @@ func BenchmarkPut(b *testing.B) {
 			b.Fatal(err)
 		}
 	}
+}
+
+// TestMergeStartedNeverReplacesCompleted checks the merge rule in both
+// orders of the sources: a started row never replaces a completed one,
+// a completed row always replaces a started one, whatever their times.
+func TestMergeStartedNeverReplacesCompleted(t *testing.T) {
+	ctx := context.Background()
+	t0 := time.Date(2026, 1, 1, 0, 0, 0, 0, time.UTC)
+	for _, tc := range []struct {
+		name           string
+		first, second  Status
+		firstAt, sndAt time.Duration
+		want           Status
+	}{
+		{"started newer, merged first", StatusStarted, StatusDone, time.Hour, 0, StatusDone},
+		{"started newer, merged second", StatusDone, StatusStarted, 0, time.Hour, StatusDone},
+		{"started older, merged first", StatusStarted, StatusDone, 0, time.Hour, StatusDone},
+		{"started older, merged second", StatusDone, StatusStarted, time.Hour, 0, StatusDone},
+		{"failed older than started", StatusStarted, StatusFailed, time.Hour, 0, StatusFailed},
+		{"partial older than started, merged second", StatusStarted, StatusPartial, 2 * time.Hour, time.Hour, StatusPartial},
+		{"both completed, later wins", StatusDone, StatusFailed, 0, time.Hour, StatusFailed},
+		{"both completed, earlier loses", StatusFailed, StatusDone, time.Hour, 0, StatusFailed},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			dir := t.TempDir()
+			src := func(name string, s Status, at time.Duration) string {
+				p := filepath.Join(dir, name)
+				db, err := Open(p)
+				require.NoError(t, err)
+				e := NewEntry("x.png")
+				e.Status, e.Finished = s, t0.Add(at)
+				require.NoError(t, db.Put(ctx, e))
+				require.NoError(t, db.Close())
+				return p
+			}
+			a := src("a.sqlite", tc.first, tc.firstAt)
+			b := src("b.sqlite", tc.second, tc.sndAt)
+			m, err := Open(filepath.Join(dir, "m.sqlite"))
+			require.NoError(t, err)
+			defer m.Close()
+			for _, p := range []string{a, b} {
+				_, err := m.Merge(ctx, p)
+				require.NoError(t, err)
+			}
+			got, ok, err := m.Get(ctx, "x.png")
+			require.NoError(t, err)
+			require.True(t, ok)
+			assert.Equal(t, tc.want, got.Status)
+		})
+	}
+}
+
+// TestMergeLeavesSourcesUntouched merges a schema-1 catalogue and a
+// current one and checks that neither source file changed by a byte (the
+// old one is read as it is, not migrated), and that the old rows arrive
+// with unknown options.
+func TestMergeLeavesSourcesUntouched(t *testing.T) {
+	ctx := context.Background()
+	dir := t.TempDir()
+	v1 := filepath.Join(dir, "v1.sqlite")
+	raw, err := sql.Open("sqlite", v1)
+	require.NoError(t, err)
+	_, err = raw.Exec(schemaV1)
+	require.NoError(t, err)
+	require.NoError(t, raw.Close())
+	v2 := filepath.Join(dir, "v2.sqlite")
+	db, err := Open(v2)
+	require.NoError(t, err)
+	e := NewEntry("new.png")
+	e.Status, e.SHA256, e.Options = StatusDone, "cc", "layout=auto"
+	require.NoError(t, db.Put(ctx, e))
+	require.NoError(t, db.Close())
+
+	before := map[string][]byte{}
+	for _, p := range []string{v1, v2} {
+		b, err := os.ReadFile(p)
+		require.NoError(t, err)
+		before[p] = b
+	}
+	m, err := Open(filepath.Join(dir, "m.sqlite"))
+	require.NoError(t, err)
+	defer m.Close()
+	for _, p := range []string{v1, v2} {
+		n, err := m.Merge(ctx, p)
+		require.NoError(t, err)
+		assert.Positive(t, n)
+	}
+	for p, b := range before {
+		after, err := os.ReadFile(p)
+		require.NoError(t, err)
+		assert.True(t, bytes.Equal(b, after), "merge changed its source %s", filepath.Base(p))
+	}
+	raw, err = sql.Open("sqlite", v1)
+	require.NoError(t, err)
+	var v int
+	require.NoError(t, raw.QueryRow("PRAGMA user_version").Scan(&v))
+	require.NoError(t, raw.Close())
+	assert.Equal(t, 0, v, "the old source is not migrated")
+
+	all, err := m.All(ctx)
+	require.NoError(t, err)
+	require.Len(t, all, 3)
+	// Ordered by path: new.png, old/a.png, old/b.png.
+	assert.Equal(t, "layout=auto", all[0].Options)
+	assert.Equal(t, "", all[1].Options, "old/a.png: options unknown")
+	assert.Equal(t, 61.0, all[1].HeartBPM)
+}
+
+func TestOpenReadOnly(t *testing.T) {
+	ctx := context.Background()
+	dir := t.TempDir()
+	_, err := OpenReadOnly(filepath.Join(dir, "missing.sqlite"))
+	assert.ErrorIs(t, err, ecg.ErrUnreadable)
+	_, statErr := os.Stat(filepath.Join(dir, "missing.sqlite"))
+	assert.True(t, os.IsNotExist(statErr), "a read-only open creates nothing")
+
+	p := filepath.Join(dir, "name with spaces.sqlite")
+	db, err := Open(p)
+	require.NoError(t, err)
+	e := NewEntry("a.png")
+	e.Status = StatusDone
+	require.NoError(t, db.Put(ctx, e))
+	require.NoError(t, db.Close())
+	ro, err := OpenReadOnly(p)
+	require.NoError(t, err)
+	defer ro.Close()
+	all, err := ro.All(ctx)
+	require.NoError(t, err)
+	assert.Len(t, all, 1)
+	assert.ErrorIs(t, ro.Put(ctx, e), ecg.ErrOutput)
 }

@@ -9,7 +9,12 @@
 // of the options that shaped it, and Entry.Settled decides what a rerun
 // may skip: the same bytes (SHA-256) read with the same options, finished
 // or failed in a way the bytes decide (a corrupt file stays corrupt).
-// Catalogues of schema version 1 (no options column) are migrated on Open.
+// Catalogues of schema version 1 (no options column) are migrated on Open;
+// their rows have an unknown fingerprint and are never settled, so each
+// such input is redone once under the current options. OpenReadOnly reads
+// a catalogue of any known schema without changing its file (SQLite URI
+// mode=ro, PRAGMA query_only); Merge reads its sources that way, and a
+// started row never replaces a completed one there (Entry.Supersedes).
 //
 // The package also lists the inputs of a folder tree (Scan), splits them
 // deterministically into shards (Shard) so that independent machines can
