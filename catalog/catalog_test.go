@@ -218,6 +218,20 @@ func TestScan(t *testing.T) {
 
 	_, err = Scan(filepath.Join(root, "nope"))
 	assert.ErrorIs(t, err, ecg.ErrUnreadable)
+
+	// The output folder of another run (it holds a catalogue) is not an
+	// input, and the skipped folder is recognised through a symbolic link.
+	write("old-run/a-overlay.png")
+	write("old-run/" + FileName)
+	link := filepath.Join(t.TempDir(), "out-link")
+	require.NoError(t, os.Symlink(filepath.Join(root, "out"), link))
+	in, err = Scan(root, link)
+	require.NoError(t, err)
+	rels = rels[:0]
+	for _, x := range in {
+		rels = append(rels, x.Rel)
+	}
+	assert.Equal(t, []string{"a/deep/y.pdf", "a/x.jpg", "b.PNG"}, rels)
 }
 
 func TestHashFile(t *testing.T) {

@@ -35,11 +35,17 @@ type Input struct {
 	Size int64  // bytes
 }
 
+// FileName is the usual name of a catalogue file in an output folder.
+const FileName = "catalog.sqlite"
+
 // Scan lists the image files under root, recursing into subfolders, in
-// lexical order of their relative paths. Hidden files and folders (name
-// starting with ".") and every folder in skip (for example the output
-// folder when it lies inside root) are left out. A root that cannot be read
-// wraps ecg.ErrUnreadable.
+// lexical order of their relative paths. Left out are hidden files and
+// folders (name starting with "."), every folder in skip (for example the
+// output folder when it lies inside root; compared as files, so another
+// spelling of the same folder or a symbolic link to it is recognised too)
+// and every folder below root that holds a catalogue (FileName): the
+// output folder of another run, whose overlays and PDFs are images but not
+// inputs. A root that cannot be read wraps ecg.ErrUnreadable.
 func Scan(root string, skip ...string) ([]Input, error) {
 	st, err := os.Stat(root)
 	if err != nil {
@@ -48,10 +54,10 @@ func Scan(root string, skip ...string) ([]Input, error) {
 	if !st.IsDir() {
 		return nil, fmt.Errorf("catalog: scan %s: %w: not a folder", root, ecg.ErrUnreadable)
 	}
-	skipAbs := make(map[string]bool)
+	var skipInfo []os.FileInfo
 	for _, s := range skip {
-		if a, err := filepath.Abs(s); err == nil {
-			skipAbs[a] = true
+		if fi, err := os.Stat(s); err == nil && fi.IsDir() {
+			skipInfo = append(skipInfo, fi)
 		}
 	}
 	var out []Input
@@ -67,7 +73,7 @@ func Scan(root string, skip ...string) ([]Input, error) {
 			return nil
 		}
 		if d.IsDir() {
-			if a, err := filepath.Abs(p); err == nil && skipAbs[a] && p != root {
+			if p != root && skipFolder(p, skipInfo) {
 				return filepath.SkipDir
 			}
 			return nil
@@ -91,6 +97,27 @@ func Scan(root string, skip ...string) ([]Input, error) {
 	}
 	sort.Slice(out, func(i, j int) bool { return out[i].Rel < out[j].Rel })
 	return out, nil
+}
+
+// skipFolder reports whether the folder dir is one of skip or holds a
+// catalogue.
+func skipFolder(dir string, skip []os.FileInfo) bool {
+	if fi, err := os.Stat(filepath.Join(dir, FileName)); err == nil && fi.Mode().IsRegular() {
+		return true
+	}
+	if len(skip) == 0 {
+		return false
+	}
+	fi, err := os.Stat(dir)
+	if err != nil {
+		return false
+	}
+	for _, s := range skip {
+		if os.SameFile(fi, s) {
+			return true
+		}
+	}
+	return false
 }
 
 func isImageName(name string) bool {

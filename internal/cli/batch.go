@@ -78,12 +78,21 @@ the same pipeline as digitize, in parallel, mirroring the relative paths in
 DIR. It keeps a catalogue, DIR/catalog.sqlite (SQLite), with one row per
 input: its SHA-256, status, error, outputs and key measurements (HR, PR,
 QRS, QT, QTc Bazett, leads found, quality). Every finished input is
-committed at once, so the run can be stopped at any moment and rerun: inputs
-already finished, or failed, with unchanged content and the same digitising
-options are skipped (a corrupt file stays corrupt; --retry-failed tries
-failed ones again, --force redoes everything); changed inputs, inputs read
-with other options and inputs in flight when an earlier run stopped are
-redone. At the end the catalogue is also written as DIR/catalog.csv.
+committed at once, so the run can be stopped at any moment and rerun. An
+input is skipped when its content (SHA-256) and the digitising options are
+unchanged and it finished (done or partial) or failed in a way its bytes
+decide: unreadable or no ECG found (a corrupt file stays corrupt;
+--retry-failed tries those again, --force redoes everything). Failures on
+the output side (disk full, permissions) and internal errors are always
+retried; changed inputs, inputs read with other options, inputs in flight
+when an earlier run stopped and rows from catalogues that did not record
+the options are redone. At the end the catalogue is also written as
+DIR/catalog.csv.
+
+Outputs go to DIR mirroring the input tree; every input gets its own output
+name (two inputs that would share one get the extension, then a number,
+added). Folders holding a catalogue (earlier output folders) and the output
+folder itself are never read as input.
 
 --shard K/N processes a fixed share of the inputs (FNV-1a of the relative
 path mod N), so N machines can split one archive; combine their catalogues
@@ -173,18 +182,28 @@ func runBatch(ctx context.Context, ios *IOStreams, opts *batchOptions) error {
 	if ctx == nil {
 		ctx = context.Background()
 	}
-	inputs, err := catalog.Scan(opts.InputDir, opts.OutDir)
+	catPath := opts.CatalogPath
+	if catPath == "" {
+		catPath = filepath.Join(opts.OutDir, catalog.FileName)
+	}
+	inputs, err := catalog.Scan(opts.InputDir, opts.OutDir, filepath.Dir(catPath))
 	if err != nil {
 		return fmt.Errorf("batch: %w", err)
 	}
+	// Output names are chosen from the whole archive, before sharding, so
+	// every shard and every worker order gives an input the same one.
 	bases := outputBases(inputs)
+	if len(inputs) == 0 {
+		fmt.Fprintf(ios.ErrOut, "batch: warning: no images found in %s (looked for %s)\n",
+			opts.InputDir, strings.Join(catalog.Extensions, " "))
+	}
 	inputs = opts.Shard.Filter(inputs)
+	if len(inputs) == 0 && len(bases) > 0 {
+		fmt.Fprintf(ios.ErrOut, "batch: warning: none of the %d images in %s belongs to shard %s\n",
+			len(bases), opts.InputDir, opts.Shard)
+	}
 	if err := os.MkdirAll(opts.OutDir, 0o755); err != nil {
 		return fmt.Errorf("batch: %s: %w: %v", opts.OutDir, ecg.ErrOutput, err)
-	}
-	catPath := opts.CatalogPath
-	if catPath == "" {
-		catPath = filepath.Join(opts.OutDir, "catalog.sqlite")
 	}
 	db, err := catalog.Open(catPath)
 	if err != nil {
@@ -225,7 +244,7 @@ func runBatch(ctx context.Context, ios *IOStreams, opts *batchOptions) error {
 	var (
 		mu       sync.Mutex
 		st       = batchStats{Total: len(inputs)}
-		fatalErr error
+		fatalErr error // a failure that stops the run (not an interruption)
 	)
 	start := time.Now()
 	var wg sync.WaitGroup
@@ -239,6 +258,9 @@ func runBatch(ctx context.Context, ios *IOStreams, opts *batchOptions) error {
 				}
 				mu.Lock()
 				switch {
+				case err != nil && ctx.Err() != nil && errors.Is(err, ctx.Err()):
+					// Interrupted in flight: reported once, after the
+					// workers stop.
 				case err != nil:
 					if fatalErr == nil {
 						fatalErr = err
@@ -438,9 +460,11 @@ func runtimeLimits(workers, maxMemMB int) (restore func()) {
 	if workers < procs {
 		runtime.GOMAXPROCS(workers)
 	}
-	gcPercent := debug.SetGCPercent(300)
-	if gcPercent != 100 {
-		debug.SetGCPercent(gcPercent) // GOGC chosen by the user
+	gcPercent := debug.SetGCPercent(-1)
+	if gogcSet() {
+		debug.SetGCPercent(gcPercent) // GOGC chosen by the user, even 100
+	} else {
+		debug.SetGCPercent(300)
 	}
 	mem := int64(-1)
 	if maxMemMB > 0 {
@@ -455,6 +479,13 @@ func runtimeLimits(workers, maxMemMB int) (restore func()) {
 		}
 		debug.SetGCPercent(gcPercent)
 	}
+}
+
+// gogcSet reports whether the user chose a GOGC (the variable is present
+// and not empty; an empty GOGC means the runtime's default).
+func gogcSet() bool {
+	v, ok := os.LookupEnv("GOGC")
+	return ok && v != ""
 }
 
 // removeStaleTemps deletes the hidden temporary files (".NAME.tmpNNN",
@@ -491,24 +522,108 @@ func safeProcess(ctx context.Context, process fileProcessor, in, outBase string)
 	return process(ctx, in, outBase)
 }
 
-// outputBases maps each input's relative path to its output base (the
-// relative path without extension), adding the extension to the name
-// ("scan_png") where two inputs in one folder share a stem.
+// outputBases maps each input's relative path to its output base, unique
+// across the whole input set. The base is the relative path without its
+// extension; where two inputs of one folder share that stem, each gets its
+// extension added ("scan_png", "scan_jpg"). A base that would still write
+// another input's files (compared without regard to case, since many file
+// systems ignore it) gets a number added ("scan_png_2"): besides base.*,
+// an input writes base-pN.* (later pages) and base-overlay.*, so base "a"
+// and base "a-p2" or "a-overlay" clash too. Inputs whose plain stem is
+// free keep it; the others are named in the order of their relative
+// paths. The result depends only on the set of inputs, not on --shard or
+// on the order in which workers take them.
 func outputBases(in []catalog.Input) map[string]string {
+	rels := make([]string, len(in))
+	for i, x := range in {
+		rels[i] = x.Rel
+	}
+	sort.Strings(rels)
 	stem := func(rel string) string { return strings.TrimSuffix(rel, path.Ext(rel)) }
 	n := make(map[string]int)
-	for _, x := range in {
-		n[strings.ToLower(stem(x.Rel))]++
+	for _, rel := range rels {
+		n[strings.ToLower(stem(rel))]++
 	}
+	t := baseTaker{taken: make(map[string]bool), prefixes: make(map[string]bool)}
 	out := make(map[string]string, len(in))
-	for _, x := range in {
-		s := stem(x.Rel)
-		if n[strings.ToLower(s)] > 1 {
-			s += "_" + strings.ToLower(strings.TrimPrefix(path.Ext(x.Rel), "."))
+	// First the inputs that keep their plain stem, then the rest.
+	for _, plain := range []bool{true, false} {
+		for _, rel := range rels {
+			s := stem(rel)
+			if (n[strings.ToLower(s)] == 1) != plain {
+				continue
+			}
+			ext := strings.ToLower(strings.TrimPrefix(path.Ext(rel), "."))
+			var cands []string
+			switch {
+			case ext == "":
+				cands = []string{s}
+			case plain:
+				cands = []string{s, s + "_" + ext}
+			default:
+				cands = []string{s + "_" + ext}
+			}
+			base := ""
+			for _, c := range cands {
+				if !t.clash(c) {
+					base = c
+					break
+				}
+			}
+			for k := 2; base == ""; k++ {
+				if c := fmt.Sprintf("%s_%d", cands[len(cands)-1], k); !t.clash(c) {
+					base = c
+				}
+			}
+			t.take(base)
+			out[rel] = base
 		}
-		out[x.Rel] = s
 	}
 	return out
+}
+
+// baseTaker tracks the output bases already given out.
+type baseTaker struct {
+	taken    map[string]bool // bases given out, lower case
+	prefixes map[string]bool // every base given out and the bases it derives from
+}
+
+// owners returns the bases whose files could include the files of base b
+// (lower case): b itself and, when b ends in -overlay, -pN or
+// -pN-overlay, the base before that suffix.
+func owners(b string) []string {
+	o := []string{b}
+	s := strings.TrimSuffix(b, "-overlay")
+	if s != b {
+		o = append(o, s)
+	}
+	if i := strings.LastIndex(s, "-p"); i >= 0 && i+2 < len(s) && strings.Trim(s[i+2:], "0123456789") == "" {
+		o = append(o, s[:i])
+	}
+	return o
+}
+
+// clash reports whether base c would write a file name another base
+// given out may write.
+func (t *baseTaker) clash(c string) bool {
+	c = strings.ToLower(c)
+	if t.prefixes[c] {
+		return true // c is taken, or a taken base is c-pN, c-overlay, …
+	}
+	for _, o := range owners(c) {
+		if t.taken[o] {
+			return true
+		}
+	}
+	return false
+}
+
+func (t *baseTaker) take(b string) {
+	b = strings.ToLower(b)
+	t.taken[b] = true
+	for _, o := range owners(b) {
+		t.prefixes[o] = true
+	}
 }
 
 // errorClass names the class of err for the catalogue.
@@ -646,8 +761,11 @@ func newBatchMergeCmd(ios *IOStreams) *cobra.Command {
 		Use:   "merge -o OUT.sqlite CATALOG.sqlite...",
 		Short: "Merge the catalogues of several shards into one",
 		Long: `merge copies every row of the given catalogues into OUT (created if
-missing). Where two catalogues hold the same input path, the row finished
-later wins. A CSV copy is written next to OUT.`,
+missing). Where two catalogues hold the same input path, a row of an input
+still in flight (started) never replaces a completed one (done, partial or
+failed), a completed row always replaces a started one, and otherwise the
+row finished later wins. The given catalogues are only read, never changed
+(older schema versions too). A CSV copy is written next to OUT.`,
 		Args: cobra.MinimumNArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
 			if out == "" {
@@ -706,7 +824,7 @@ func newBatchExportCmd(ios *IOStreams) *cobra.Command {
 			if _, err := os.Stat(args[0]); err != nil {
 				return fmt.Errorf("batch export: %s: %w: %v", args[0], ecg.ErrUnreadable, err)
 			}
-			db, err := catalog.Open(args[0])
+			db, err := catalog.OpenReadOnly(args[0])
 			if err != nil {
 				return fmt.Errorf("batch export: %w", err)
 			}

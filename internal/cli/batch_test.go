@@ -3,6 +3,7 @@ package cli
 import (
 	"bytes"
 	"context"
+	"database/sql"
 	"fmt"
 	"image/jpeg"
 	"io"
@@ -287,6 +288,11 @@ func TestBatchInterruptKeepsFinishedWork(t *testing.T) {
 	err := runBatch(ctx, ios, &batchOptions{InputDir: in, OutDir: out, Workers: 2, process: proc})
 	require.Error(t, err)
 	assert.Equal(t, ExitInterrupted, ExitCode(err))
+	// The message says what happened and what to do, not the context's
+	// own "context canceled".
+	assert.Contains(t, err.Error(), "batch: interrupted after 5 of 20 inputs")
+	assert.Contains(t, err.Error(), "rerun the same command to resume")
+	assert.NotContains(t, err.Error(), "context canceled")
 	rows := checkConsistent(t, out, fakeCSV, false)
 	var done, started []string
 	for rel, e := range rows {
@@ -536,6 +542,8 @@ func TestBatchFlags(t *testing.T) {
 }
 
 func TestRuntimeLimitsRestore(t *testing.T) {
+	t.Setenv("GOGC", "")
+	os.Unsetenv("GOGC") // restored by t.Setenv's clean-up
 	procs := runtime.GOMAXPROCS(0)
 	mem := debug.SetMemoryLimit(-1)
 	gc := debug.SetGCPercent(100)
@@ -549,9 +557,17 @@ func TestRuntimeLimitsRestore(t *testing.T) {
 	assert.Equal(t, mem, debug.SetMemoryLimit(-1))
 	assert.Equal(t, 100, debug.SetGCPercent(100))
 
-	debug.SetGCPercent(50) // as if GOGC=50 were set
+	t.Setenv("GOGC", "50")
+	debug.SetGCPercent(50) // as the runtime does at start-up with GOGC=50
 	restore = runtimeLimits(1, 0)
 	assert.Equal(t, 50, debug.SetGCPercent(50), "a GOGC chosen by the user is kept")
+	restore()
+
+	// GOGC=100 set explicitly is a choice too, though it is the default.
+	t.Setenv("GOGC", "100")
+	debug.SetGCPercent(100)
+	restore = runtimeLimits(1, 0)
+	assert.Equal(t, 100, debug.SetGCPercent(100), "GOGC=100 set by the user is kept")
 	restore()
 	debug.SetGCPercent(100)
 
@@ -656,4 +672,174 @@ func BenchmarkBatchWorkers(b *testing.B) {
 			}
 		})
 	}
+}
+
+// schemaV1 is the catalogue table before the options column (schema
+// version 1), as older runs left it on disk.
+const schemaV1 = `CREATE TABLE inputs (
+	path TEXT PRIMARY KEY, sha256 TEXT NOT NULL, size_bytes INTEGER NOT NULL,
+	status TEXT NOT NULL, error_class TEXT NOT NULL DEFAULT '', error TEXT NOT NULL DEFAULT '',
+	outputs TEXT NOT NULL DEFAULT '', pages INTEGER NOT NULL DEFAULT 0,
+	leads_found INTEGER NOT NULL DEFAULT 0, leads TEXT NOT NULL DEFAULT '',
+	quality REAL, heart_rate_bpm REAL, pr_ms REAL, qrs_ms REAL, qt_ms REAL,
+	qtc_bazett_ms REAL, seconds REAL, finished_utc TEXT NOT NULL)`
+
+// TestBatchUpgradedCatalogueSeesNewOptions: rows of a catalogue written
+// before options were recorded are redone once, and a later change of
+// options (another --format) is then noticed.
+func TestBatchUpgradedCatalogueSeesNewOptions(t *testing.T) {
+	in, out := t.TempDir(), t.TempDir()
+	writeTree(t, in, map[string]string{"a.png": "good a", "b.png": "good b"})
+	raw, err := sql.Open("sqlite", filepath.Join(out, catalog.FileName))
+	require.NoError(t, err)
+	_, err = raw.Exec(schemaV1)
+	require.NoError(t, err)
+	for _, rel := range []string{"a.png", "b.png"} {
+		sum, err := catalog.HashFile(filepath.Join(in, rel))
+		require.NoError(t, err)
+		_, err = raw.Exec(`INSERT INTO inputs (path, sha256, size_bytes, status, outputs, finished_utc)
+			VALUES (?, ?, 6, 'done', ?, '2026-01-02T03:04:05Z')`, rel, sum, strings.TrimSuffix(rel, ".png")+".csv")
+		require.NoError(t, err)
+	}
+	require.NoError(t, raw.Close())
+
+	var calls atomic.Int32
+	opts := &batchOptions{InputDir: in, OutDir: out, Workers: 1, process: fakeProcess(&calls)}
+	ios, _, _ := testIOS()
+	require.NoError(t, runBatch(context.Background(), ios, opts))
+	assert.EqualValues(t, 2, calls.Load(), "rows of unknown options are redone once")
+	assert.Equal(t, optionsFingerprint(&opts.Pipe), catalogRows(t, filepath.Join(out, catalog.FileName))["a.png"].Options)
+
+	calls.Store(0)
+	ios, _, _ = testIOS()
+	require.NoError(t, runBatch(context.Background(), ios, opts))
+	assert.EqualValues(t, 0, calls.Load(), "then they resume as usual")
+
+	calls.Store(0)
+	ios, stdout, _ := testIOS()
+	edf := *opts
+	edf.Pipe.Formats = []string{"csv", "json", "edf"}
+	require.NoError(t, runBatch(context.Background(), ios, &edf))
+	assert.EqualValues(t, 2, calls.Load(), "another --format redoes every input")
+	assert.Contains(t, stdout.String(), "2 done, 0 partial, 0 failed, 0 skipped")
+}
+
+// TestOutputBasesUnique: no two inputs may write the same file, whatever
+// their names; the choice depends only on the set of inputs.
+func TestOutputBasesUnique(t *testing.T) {
+	rels := []string{
+		"scan.png", "scan.jpg", "scan_png.bmp", "SCAN_JPG.tif",
+		"a.pdf", "a-p2.png", "a-overlay.jpg", "b-p3-overlay.png", "b.pdf",
+		"x/c.png", "x/C.PNG", "x/c_png.gif", "x/c_png_2.webp", "y/c.png",
+	}
+	in := make([]catalog.Input, len(rels))
+	for i, r := range rels {
+		in[i] = catalog.Input{Rel: r}
+	}
+	got := outputBases(in)
+	require.Len(t, got, len(rels))
+	// Plain stems that nothing else claims are kept.
+	assert.Equal(t, "y/c", got["y/c.png"])
+	assert.Equal(t, "x/c_png_2", got["x/c_png_2.webp"])
+	// The files an input writes: base.EXT, base-pN.EXT, base-overlay.EXT,
+	// base-pN-overlay.EXT. Expand each base into the names it may write
+	// for pages 1–3 and require every name to belong to one input only
+	// (case-insensitively).
+	owner := map[string]string{}
+	for rel, b := range got {
+		b = strings.ToLower(b)
+		names := []string{b, b + "-overlay"}
+		for p := 2; p <= 3; p++ {
+			names = append(names, fmt.Sprintf("%s-p%d", b, p), fmt.Sprintf("%s-p%d-overlay", b, p))
+		}
+		for _, n := range names {
+			if o, ok := owner[n]; ok {
+				t.Errorf("%s and %s both write %s.*", o, rel, n)
+			}
+			owner[n] = rel
+		}
+	}
+	// The same set in another order gives the same names.
+	rev := make([]catalog.Input, len(in))
+	for i := range in {
+		rev[i] = in[len(in)-1-i]
+	}
+	assert.Equal(t, got, outputBases(rev))
+}
+
+// TestBatchOutputNamesUniqueAcrossShards runs an archive whose names
+// collide in two shards into one folder: every input has its own outputs.
+func TestBatchOutputNamesUniqueAcrossShards(t *testing.T) {
+	in, out := t.TempDir(), t.TempDir()
+	files := map[string]string{"scan.png": "good 1", "scan.jpg": "good 2", "scan_png.bmp": "good 3", "a.pdf": "good 4", "a-p2.png": "good 5"}
+	writeTree(t, in, files)
+	var calls atomic.Int32
+	seen := map[string]string{}
+	for k := 1; k <= 2; k++ {
+		ios, _, _ := testIOS()
+		cat := filepath.Join(t.TempDir(), catalog.FileName)
+		require.NoError(t, runBatch(context.Background(), ios, &batchOptions{InputDir: in, OutDir: out, CatalogPath: cat,
+			Workers: 2, Shard: catalog.Shard{K: k, N: 2}, process: fakeProcess(&calls)}))
+		for rel, e := range catalogRows(t, cat) {
+			require.Len(t, e.Outputs, 1, rel)
+			if o, ok := seen[e.Outputs[0]]; ok {
+				t.Errorf("%s and %s both wrote %s", o, rel, e.Outputs[0])
+			}
+			seen[e.Outputs[0]] = rel
+		}
+	}
+	assert.EqualValues(t, len(files), calls.Load())
+	assert.Len(t, seen, len(files))
+	csvs, _ := filepath.Glob(filepath.Join(out, "*.csv"))
+	assert.Len(t, csvs, len(files))
+}
+
+// TestBatchOutputFolderInsideInput: outputs of earlier runs inside the
+// input folder are never read as inputs, whether the same output folder
+// is used again or another one.
+func TestBatchOutputFolderInsideInput(t *testing.T) {
+	in := t.TempDir()
+	writeTree(t, in, map[string]string{"a.png": "good a"})
+	var calls atomic.Int32
+	inner := fakeProcess(&calls)
+	withOverlay := func(ctx context.Context, p, outBase string) (fileResult, error) {
+		res, err := inner(ctx, p, outBase)
+		if err == nil {
+			ov := outBase + "-overlay.png"
+			require.NoError(t, os.WriteFile(ov, []byte("good overlay"), 0o644))
+			res.Outputs = append(res.Outputs, ov)
+		}
+		return res, err
+	}
+	for _, out := range []string{"out", "out", "out2"} {
+		calls.Store(0)
+		ios, stdout, _ := testIOS()
+		require.NoError(t, runBatch(context.Background(), ios, &batchOptions{InputDir: in, OutDir: filepath.Join(in, out), Workers: 1, process: withOverlay}))
+		rows := catalogRows(t, filepath.Join(in, out, catalog.FileName))
+		assert.Len(t, rows, 1, "%s: only a.png is an input: %v", out, rows)
+		assert.Contains(t, stdout.String(), "batch: 1 inputs:")
+	}
+}
+
+func TestBatchEmptyInputWarns(t *testing.T) {
+	in := t.TempDir()
+	writeTree(t, in, map[string]string{"notes.txt": "no images here"})
+	var stdout, stderr bytes.Buffer
+	code := Main([]string{"batch", in, "-o", filepath.Join(t.TempDir(), "out")}, strings.NewReader(""), &stdout, &stderr)
+	assert.Equal(t, ExitOK, code, "an empty archive is not an error")
+	assert.Contains(t, stderr.String(), "batch: warning: no images found in "+in)
+
+	// The same with --quiet: a warning is never silenced.
+	stderr.Reset()
+	code = Main([]string{"batch", in, "-q", "-o", filepath.Join(t.TempDir(), "out")}, strings.NewReader(""), &stdout, &stderr)
+	assert.Equal(t, ExitOK, code)
+	assert.Contains(t, stderr.String(), "no images found")
+}
+
+func TestBatchHelpNamesRetries(t *testing.T) {
+	var stdout, stderr bytes.Buffer
+	require.Equal(t, ExitOK, Main([]string{"batch", "--help"}, strings.NewReader(""), &stdout, &stderr))
+	help := strings.Join(strings.Fields(stdout.String()), " ")
+	assert.Contains(t, help, "unreadable or no ECG found")
+	assert.Contains(t, help, "Failures on the output side (disk full, permissions) and internal errors are always retried")
 }
