@@ -163,7 +163,7 @@ func Open(path string) (*DB, error) {
 	q.Add("_pragma", "journal_mode(WAL)")
 	q.Add("_pragma", "busy_timeout(10000)")
 	q.Add("_pragma", "synchronous(NORMAL)")
-	db, err := sql.Open("sqlite", "file:"+path+"?"+q.Encode())
+	db, err := sql.Open("sqlite", dsn(path, q))
 	if err != nil {
 		return nil, fmt.Errorf("catalog: open %s: %w: %v", path, ecg.ErrOutput, err)
 	}
@@ -194,8 +194,7 @@ func OpenReadOnly(path string) (*DB, error) {
 	q.Add("mode", "ro")
 	q.Add("_pragma", "busy_timeout(10000)")
 	q.Add("_pragma", "query_only(1)")
-	u := url.URL{Scheme: "file", Opaque: (&url.URL{Path: path}).EscapedPath(), RawQuery: q.Encode()}
-	db, err := sql.Open("sqlite", u.String())
+	db, err := sql.Open("sqlite", dsn(path, q))
 	if err != nil {
 		return nil, fail(err)
 	}
@@ -219,6 +218,14 @@ func OpenReadOnly(path string) (*DB, error) {
 		return nil, fail(errors.New("not a catalogue (no table inputs)"))
 	}
 	return &DB{db: db, path: path, readOnly: true, hasOptions: cols["options"]}, nil
+}
+
+// dsn is the SQLite URI of the file path with the query q: the path is
+// percent-escaped, so that a name holding "#", "?" or "%" opens that very
+// file (a raw "file:a#b.sqlite" would open "a").
+func dsn(path string, q url.Values) string {
+	u := url.URL{Scheme: "file", Opaque: (&url.URL{Path: path}).EscapedPath(), RawQuery: q.Encode()}
+	return u.String()
 }
 
 // columnNames returns the columns of table inputs (none if it is missing).

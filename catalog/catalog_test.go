@@ -9,6 +9,7 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"strings"
 	"testing"
 	"time"
 
@@ -521,7 +522,8 @@ func TestOpenReadOnly(t *testing.T) {
 	_, statErr := os.Stat(filepath.Join(dir, "missing.sqlite"))
 	assert.True(t, os.IsNotExist(statErr), "a read-only open creates nothing")
 
-	p := filepath.Join(dir, "name with spaces.sqlite")
+	// Characters with a meaning in a URI name the file itself.
+	p := filepath.Join(dir, "odd name #1 ?%41.sqlite")
 	db, err := Open(p)
 	require.NoError(t, err)
 	e := NewEntry("a.png")
@@ -535,4 +537,9 @@ func TestOpenReadOnly(t *testing.T) {
 	require.NoError(t, err)
 	assert.Len(t, all, 1)
 	assert.ErrorIs(t, ro.Put(ctx, e), ecg.ErrOutput)
+	ents, err := os.ReadDir(dir)
+	require.NoError(t, err)
+	for _, d := range ents { // the database, its -wal and -shm
+		assert.True(t, strings.HasPrefix(d.Name(), filepath.Base(p)), "file of another name created: %s", d.Name())
+	}
 }
