@@ -368,7 +368,7 @@ func batchOne(ctx context.Context, db *catalog.DB, in catalog.Input, opts *batch
 	t0 := time.Now()
 	sum, herr := catalog.HashFile(in.Abs)
 	e.SHA256 = sum
-	if herr == nil && !opts.Force && hadOld && old.Settled(sum, fingerprint, opts.RetryFailed) {
+	if herr == nil && !opts.Force && hadOld && old.Settled(sum, fingerprint, opts.RetryFailed) && ownsOutputs(old, base) {
 		return old, true, nil
 	}
 	started := e
@@ -420,6 +420,21 @@ func batchOne(ctx context.Context, db *catalog.DB, in catalog.Input, opts *batch
 		return e, false, err
 	}
 	return e, false, nil
+}
+
+// ownsOutputs reports whether every output recorded in e is one of the
+// files of the output base (base.EXT, base-pN.EXT, base-overlay.EXT, …).
+// It is false for a row written when the input had another output name
+// (before names were made unique across the archive, two inputs could
+// share one and overwrite each other's files): such an input is redone
+// under its current name.
+func ownsOutputs(e catalog.Entry, base string) bool {
+	for _, o := range e.Outputs {
+		if !strings.HasPrefix(o, base+".") && !strings.HasPrefix(o, base+"-") {
+			return false
+		}
+	}
+	return true
 }
 
 // collectBetweenInputs runs a garbage collection, and is called by each

@@ -843,3 +843,40 @@ func TestBatchHelpNamesRetries(t *testing.T) {
 	assert.Contains(t, help, "unreadable or no ECG found")
 	assert.Contains(t, help, "Failures on the output side (disk full, permissions) and internal errors are always retried")
 }
+
+// TestBatchRedoesRowsOfAnotherOutputName: a catalogue row whose outputs
+// are not under the input's current output name (written when two inputs
+// shared one) does not settle the input.
+func TestBatchRedoesRowsOfAnotherOutputName(t *testing.T) {
+	in, out := t.TempDir(), t.TempDir()
+	writeTree(t, in, map[string]string{"scan.png": "good 1", "scan_png.bmp": "good 2", "scan.jpg": "good 3", "other.png": "good 4"})
+	opts := &batchOptions{InputDir: in, OutDir: out, Workers: 1}
+	db, err := catalog.Open(filepath.Join(out, catalog.FileName))
+	require.NoError(t, err)
+	// As an earlier version left it: both inputs wrote scan_png.csv.
+	for rel, outputs := range map[string][]string{"scan.png": {"scan_png.csv"}, "scan_png.bmp": {"scan_png.csv"}, "scan.jpg": {"scan_jpg.csv"}, "other.png": {"other.csv", "other-overlay.png"}} {
+		e := catalog.NewEntry(rel)
+		e.SHA256, err = catalog.HashFile(filepath.Join(in, rel))
+		require.NoError(t, err)
+		e.Status, e.Options, e.Outputs = catalog.StatusDone, optionsFingerprint(&opts.Pipe), outputs
+		require.NoError(t, db.Put(context.Background(), e))
+	}
+	require.NoError(t, db.Close())
+	var calls atomic.Int32
+	opts.process = fakeProcess(&calls)
+	ios, _, _ := testIOS()
+	require.NoError(t, runBatch(context.Background(), ios, opts))
+	assert.EqualValues(t, 1, calls.Load(), "only the input whose output name changed is redone")
+	rows := catalogRows(t, filepath.Join(out, catalog.FileName))
+	assert.Equal(t, []string{"scan_png_2.csv"}, rows["scan.png"].Outputs)
+	assert.Equal(t, []string{"scan_png.csv"}, rows["scan_png.bmp"].Outputs)
+}
+
+func TestOwnsOutputs(t *testing.T) {
+	e := catalog.NewEntry("a.pdf")
+	e.Outputs = []string{"x/a.csv", "x/a-p2.csv", "x/a-overlay.png", "x/a-p2-overlay.svg"}
+	assert.True(t, ownsOutputs(e, "x/a"))
+	assert.False(t, ownsOutputs(e, "x/a_pdf"))
+	assert.False(t, ownsOutputs(e, "x/ab"))
+	assert.True(t, ownsOutputs(catalog.NewEntry("failed.png"), "failed"), "no outputs: nothing to disown")
+}
