@@ -46,8 +46,12 @@ func breakFraction(rows []rowInfo, lo, hi int, f, pxX float64) float64 {
 // standard page (fillPitchGaps).
 func detectLayout(ink *image.Gray, rows []rowInfo, cal grid.Calibration) (*Layout, []rowInfo) {
 	l, rows := chooseLayout(ink, rows, cal)
-	if nameRhythmStrips(ink, rows, l, cal.PxPerMMX.V, cal.PxPerMMY.V) {
-		l.Name = "custom"
+	// Only strips whose lead is a guess (an unusual number of rows) are
+	// renamed: on a standard page a strip that does not repeat its cell
+	// says rather that the layout is wrong (a fax 6 × 2 page read as
+	// 3 × 4 + 3 had its "strips" renamed into three swaps).
+	if l.Name == "custom" {
+		nameRhythmStrips(ink, rows, l, cal.PxPerMMX.V, cal.PxPerMMY.V)
 	}
 	return l, rows
 }
@@ -92,11 +96,12 @@ func chooseLayout(ink *image.Gray, rows []rowInfo, cal grid.Calibration) (*Layou
 		// prints no lead twice. On this project's corpus the mean echo
 		// of those three windows is 0.92–1.0 on clean, scanned and grey
 		// 3 × 4 + 3 pages and −0.1–0.01 on 6 × 2 pages; faxes, whose
-		// broken traces keep mostly the complexes, give 0.49–0.83
-		// (3 × 4 + 3) and 0.04–0.35 (6 × 2) (a project measurement,
-		// seeds 1–2). A clear echo decides; in between, or without one,
-		// the separators do: 6 × 2 at 1/2 in every row, 3 × 4 + 3 at 1/4,
-		// 1/2, 3/4 in the first three rows only.
+		// broken traces keep mostly the complexes, give 0.49–0.91
+		// (3 × 4 + 3) and 0.0–0.35 (6 × 2) (a project measurement,
+		// seeds 1–2, two fax front ends). A clear echo decides; in
+		// between, or without one, the separators do: 6 × 2 at 1/2 in
+		// every row, 3 × 4 + 3 at 1/4, 1/2, 3/4 in the first three rows
+		// only.
 		e := meanEcho(
 			rowEcho(ink, rows, 3, 1, 0, 0.25, pxX, pxY),
 			rowEcho(ink, rows, 4, 0, 0.5, 0.75, pxX, pxY),
@@ -108,10 +113,15 @@ func chooseLayout(ink *image.Gray, rows []rowInfo, cal grid.Calibration) (*Layou
 			return named("6x2"), rows
 		}
 		s3x4 := (breakFraction(rows, 0, 3, 0.25, pxX) + breakFraction(rows, 0, 3, 0.75, pxX)) / 2
-		if half(3, 6) > s3x4 {
+		switch h := half(3, 6); {
+		case h > s3x4:
 			return named("6x2"), rows
+		case h < s3x4 || math.IsNaN(e) || e >= 0.45:
+			return named("3x4+3"), rows
 		}
-		return named("3x4+3"), rows
+		// No separator either way: the echo's midpoint (fax 6 × 2
+		// pages 0.27–0.35, fax 3 × 4 + 3 pages 0.49–0.91).
+		return named("6x2"), rows
 	case n == 3:
 		return named("3x4"), rows
 	case n == 4:
