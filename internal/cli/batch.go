@@ -186,6 +186,13 @@ func runBatch(ctx context.Context, ios *IOStreams, opts *batchOptions) error {
 	if catPath == "" {
 		catPath = filepath.Join(opts.OutDir, catalog.FileName)
 	}
+	// Outputs written into the input folder itself would be read as
+	// inputs by the next run (overlays and PDFs are images).
+	if a, errA := os.Stat(opts.InputDir); errA == nil {
+		if b, errB := os.Stat(opts.OutDir); errB == nil && os.SameFile(a, b) {
+			return flagErrorf("batch: the output folder %s is the input folder; choose another (a subfolder is fine)", opts.OutDir)
+		}
+	}
 	inputs, err := catalog.Scan(opts.InputDir, opts.OutDir, filepath.Dir(catPath))
 	if err != nil {
 		return fmt.Errorf("batch: %w", err)

@@ -811,6 +811,12 @@ func TestBatchOutputFolderInsideInput(t *testing.T) {
 		}
 		return res, err
 	}
+	// The input folder itself is refused as output folder.
+	ios, _, _ := testIOS()
+	err := runBatch(context.Background(), ios, &batchOptions{InputDir: in, OutDir: filepath.Join(in, "."), Workers: 1, process: withOverlay})
+	assert.Equal(t, ExitUsage, ExitCode(err), "%v", err)
+	assert.Contains(t, fmt.Sprint(err), "is the input folder")
+	assert.EqualValues(t, 0, calls.Load())
 	for _, out := range []string{"out", "out", "out2"} {
 		calls.Store(0)
 		ios, stdout, _ := testIOS()
@@ -828,6 +834,18 @@ func TestBatchEmptyInputWarns(t *testing.T) {
 	code := Main([]string{"batch", in, "-o", filepath.Join(t.TempDir(), "out")}, strings.NewReader(""), &stdout, &stderr)
 	assert.Equal(t, ExitOK, code, "an empty archive is not an error")
 	assert.Contains(t, stderr.String(), "batch: warning: no images found in "+in)
+
+	// A shard that holds none of the images says so.
+	writeTree(t, in, map[string]string{"a.png": "good"})
+	other := catalog.Shard{K: 1, N: 2}
+	if other.Has("a.png") {
+		other.K = 2
+	}
+	stderr.Reset()
+	code = Main([]string{"batch", in, "--shard", other.String(), "-o", filepath.Join(t.TempDir(), "out")}, strings.NewReader(""), &stdout, &stderr)
+	assert.Equal(t, ExitOK, code)
+	assert.Contains(t, stderr.String(), "batch: warning: none of the 1 images in "+in+" belongs to shard "+other.String())
+	require.NoError(t, os.Remove(filepath.Join(in, "a.png")))
 
 	// The same with --quiet: a warning is never silenced.
 	stderr.Reset()
