@@ -126,6 +126,15 @@ func Detect(p *imageproc.Page, opt *Options) (*Result, error) {
 			r.Calibration.PxPerMMX = Value{dx / 25.4, FromOption}
 			r.Calibration.PxPerMMY = Value{dy / 25.4, FromOption}
 			r.Warnings = append(r.Warnings, "grid: no grid found; px/mm from the given resolution")
+		case p.Mesh != nil && p.Mesh.LatticePeriod > 0:
+			// A photo registered to its grid lattice: the registration
+			// measured the lattice's period over the whole page (its
+			// major lines, five minor periods), and the registered page
+			// is square to it.
+			v := p.Mesh.LatticePeriod / 5
+			r.Calibration.PxPerMMX = Value{v, FromGrid}
+			r.Calibration.PxPerMMY = Value{v, FromGrid}
+			r.Warnings = append(r.Warnings, fmt.Sprintf("grid: grid lines not measured on the registered photo; px/mm (%.4g) from the lattice registration's period, taken as 5 mm", v))
 		case p.DPIX > 0 || p.DPIY > 0:
 			dx, dy := orOther(p.DPIX, p.DPIY), orOther(p.DPIY, p.DPIX)
 			r.Calibration.PxPerMMX = Value{dx / 25.4, FromMetadata}

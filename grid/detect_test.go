@@ -185,3 +185,38 @@ func TestSettle5(t *testing.T) {
 		}
 	}
 }
+
+// TestDetectLatticeFallback: a registered photo whose grid lines the
+// period measurement does not find (a blank page here) is calibrated from
+// the registration's lattice period (5 mm per major period, the standard
+// grid: standards.md §1.1), with a warning; a resolution given by the
+// user still comes first.
+func TestDetectLatticeFallback(t *testing.T) {
+	w, h := 600, 400
+	gray := image.NewGray(image.Rect(0, 0, w, h))
+	for i := range gray.Pix {
+		gray.Pix[i] = 255
+	}
+	p := &imageproc.Page{
+		Color: image.NewNRGBA(image.Rect(0, 0, w, h)),
+		Gray:  gray,
+		Ink:   image.NewGray(image.Rect(0, 0, w, h)),
+		Grid:  image.NewGray(image.Rect(0, 0, w, h)),
+		Mesh:  &imageproc.Mesh{Step: 16, NX: 2, NY: 2, X: make([]float64, 4), Y: make([]float64, 4), LatticePeriod: 59},
+	}
+	r, err := Detect(p, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	c := r.Calibration
+	if c.PxPerMMX != (Value{11.8, FromGrid}) || c.PxPerMMY != (Value{11.8, FromGrid}) || len(r.Warnings) == 0 {
+		t.Errorf("calibration %+v warnings %v, want 11.8 px/mm from the grid", c, r.Warnings)
+	}
+	r, err = Detect(p, &Options{DPIX: 254, DPIY: 254})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if c := r.Calibration; c.PxPerMMX.Origin != FromOption || math.Abs(c.PxPerMMX.V-10) > 1e-9 {
+		t.Errorf("with a given resolution: %+v", c)
+	}
+}

@@ -15,6 +15,12 @@ type Mesh struct {
 	// X, Y are the input-pixel coordinates of node (i, j) at index
 	// j·NX + i.
 	X, Y []float64
+	// LatticePeriod is the period of the major (5 mm) grid lines the
+	// page was registered to, upright px, the same on both axes (the
+	// registered lattice is square); 0 when unknown, or when the grid
+	// area seen, taken at 5 mm per period, would be larger than an ECG
+	// sheet (450 mm; then the minor lines were more likely registered).
+	LatticePeriod float64
 }
 
 // newMesh samples f at the nodes covering a w×h upright page.

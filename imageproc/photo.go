@@ -136,6 +136,9 @@ func registerPhoto(p *Page, src *image.NRGBA, pre, toSrc Homography, bgw *backgr
 	}, W, H, ub*f)
 	full := &Mesh{Step: toSrcMesh.Step, NX: toSrcMesh.NX, NY: toSrcMesh.NY,
 		X: make([]float64, len(toSrcMesh.X)), Y: make([]float64, len(toSrcMesh.Y))}
+	if ext := max(lm.hi.X-lm.lo.X, lm.hi.Y-lm.lo.Y) / (lm.period / 5); ext <= 450 {
+		full.LatticePeriod = lm.period
+	}
 	for k := range full.X {
 		full.X[k], full.Y[k] = Apply(pre, toSrcMesh.X[k], toSrcMesh.Y[k])
 	}

@@ -137,38 +137,24 @@ func registerLattice(grd *image.Gray) (*latticeMap, bool) {
 			t.y = phaseAt(row, win, my, float64(y0)+c)
 		}
 	}
-	if !unwrap(tiles, nx, ny, step, mx, my) {
-		return nil, false
-	}
 	// Tie points: lattice px (square, period S per major line) ↔ coarse px.
 	S := math.Sqrt(mx * my)
-	var lat, pg []Point
-	for _, t := range tiles {
-		if t.seen {
-			lat = append(lat, Point{float64(t.jx) * S, float64(t.jy) * S})
-			pg = append(pg, Point{t.x.pos, t.y.pos})
+	// Where the major lines barely stand out from the minor ones (a grey
+	// grid, a dense layout), tiles of middling phase quality misnumber
+	// their lines; the fit is then repeated on the clearer tiles only and
+	// the tightest fit kept.
+	var m *latticeMap
+	for _, frac := range []float64{0.35, 0.5, 0.65} {
+		mm, ok := fitTiles(tiles, nx, ny, step, mx, my, S, frac)
+		if ok && (m == nil || mm.rms < m.rms) {
+			m = mm
+		}
+		if m != nil && m.rms <= max(3, S/12) {
+			break
 		}
 	}
-	m, ok := fitLattice(lat, pg, S)
-	if !ok {
+	if m == nil {
 		return nil, false
-	}
-	// Re-index: a tile unwrapped one period off is moved to the index
-	// the fit predicts, then everything is fitted again.
-	for iter := 0; iter < 2; iter++ {
-		lat, pg = lat[:0], pg[:0]
-		for i := range tiles {
-			t := &tiles[i]
-			if !t.seen {
-				continue
-			}
-			t.jx, t.jy = m.reindex(t.jx, t.jy, t.x.pos, t.y.pos, S)
-			lat = append(lat, Point{float64(t.jx) * S, float64(t.jy) * S})
-			pg = append(pg, Point{t.x.pos, t.y.pos})
-		}
-		if m, ok = fitLattice(lat, pg, S); !ok {
-			return nil, false
-		}
 	}
 	// The registered page covers the coarse page: its corners through the
 	// homography's inverse.
@@ -205,6 +191,44 @@ func registerLattice(grd *image.Gray) (*latticeMap, bool) {
 	// marks on one axis, say); the coarse page is kept.
 	if m.rms > max(3, S/12) {
 		return nil, false
+	}
+	return m, true
+}
+
+// fitTiles unwraps the tiles' major-line indices (tiles whose phase
+// quality is at least frac of the best tiles' take part), fits the
+// lattice map to the tie points and re-indexes tiles one period off.
+func fitTiles(tiles []tieTile, nx, ny, step int, mx, my, S, frac float64) (*latticeMap, bool) {
+	if !unwrap(tiles, nx, ny, step, mx, my, frac) {
+		return nil, false
+	}
+	var lat, pg []Point
+	for _, t := range tiles {
+		if t.seen {
+			lat = append(lat, Point{float64(t.jx) * S, float64(t.jy) * S})
+			pg = append(pg, Point{t.x.pos, t.y.pos})
+		}
+	}
+	m, ok := fitLattice(lat, pg, S)
+	if !ok {
+		return nil, false
+	}
+	// Re-index: a tile unwrapped one period off is moved to the index
+	// the fit predicts, then everything is fitted again.
+	for iter := 0; iter < 2; iter++ {
+		lat, pg = lat[:0], pg[:0]
+		for i := range tiles {
+			t := &tiles[i]
+			if !t.seen {
+				continue
+			}
+			t.jx, t.jy = m.reindex(t.jx, t.jy, t.x.pos, t.y.pos, S)
+			lat = append(lat, Point{float64(t.jx) * S, float64(t.jy) * S})
+			pg = append(pg, Point{t.x.pos, t.y.pos})
+		}
+		if m, ok = fitLattice(lat, pg, S); !ok {
+			return nil, false
+		}
 	}
 	return m, true
 }
@@ -442,7 +466,7 @@ func nearest(periods []float64, T float64) int {
 // the neighbour's line plus the whole number of periods between them.
 // Reliable tiles not connected to each other form separate regions; only
 // the largest is kept. It reports false when too few tiles are reliable.
-func unwrap(tiles []tieTile, nx, ny, step int, mx, my float64) bool {
+func unwrap(tiles []tieTile, nx, ny, step int, mx, my, frac float64) bool {
 	qs := make([]float64, len(tiles))
 	for i, t := range tiles {
 		qs[i] = min(t.x.q, t.y.q)
@@ -450,8 +474,9 @@ func unwrap(tiles []tieTile, nx, ny, step int, mx, my float64) bool {
 	sorted := slices.Clone(qs)
 	slices.Sort(sorted)
 	// Reliable: clearly periodic on both axes (the best tiles set the
-	// scale of what a grid tile looks like on this page).
-	thr := max(0.15, 0.35*sorted[len(sorted)*9/10])
+	// scale of what a grid tile looks like on this page; frac of their
+	// quality).
+	thr := max(0.15, frac*sorted[len(sorted)*9/10])
 	comp := make([]int, len(tiles))
 	for i := range comp {
 		comp[i] = -1
