@@ -3,6 +3,8 @@ package imageproc
 import (
 	"image"
 	"image/color"
+	"runtime"
+	"sync"
 )
 
 // toNRGBA returns img as an *image.NRGBA whose Rect starts at (0,0). It
@@ -183,12 +185,34 @@ func chromaShift(r image.YCbCrSubsampleRatio) (uint, bool) {
 // ycbcrRows converts m (Rect.Min at the origin) into dst row by row: the
 // chroma row is located once per row and the JFIF full-range conversion
 // (ITU-T T.871 §7, in the 16-bit fixed point of image/color's
-// YCbCrToRGB, which gives identical bytes) is done inline.
+// YCbCrToRGB, which gives identical bytes) is done inline. Rows are
+// independent, so bands of them are shared among GOMAXPROCS workers
+// (the bytes do not depend on the number of workers).
 func ycbcrRows(dst *image.NRGBA, m *image.YCbCr, hs uint) {
 	w, h := m.Rect.Dx(), m.Rect.Dy()
-	for y := 0; y < h; y++ {
-		ycbcrRow(dst.Pix[y*dst.Stride:y*dst.Stride+4*w], m, hs, y)
+	band := func(y0, y1 int) {
+		for y := y0; y < y1; y++ {
+			ycbcrRow(dst.Pix[y*dst.Stride:y*dst.Stride+4*w], m, hs, y)
+		}
 	}
+	rowBands(h, band)
+}
+
+// rowBands calls band on consecutive bands of the rows [0, h), shared
+// among up to GOMAXPROCS goroutines (at least 256 rows a band), and
+// returns when all are done. band must write only its own rows.
+func rowBands(h int, band func(y0, y1 int)) {
+	workers := min(runtime.GOMAXPROCS(0), max(1, h/256))
+	if workers == 1 {
+		band(0, h)
+		return
+	}
+	var wg sync.WaitGroup
+	for k := 0; k < workers; k++ {
+		y0, y1 := k*h/workers, (k+1)*h/workers
+		wg.Go(func() { band(y0, y1) })
+	}
+	wg.Wait()
 }
 
 // clip16 returns v >> 16 clamped to 0..255 (v in 16.16 fixed point).

@@ -3,8 +3,6 @@ package imageproc
 import (
 	"image"
 	"math"
-	"runtime"
-	"sync"
 )
 
 // sepFixed holds a separator's coefficients in the fixed point of the
@@ -117,17 +115,7 @@ func (s *separator) upright(src *source, toSrc Homography, w, h int, bg *backgro
 				ink.Pix[y*ink.Stride:y*ink.Stride+w], grd.Pix[y*grd.Stride:y*grd.Stride+w])
 		}
 	}
-	workers := min(runtime.GOMAXPROCS(0), max(1, h/256))
-	if workers == 1 {
-		band(0, h)
-		return col, gray, ink, grd
-	}
-	var wg sync.WaitGroup
-	for k := 0; k < workers; k++ {
-		y0, y1 := k*h/workers, (k+1)*h/workers
-		wg.Go(func() { band(y0, y1) })
-	}
-	wg.Wait()
+	rowBands(h, band)
 	return col, gray, ink, grd
 }
 
