@@ -26,9 +26,17 @@
 //   - Layout: the number of rows and the printed column separators (tall
 //     isolated strokes at 1/4, 1/2, 3/4 of the row) choose among 3 × 4 with
 //     0, 1 or 3 rhythm strips, 6 × 2, 12 × 1 and a single lead printed as
-//     consecutive rhythm rows. Standard and Cabrera limb-lead orders print
-//     alike; without labels the order with the smaller Einthoven/Goldberger
-//     residual (ecg.CheckLimb) is kept.
+//     consecutive rhythm rows. A separator tick must stand alone at both
+//     ends (a blurred QRS stroke is not a tick), and shifts under 0.5 mm
+//     are left to the pulses. Six-row pages without readable separators
+//     are told apart by content: 3 × 4 + 3 prints II, V1 and V5 twice, so
+//     its strips echo a grid cell (normalised cross-correlation of the
+//     rows' baseline-nearest ink, "row echo"), 6 × 2 prints nothing twice;
+//     on unusual row counts a strip is named by the cell it repeats. Rows
+//     without separators whose column windows all keep one polarity are a
+//     single lead printed as consecutive rows. Standard and Cabrera
+//     limb-lead orders print alike; without labels the order with the
+//     smaller Einthoven/Goldberger residual (ecg.CheckLimb) is kept.
 //   - Trace following: per panel, the globally cheapest path through the
 //     vertical ink runs of each image column, found by dynamic programming
 //     over columns (Viterbi, IEEE Trans Inf Theory 1967;13:260–9; Forney,
@@ -44,7 +52,10 @@
 //     (S peak), both ends in order when the pen passed through it, so peaks
 //     keep their amplitude. The centre line is bounded by the pen disk
 //     swept over the neighbouring columns, with the pen's width taken from
-//     the thinnest runs on the path (noise makes most runs taller).
+//     the thinnest runs on the path (noise makes most runs taller) and
+//     capped at 0.3 mm. A short stretch of tall runs that contains the
+//     trace's line between thin runs and reaches 2 mm past it both ways
+//     is another row's stroke crossing: it is passed at the trace's level.
 //   - Bands: a row's search band reaches 1.5 row pitches (at most 3 mV, the
 //     page's edge for the outer rows); a path that stays past half-way to a
 //     neighbouring baseline for longer than 0.25 s (longer than a QRS) is
