@@ -81,62 +81,17 @@ func warpNRGBA(dst, src *image.NRGBA, toSrc Homography) {
 
 // warpAffineNRGBA is warpNRGBA for an affine h (h[6] = h[7] = 0,
 // h[8] = 1): the source point advances by a constant step along each dst
-// row, so it is carried in 32.32 fixed point (one add per pixel; the
-// accumulated rounding over a row of 10⁵ px stays below 10⁻⁴ px) and the
-// 8-bit weights are read from its fraction bits.
+// row, so each row is one affineRowNRGBA (32.32 fixed point, one add per
+// pixel; the accumulated rounding over a row of 10⁵ px stays below 10⁻⁴
+// px; 8-bit weights from the fraction bits).
 func warpAffineNRGBA(dst, src *image.NRGBA, h Homography) {
 	dw, dh := dst.Rect.Dx(), dst.Rect.Dy()
 	sw, sh := src.Rect.Dx(), src.Rect.Dy()
-	sp := src.Pix
-	ss := src.Stride
-	const one = 1 << 32
-	toFix := func(v float64) int64 { return int64(math.Round(v * one)) }
-	stepX, stepY := toFix(h[0]), toFix(h[3])
-	loX, loY := int64(-one), int64(-one)
-	hiX, hiY := int64(sw)<<32, int64(sh)<<32
-	var white = [4]uint8{255, 255, 255, 255}
-	pick := func(xx, yy int) []uint8 {
-		if xx < 0 || yy < 0 || xx >= sw || yy >= sh {
-			return white[:]
-		}
-		i := yy*ss + 4*xx
-		return sp[i : i+4 : i+4]
-	}
+	stepX, stepY := toFix32(h[0]), toFix32(h[3])
 	for y := 0; y < dh; y++ {
 		fy := float64(y)
-		sx := toFix(h[1]*fy + h[2])
-		sy := toFix(h[4]*fy + h[5])
-		d := dst.Pix[y*dst.Stride : y*dst.Stride+4*dw]
-		for x := 0; x < dw; x, sx, sy = x+1, sx+stepX, sy+stepY {
-			o := d[4*x : 4*x+4 : 4*x+4]
-			if !(sx > loX && sy > loY && sx < hiX && sy < hiY) {
-				o[0], o[1], o[2], o[3] = 255, 255, 255, 255
-				continue
-			}
-			x0, y0 := int(sx>>32), int(sy>>32)
-			// Rounded 8-bit weights, as round(frac·256).
-			ax := uint32(((sx & (one - 1)) + 1<<23) >> 24)
-			ay := uint32(((sy & (one - 1)) + 1<<23) >> 24)
-			w00 := (256 - ax) * (256 - ay)
-			w10 := ax * (256 - ay)
-			w01 := (256 - ax) * ay
-			w11 := ax * ay
-			if x0 >= 0 && y0 >= 0 && x0+1 < sw && y0+1 < sh {
-				i := y0*ss + 4*x0
-				c0 := sp[i : i+8 : i+8]
-				c1 := sp[i+ss : i+ss+8 : i+ss+8]
-				o[0] = uint8((w00*uint32(c0[0]) + w10*uint32(c0[4]) + w01*uint32(c1[0]) + w11*uint32(c1[4]) + 32768) >> 16)
-				o[1] = uint8((w00*uint32(c0[1]) + w10*uint32(c0[5]) + w01*uint32(c1[1]) + w11*uint32(c1[5]) + 32768) >> 16)
-				o[2] = uint8((w00*uint32(c0[2]) + w10*uint32(c0[6]) + w01*uint32(c1[2]) + w11*uint32(c1[6]) + 32768) >> 16)
-				o[3] = 255
-				continue
-			}
-			c00, c10, c01, c11 := pick(x0, y0), pick(x0+1, y0), pick(x0, y0+1), pick(x0+1, y0+1)
-			o[0] = uint8((w00*uint32(c00[0]) + w10*uint32(c10[0]) + w01*uint32(c01[0]) + w11*uint32(c11[0]) + 32768) >> 16)
-			o[1] = uint8((w00*uint32(c00[1]) + w10*uint32(c10[1]) + w01*uint32(c01[1]) + w11*uint32(c11[1]) + 32768) >> 16)
-			o[2] = uint8((w00*uint32(c00[2]) + w10*uint32(c10[2]) + w01*uint32(c01[2]) + w11*uint32(c11[2]) + 32768) >> 16)
-			o[3] = 255
-		}
+		affineRowNRGBA(dst.Pix[y*dst.Stride:y*dst.Stride+4*dw], src.Pix, src.Stride, sw, sh, 0,
+			toFix32(h[1]*fy+h[2]), toFix32(h[4]*fy+h[5]), stepX, stepY)
 	}
 }
 
