@@ -172,8 +172,9 @@ func WriteTable(w io.Writer, key string, rows []Row) error {
 const Legend = `SNR: per printed lead, pooled over pages (aligned: one shift per page within ±60 ms, lead mean removed;
 strict: Challenge 2024, no shift, no mean removal); a lead not returned scores 0 dB. Swaps: returned leads that
 match another lead better than their own. Calibration, skew and interval columns are medians of absolute errors
-against the truth; gain ok: within 2 % (the assumed 10 mm/mV counts when it is right); pulse: gain read from the
-calibration pulses.`
+against the truth; px/mm and skew are those of the upright page, through the page's and the truth's full mappings
+(a photo's registration and lens included); gain ok: within 2 % (the assumed 10 mm/mV counts when it is right);
+pulse: gain read from the calibration pulses.`
 
 // WriteMarkdown prints rows as a Markdown table (for the README); key
 // names the first column.
