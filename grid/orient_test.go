@@ -6,6 +6,9 @@ import (
 
 	"tracelift/imageproc"
 	"tracelift/render"
+
+	"github.com/stretchr/testify/assert"
+	"github.com/stretchr/testify/require"
 )
 
 // turn returns m turned q×90° counter-clockwise and the homography from
@@ -77,5 +80,28 @@ func TestOrientationTurnedPages(t *testing.T) {
 				t.Errorf("seed %d turned %d×90°: px/mm error %.4f, %.4f", seed, q, s.PxPerMMErrX, s.PxPerMMErrY)
 			}
 		}
+	}
+}
+
+// TestPhotoOrientationLowResolution: phone photos at 150 dpi (thin traces
+// grow faint in the downscaled estimate) are registered upright. The
+// rendered sheet is always upright, so any quarter turn is an error; with
+// the colour-scan ink level (180) one of these pages was traced turned
+// along its left edge as a single rhythm lead.
+func TestPhotoOrientationLowResolution(t *testing.T) {
+	if testing.Short() {
+		t.Skip("renders full pages")
+	}
+	for _, seed := range []uint64{1, 2, 3, 4, 5, 6} {
+		o, err := render.ConditionOptions("photo", seed)
+		require.NoError(t, err)
+		o.DPI = 150
+		rec, err := render.CorpusRecord(seed, false)
+		require.NoError(t, err)
+		pg, err := render.Render(rec, o)
+		require.NoError(t, err)
+		p, err := imageproc.Prepare(pg.Image, nil)
+		require.NoError(t, err, "seed %d", seed)
+		assert.Equal(t, 0, p.QuarterTurns, "seed %d: page turned", seed)
 	}
 }

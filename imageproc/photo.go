@@ -177,7 +177,9 @@ func photoOrientation(lm *latticeMap, toWork func(x, y float64) (float64, float6
 			if iu < 0 || iv < 0 || iu >= ww || iv >= wh {
 				continue
 			}
-			if c := wInk.Pix[iv*wInk.Stride+iu]; c >= 180 {
+			// The grey-page ink level: at low resolution a photo's thin
+			// traces fall below the colour-scan level in the work copy.
+			if c := wInk.Pix[iv*wInk.Stride+iu]; c >= orientInkGrey {
 				ci.Pix[y*ci.Stride+x] = c
 			}
 		}
