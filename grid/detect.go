@@ -146,7 +146,16 @@ func Detect(p *imageproc.Page, opt *Options) (*Result, error) {
 	// rectangular pulse of any size gives the scale (1 mV = gain mm).
 	scaleY := r.Calibration.PxPerMMY.V
 	scaleX := r.Calibration.PxPerMMX.V
-	r.Pulses = findPulses(p.Ink, p.Gray, scaleX, scaleY)
+	// The luminance backs up the ink map only where the separation was
+	// structural (grey and 1-bit pages, whose split removes a trace lying
+	// on a grid line). On colour pages the ink map is complete, and dark
+	// red major lines in the luminance made flat 'tops' and 'feet' for
+	// consecutive R waves (a 125 bpm rhythm strip read at 4.2 mm/mV).
+	gray := p.Gray
+	if p.GridColor != imageproc.GridGrey && p.GridColor != imageproc.GridNone {
+		gray = nil
+	}
+	r.Pulses = findPulses(p.Ink, gray, scaleX, scaleY)
 	if scaleY == 0 {
 		if len(r.Pulses) == 0 {
 			return nil, ErrNoGrid
