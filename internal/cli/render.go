@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"path/filepath"
 	"strings"
 
 	"github.com/spf13/cobra"
@@ -114,6 +115,9 @@ func (o *renderOptions) check(cmd *cobra.Command) error {
 		return flagErrorf("render: give a record file (CSV, .hea, .edf, aECG .xml) or --synthetic")
 	case o.Out == "" && o.PDF == "" && o.Truth == "":
 		return flagErrorf("render: nothing to write: give -o PAGE.png, --pdf PAGE.pdf or --truth PAGE.json")
+	case o.Out != "" && !strings.EqualFold(filepath.Ext(o.Out), ".png"):
+		// -o writes PNG bytes; a .jpg or .tif name would mislabel them.
+		return flagErrorf("render: -o %s: the page is written as PNG, so its name must end in .png (use --pdf for PDF)", o.Out)
 	}
 	if !hasString(render.LayoutNames(), o.Layout) {
 		return flagErrorf("render: unknown --layout %q (want %s)", o.Layout, strings.Join(render.LayoutNames(), ", "))

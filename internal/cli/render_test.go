@@ -57,6 +57,10 @@ func TestRenderFlags(t *testing.T) {
 		{"no input", []string{"-o", "p.png"}, nil, true},
 		{"both inputs", []string{"x.hea", "--synthetic", "-o", "p.png"}, nil, true},
 		{"bad speed", []string{"--synthetic", "-o", "p.png", "--speed", "0"}, nil, true},
+		{"PNG bytes under a JPEG name", []string{"--synthetic", "-o", "p.jpg"}, nil, true},
+		{"upper-case extension", []string{"--synthetic", "-o", "P.PNG"}, func(t *testing.T, o *renderOptions) {
+			assert.Equal(t, "P.PNG", o.Out)
+		}, false},
 	})
 }
 
