@@ -242,31 +242,5 @@ func clamp8(v float32) uint8 {
 // block px: each block centre's value is bg interpolated there (paper
 // white outside).
 func (bg *background) resample(toBG Homography, w, h, block int) *background {
-	nx, ny := max(1, (w+block-1)/block), max(1, (h+block-1)/block)
-	out := &background{nx: nx, ny: ny, cell: float64(block)}
-	for c := range out.v {
-		out.v[c] = make([]float64, nx*ny)
-	}
-	for by := 0; by < ny; by++ {
-		for bx := 0; bx < nx; bx++ {
-			x, y := Apply(toBG, (float64(bx)+0.5)*float64(block)-0.5, (float64(by)+0.5)*float64(block)-0.5)
-			fx := (x+0.5)/bg.cell - 0.5
-			fy := (y+0.5)/bg.cell - 0.5
-			inside := fx > -1 && fy > -1 && fx < float64(bg.nx) && fy < float64(bg.ny)
-			fx = min(max(fx, 0), float64(bg.nx-1))
-			fy = min(max(fy, 0), float64(bg.ny-1))
-			x0, y0 := int(fx), int(fy)
-			x1, y1 := min(x0+1, bg.nx-1), min(y0+1, bg.ny-1)
-			ax, ay := fx-float64(x0), fy-float64(y0)
-			for c := 0; c < 3; c++ {
-				v := 255.0
-				if inside {
-					g := bg.v[c]
-					v = (1-ay)*((1-ax)*g[y0*bg.nx+x0]+ax*g[y0*bg.nx+x1]) + ay*((1-ax)*g[y1*bg.nx+x0]+ax*g[y1*bg.nx+x1])
-				}
-				out.v[c][by*nx+bx] = v
-			}
-		}
-	}
-	return out
+	return bg.resampleFunc(func(x, y float64) (float64, float64) { return Apply(toBG, x, y) }, w, h, block)
 }
