@@ -232,6 +232,7 @@ func TestFollowCorpus(t *testing.T) {
 		}
 		sort.Float64s(per)
 		lines = append(lines, fmt.Sprintf("| %-8s | %5.1f | %5.1f | %d/%d | %d |", cond, accuracy.Percentile(per, 50), accuracy.Percentile(per, 10), found, printed, swaps))
+		checkCorpusTargets(t, cond, accuracy.Percentile(per, 50), found, printed, swaps)
 	}
 	if pages > 0 {
 		t.Logf("extract: %.0f ms/page over %d pages", float64(total.Milliseconds())/float64(pages), pages)

@@ -161,6 +161,7 @@ func TestCorpusTable(t *testing.T) {
 		sort.Float64s(strictMed)
 		lines = append(lines, fmt.Sprintf("| %-8s | %5.1f | %5.1f | %5.1f | %d/%d | %d | %d |", cond,
 			accuracy.Percentile(per, 50), accuracy.Percentile(per, 10), accuracy.Median(strictMed), found, printed, swaps, errs))
+		checkCorpusTargets(t, cond, accuracy.Percentile(per, 50), found, printed, swaps)
 	}
 	t.Logf("\n| condition | median dB | p10 dB | strict median dB | leads found | swaps | errors |\n%s", strings.Join(lines, "\n"))
 }
@@ -173,4 +174,27 @@ func fmtLeads(m map[ecg.Lead]float64) string {
 		}
 	}
 	return b.String()
+}
+
+// issueTargetDB holds the per-condition median SNR targets of the trace
+// extraction issue (aligned SNR, dB). The opt-in corpus scorers report
+// every condition that falls short as an error, so a run shows at once
+// which targets are unmet.
+var issueTargetDB = map[string]float64{
+	"clean": 25, "scan": 20, "gray": 18, "penmarks": 18, "overlap": 15, "fax": 12, "photo": 12,
+}
+
+// checkCorpusTargets reports a condition's shortfalls against the issue:
+// the median target, ≥ 99 % of printed leads found, and no swaps.
+func checkCorpusTargets(t *testing.T, cond string, median float64, found, printed, swaps int) {
+	t.Helper()
+	if want, ok := issueTargetDB[cond]; ok && median < want {
+		t.Errorf("%s: median SNR %.1f dB, target ≥ %.0f dB", cond, median, want)
+	}
+	if printed > 0 && float64(found) < 0.99*float64(printed) {
+		t.Errorf("%s: %d of %d printed leads found, target ≥ 99 %%", cond, found, printed)
+	}
+	if swaps > 0 {
+		t.Errorf("%s: %d lead swaps, target none", cond, swaps)
+	}
 }
