@@ -118,9 +118,10 @@ func drawOverlay(path string, img *image.NRGBA, res *trace.Result) {
 	png.Encode(f, out)
 }
 
-// TestCorpusTable prints the per-condition SNR table over a corpus; it is
-// slow, so it runs only when TRACELIFT_TRACE_CORPUS gives the number of
-// pages per condition.
+// TestCorpusTable prints the per-condition SNR table over a corpus and
+// fails on every condition short of the targets
+// (checkCorpusTargets); it is slow, so it runs only when
+// TRACELIFT_TRACE_CORPUS gives the number of pages per condition.
 func TestCorpusTable(t *testing.T) {
 	nstr := os.Getenv("TRACELIFT_TRACE_CORPUS")
 	if nstr == "" {
