@@ -105,3 +105,26 @@ func TestPhotoOrientationLowResolution(t *testing.T) {
 		assert.Equal(t, 0, p.QuarterTurns, "seed %d: page turned", seed)
 	}
 }
+
+// TestOrientationTallStrokes: a 125 bpm record printed at 20 mm/mV (the
+// overlap condition, corpus record 3), whose QRS strokes cross the
+// neighbouring rows, stays upright. Its strokes filled the row profile
+// and, measured against the tallest stroke column, its flat columns
+// counted as empty, so the page was turned a quarter and traced as noise.
+func TestOrientationTallStrokes(t *testing.T) {
+	if testing.Short() {
+		t.Skip("renders full pages")
+	}
+	rec, err := render.CorpusRecord(3, true)
+	require.NoError(t, err)
+	for _, layout := range []string{"3x4", "cabrera-3x4"} {
+		o, err := render.ConditionOptions("overlap", 3)
+		require.NoError(t, err)
+		o.Layout = layout
+		pg, err := render.Render(rec, o)
+		require.NoError(t, err)
+		p, err := imageproc.Prepare(pg.Image, nil)
+		require.NoError(t, err)
+		assert.Equal(t, 0, p.QuarterTurns, "%s: page turned", layout)
+	}
+}

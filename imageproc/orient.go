@@ -9,7 +9,9 @@ import (
 // so an upright page has empty rows between its rows of leads while
 // almost no column is empty; the traces' calibration pulses and most QRS
 // complexes, P and T waves point up from the baseline (common practice).
-func orientation(ink *image.Gray) int {
+// The band cue reads ink of at least orientInk; the upside-down cue only
+// ink of at least upLevel (orientUpColour on colour pages).
+func orientation(ink *image.Gray, upLevel uint8) int {
 	w, h := ink.Rect.Dx(), ink.Rect.Dy()
 	rows, cols := make([]float64, h), make([]float64, w)
 	for y := 0; y < h; y++ {
@@ -30,8 +32,17 @@ func orientation(ink *image.Gray) int {
 		q = 1
 	}
 	m := ink
+	if upLevel > orientInk {
+		// The upside-down cue reads only the darker ink (see orientUpColour).
+		m = image.NewGray(ink.Rect)
+		for i, v := range ink.Pix {
+			if v >= upLevel {
+				m.Pix[i] = v
+			}
+		}
+	}
 	if q == 1 {
-		m = turnGray(ink, 1)
+		m = turnGray(m, 1)
 	}
 	if upwardSkew(m) < 0 {
 		q += 2
@@ -156,45 +167,52 @@ func emptyFraction(prof []float64) float64 {
 	if hi <= lo {
 		return 0
 	}
+	// Nearly empty: below 5 % of the span's mean. (A fraction of the
+	// maximum made the flat columns of a page with tall, crossing QRS
+	// strokes count as empty: one stroke column outweighs them 30-fold.)
+	sum := 0.0
+	for _, v := range prof[lo : hi+1] {
+		sum += v
+	}
+	lim := 0.05 * sum / float64(hi-lo+1)
 	n := 0
 	for _, v := range prof[lo : hi+1] {
-		if v < 0.02*mx {
+		if v < lim {
 			n++
 		}
 	}
 	return float64(n) / float64(hi-lo+1)
 }
 
-// Confident-ink levels (of 255) for the orientation cues: colour pages
-// keep ink above orientInkColour, so that light grid lines fall below;
-// grey and 1-bit pages (faxes) use the lower orientInkGrey, because the
-// downscaled work page lightens thin binarised traces (a 2 px baseline
-// at 204 dpi) below the colour level, which emptied the columns between
-// beats and made upright pages look turned. Measured on the fax corpus
-// (seeds 1–2, seven layouts, each upright and turned 90°: 28 pages): 180
-// gave 2 wrong turns and a band cue against the page (6x2 seed 2, decided
-// by the landscape prior alone), 120 none, with |band| ≥ 0.17 throughout.
-const (
-	orientInkColour = 180
-	orientInkGrey   = 120
-)
+// orientInk is the confident-ink level (of 255) for the orientation
+// cues. The downscaled work page lightens thin traces: a binarised fax
+// baseline (2 px at 204 dpi), a photo's or a 150-dpi page's pen line, the
+// flat stretches of a page whose tall strokes dominate. A higher level
+// (180, once used for colour pages to drop light grid lines) kept only
+// the QRS strokes there, emptied the columns between beats and made
+// upright pages look turned. Measured on 126 pages (scan, fax and
+// overlap; seven layouts; records 1–3; each upright and turned 90°):
+// 180 for colour and 120 for grey pages gave 9 wrong turns and a band
+// cue as small as 0.08 on ordinary scans; 120 throughout, with the
+// mean-relative empty test of emptyFraction, none, |band| ≥ 0.33 on
+// every page outside the overlap condition.
+const orientInk = 120
 
-// orientationInk returns the confident-ink map that orientation reads,
-// on the deskewed work page (cw×ch px; toWork maps its pixels to the
-// work image's): wInk resampled, weaker ink cleared.
-func orientationInk(wInk *image.Gray, toWork Homography, cw, ch int, colour bool) *image.Gray {
+// orientUpColour is the ink level the upside-down cue (upwardSkew) reads
+// on colour pages: there the fainter ink that orientInk admits (pen
+// marks, grid-line residue) tipped two rhythm strips of 60 upside down in
+// the eval corpus, while the strong ink had decided all of them right.
+const orientUpColour = 180
+
+func orientationInk(wInk *image.Gray, toWork Homography, cw, ch int) *image.Gray {
 	ci := image.NewGray(image.Rect(0, 0, cw, ch))
 	if toWork != identity {
 		warpGray(ci, wInk, toWork, 0)
 	} else {
 		copy(ci.Pix, wInk.Pix)
 	}
-	var thr uint8 = orientInkColour
-	if !colour {
-		thr = orientInkGrey
-	}
 	for i, v := range ci.Pix {
-		if v < thr {
+		if v < orientInk {
 			ci.Pix[i] = 0
 		}
 	}

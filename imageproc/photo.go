@@ -179,12 +179,12 @@ func photoOrientation(lm *latticeMap, toWork func(x, y float64) (float64, float6
 			}
 			// The grey-page ink level: at low resolution a photo's thin
 			// traces fall below the colour-scan level in the work copy.
-			if c := wInk.Pix[iv*wInk.Stride+iu]; c >= orientInkGrey {
+			if c := wInk.Pix[iv*wInk.Stride+iu]; c >= orientInk {
 				ci.Pix[y*ci.Stride+x] = c
 			}
 		}
 	}
-	return orientation(ci)
+	return orientation(ci, orientInk)
 }
 
 // separateMaps fills p's grey, ink and grid maps from p.Color and its

@@ -168,7 +168,11 @@ func Prepare(img image.Image, opt *Options) (*Page, error) {
 	}
 	q := 0
 	if !o.NoOrient {
-		q = orientation(orientationInk(wInk, toWork, cw, ch, sep.colour))
+		up := uint8(orientInk)
+		if sep.colour {
+			up = orientUpColour
+		}
+		q = orientation(orientationInk(wInk, toWork, cw, ch), up)
 	}
 	p.QuarterTurns = q
 	UW, UH := turnedSize(q, OW, OH)
