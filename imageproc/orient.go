@@ -193,9 +193,9 @@ func emptyFraction(prof []float64) float64 {
 // upright pages look turned. Measured on 126 pages (scan, fax and
 // overlap; seven layouts; records 1–3; each upright and turned 90°):
 // 180 for colour and 120 for grey pages gave 9 wrong turns and a band
-// cue as small as 0.08 on ordinary scans; 120 throughout, with the
-// mean-relative empty test of emptyFraction, none, |band| ≥ 0.33 on
-// every page outside the overlap condition.
+// cue as small as 0.08 on ordinary scans; 120 for the band cue on every
+// page, with the mean-relative empty test of emptyFraction, none, |band|
+// ≥ 0.33 on every page outside the overlap condition.
 const orientInk = 120
 
 // orientUpColour is the ink level the upside-down cue (upwardSkew) reads
