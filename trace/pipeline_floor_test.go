@@ -66,22 +66,29 @@ func TestPipelineFloors(t *testing.T) {
 // gave one lead of twelve); the fax corpus median over nine pages (3x4+1,
 // 3x4, 6x2; seeds 1–3) was 10.1 dB with 88 % of the leads found.
 func TestFaxFloor(t *testing.T) {
+	checkPageFloor(t, accuracy.Case{Condition: "fax", Layout: "3x4", Seed: 2}, 14)
+}
+
+// checkPageFloor digitises one seeded page through the whole front end
+// and asserts its layout, every printed lead found under its own name,
+// and a median (lenient) SNR of at least floorDB.
+func checkPageFloor(t *testing.T, c accuracy.Case, floorDB float64) {
+	t.Helper()
 	if testing.Short() {
 		t.Skip("renders a full page")
 	}
-	c := accuracy.Case{Condition: "fax", Layout: "3x4", Seed: 2}
 	cs := scoreCaseWith(t, c, "", true)
 	if cs.err != nil {
 		t.Fatalf("digitise: %v", cs.err)
 	}
-	if cs.layout != "3x4" {
-		t.Errorf("layout %q, want 3x4", cs.layout)
+	if cs.layout != c.Layout {
+		t.Errorf("layout %q, want %s", cs.layout, c.Layout)
 	}
 	if cs.found != cs.printed || cs.swaps != 0 {
 		t.Errorf("found %d of %d leads, %d swaps", cs.found, cs.printed, cs.swaps)
 	}
-	if cs.lenient.Median < 14 {
-		t.Errorf("median SNR %.1f dB < 14 dB (%s)", cs.lenient.Median, fmtLeads(cs.lenient.PerLead))
+	if cs.lenient.Median < floorDB {
+		t.Errorf("median SNR %.1f dB < %g dB (%s)", cs.lenient.Median, floorDB, fmtLeads(cs.lenient.PerLead))
 	}
 	t.Logf("%s: median %.1f dB (strict %.1f)", cs.name, cs.lenient.Median, cs.strict.Median)
 }
@@ -97,21 +104,7 @@ func TestFaxFloor(t *testing.T) {
 // swaps before), the 3x4+3 and 6x2 pages still lose or swap complexes:
 // see doc.go, Known limits.
 func TestOverlapFloor(t *testing.T) {
-	if testing.Short() {
-		t.Skip("renders a full page")
-	}
-	c := accuracy.Case{Condition: "overlap", Layout: "3x4", Seed: 2}
-	cs := scoreCaseWith(t, c, "", true)
-	if cs.err != nil {
-		t.Fatalf("digitise: %v", cs.err)
-	}
-	if cs.found != cs.printed || cs.swaps != 0 {
-		t.Errorf("found %d of %d leads, %d swaps", cs.found, cs.printed, cs.swaps)
-	}
-	if cs.lenient.Median < 16 {
-		t.Errorf("median SNR %.1f dB < 16 dB (%s)", cs.lenient.Median, fmtLeads(cs.lenient.PerLead))
-	}
-	t.Logf("%s: median %.1f dB (strict %.1f)", cs.name, cs.lenient.Median, cs.strict.Median)
+	checkPageFloor(t, accuracy.Case{Condition: "overlap", Layout: "3x4", Seed: 2}, 16)
 }
 
 // TestRealRecords prints open PhysioNet records (PTB Diagnostic
