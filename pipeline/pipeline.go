@@ -4,6 +4,7 @@ import (
 	"context"
 	"errors"
 	"fmt"
+	"strings"
 	"time"
 
 	"tracelift/ecg"
@@ -221,6 +222,9 @@ func plausible(c grid.Calibration) error {
 
 func (r *Result) warn(stage string, ws []string) {
 	for _, w := range ws {
-		r.Warnings = append(r.Warnings, stage+": "+w)
+		if !strings.HasPrefix(w, stage+": ") {
+			w = stage + ": " + w
+		}
+		r.Warnings = append(r.Warnings, w)
 	}
 }

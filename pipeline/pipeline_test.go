@@ -10,6 +10,7 @@ import (
 	"image/png"
 	"math"
 	"math/rand/v2"
+	"strings"
 	"testing"
 
 	"github.com/stretchr/testify/assert"
@@ -208,4 +209,32 @@ func TestRunNamedLayoutAt50(t *testing.T) {
 	assert.InDelta(t, 5.0, end, 0.05, "a 50 mm/s page covers 5 s")
 	iv := accuracy.TrueIntervals(rec.Beats)
 	assert.InDelta(t, iv.HRBPM, float64(res.Report.HeartRateBPM), 3)
+}
+
+// A page without a grid makes the grid stage warn; every warning carries
+// its stage's name once ("grid: no grid found…", never "grid: grid: …").
+func TestRunWarningsPrefixedOnce(t *testing.T) {
+	rec, err := render.CorpusRecord(2, false)
+	require.NoError(t, err)
+	opt, err := render.ConditionOptions("clean", 2)
+	require.NoError(t, err)
+	opt.Grid = render.Grid{Kind: render.GridNone}
+	opt.DPI = 200
+	page, err := render.Render(rec, opt)
+	require.NoError(t, err)
+	res, err := pipeline.Run(context.Background(), decode.Page{Image: page.Image, Index: 1, DPIX: 200, DPIY: 200}, pipeline.Config{})
+	if err != nil && !errors.Is(err, ecg.ErrPartial) {
+		require.NoError(t, err)
+	}
+	require.NotNil(t, res)
+	require.NotEmpty(t, res.Warnings)
+	sawGrid := false
+	for _, w := range res.Warnings {
+		stage, rest, ok := strings.Cut(w, ": ")
+		require.True(t, ok, "warning without a stage: %q", w)
+		assert.Contains(t, []string{pipeline.StagePrepare, pipeline.StageGrid, pipeline.StageTrace, pipeline.StageMeasure}, stage, w)
+		assert.False(t, strings.HasPrefix(rest, stage+":"), "stage named twice: %q", w)
+		sawGrid = sawGrid || stage == pipeline.StageGrid
+	}
+	assert.True(t, sawGrid, "a gridless page must warn from the grid stage: %q", res.Warnings)
 }
