@@ -184,6 +184,19 @@ func TestLayoutPages(t *testing.T) {
 		// for a trace row (a fifth row made the page rhythm rows, one
 		// lead of twelve). Measured 19.7 dB.
 		{"3x4+1 photo desk", "photo", "3x4+1", 2, 0, 12, 15},
+		// The bottom edge of the photographed sheet, over the dark desk
+		// left in the ink, passed for a seventh row without a pulse: the
+		// page was read as rhythm rows, 1 lead of 12. A row that never
+		// leaves its line (dropFlatRows) is not a trace. Measured
+		// 13.6 dB.
+		{"6x2 photo sheet edge", "photo", "6x2", 3, 0, 12, 11},
+		// The same edge made a thirteenth row. Measured 11.6 dB.
+		{"12x1 photo sheet edge", "photo", "12x1", 3, 0, 12, 9},
+		// A header line crossed by the strip's tall R waves (20 mm/mV)
+		// passed for a second row: half of the strip traced on the
+		// text, −1.3 dB. With one pulse row, rows without a pulse must
+		// span the pulse row's stretch. Measured 18.9 dB.
+		{"rhythm overlap header", "overlap", "rhythm", 1, 0, 1, 16},
 	}
 	for _, tc := range tests {
 		t.Run(tc.name, func(t *testing.T) {

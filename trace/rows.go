@@ -169,6 +169,9 @@ func findRows(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse) []rowI
 			r.x1 = int(r.traceX0 + 250*pxX)
 		}
 	}
+	// A row without a pulse that never leaves its line is the edge of
+	// the sheet (a photo's desk), a rule or grid dashes, not a trace.
+	rows = dropFlatRows(ink, rows, pxX, pxY)
 	// When most rows start with a calibration pulse, rows without one are
 	// header or footer text, or stray marks.
 	np := 0
@@ -177,7 +180,7 @@ func findRows(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse) []rowI
 			np++
 		}
 	}
-	if np < 2 {
+	if np < 1 {
 		out := rows[:0]
 		for _, r := range rows {
 			if r.hasPulse || !r.loose {
@@ -187,9 +190,11 @@ func findRows(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse) []rowI
 		rows = out
 		commonStart(rows, pxX)
 	}
-	if np >= 2 {
+	if np >= 1 {
 		// Keep rows without a pulse (one may be crossed by tall complexes)
-		// when they span the same stretch of paper as the pulse rows.
+		// when they span the same stretch of paper as the pulse rows
+		// (a single pulse row is enough: a header line crossed by a
+		// rhythm strip's tall R waves does not end with the strip).
 		var x0s, x1s []float64
 		for _, r := range rows {
 			if r.hasPulse {
@@ -259,6 +264,11 @@ func findRows(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse) []rowI
 			sort.Float64s(gaps)
 			pitch = math.Min(pitch, gaps[(len(gaps)-1)/2])
 		}
+		if math.IsInf(pitch, 1) {
+			// One pulse row and no spacing to go by: rows only need the
+			// profile peaks' separation.
+			pitch = minSep / 0.75
+		}
 		var out []rowInfo
 		for _, r := range rows {
 			// The looser reading can run on over dashes of grid left in
@@ -298,7 +308,7 @@ func findRows(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse) []rowI
 				out = append(out, r)
 			}
 		}
-		rows = out
+		rows = dropCrowdedRows(out)
 	}
 	return rows
 }
