@@ -171,6 +171,8 @@ func Extract(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse, opt *Op
 		vals []float64 // mV on the record grid, NaN outside
 	}
 	var all []traced
+	// Pass 1: every panel on its own.
+	pj := make([][]panelJob, 0, len(lay.Rows))
 	for ri, lr := range lay.Rows {
 		if ri >= len(rows) {
 			break
@@ -202,42 +204,53 @@ func Extract(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse, opt *Op
 		if spanPx > 0 && math.Abs(measured-spanPx) > 0.12*spanPx && measured > 0 {
 			res.Warnings = append(res.Warnings, fmt.Sprintf("row %d: printed trace is %.0f mm long, layout expects %.0f mm (check speed or layout)", ri+1, measured/pxX, spanPx/pxX))
 		}
+		// Past half-way to a neighbouring row's baseline the path may
+		// only stay as long as a tall complex lasts; longer stretches
+		// there are the neighbour's trace (or a gap bridged onto it).
+		upLim, downLim := math.Inf(1), math.Inf(1)
+		if ri > 0 {
+			upLim = 0.5 * (r.baseY - rows[ri-1].baseY)
+		}
+		if ri+1 < len(rows) {
+			downLim = 0.5 * (rows[ri+1].baseY - r.baseY)
+		}
+		base := r.baseY
+		if !math.IsNaN(r.zeroY) {
+			base = r.zeroY
+		}
 		xc := r.traceX0
-		var rowPanels []traced
-		for ci, c := range lr.Cells {
+		var jobs []panelJob
+		for _, c := range lr.Cells {
 			w := (c.T1S - c.T0S) * cal.SpeedMMPerS.V * pxX
 			x0, x1 := int(math.Round(xc)), int(math.Round(xc+w))
 			xc += w
 			bounds := image.Rect(x0, int(r.baseY-up), x1, int(r.baseY+down)).Intersect(ink.Rect)
-			p := Panel{Lead: c.Lead, Negated: c.Negated, Row: ri, Col: ci, Bounds: bounds, T0: c.T0S, T1: c.T1S}
-			if bounds.Empty() {
-				rowPanels = append(rowPanels, traced{p: p})
-				continue
+			j := panelJob{bounds: bounds, base: base, upLim: upLim, downLim: downLim, maxLen: maxExcursionS * cal.SpeedMMPerS.V * pxX}
+			if !bounds.Empty() {
+				cr.scan(ink, bounds)
+				j.follow(&cr, cal.PxPerMMY.V)
 			}
-			cr.scan(ink, bounds)
-			base := r.baseY
-			if !math.IsNaN(r.zeroY) {
-				base = r.zeroY
+			jobs = append(jobs, j)
+		}
+		pj = append(pj, jobs)
+	}
+	// Pass 2: rows whose paths reached a neighbouring row's trace are
+	// followed again with that trace and what lies beyond it removed.
+	separateRows(ink, pj, &cr, cal.PxPerMMY.V)
+	for ri, jobs := range pj {
+		lr, r := lay.Rows[ri], rows[ri]
+		var rowPanels []traced
+		for ci, c := range lr.Cells {
+			j := jobs[ci]
+			p := Panel{Lead: c.Lead, Negated: c.Negated, Row: ri, Col: ci, Bounds: j.bounds, T0: c.T0S, T1: c.T1S}
+			if !j.bounds.Empty() {
+				p.Path = j.pr.points
+				cov := 0.0
+				if j.pr.cols > 0 {
+					cov = float64(j.pr.onInk) / float64(j.pr.cols)
+				}
+				p.Quality = cov / (1 + j.pr.meanJump/cal.PxPerMMY.V)
 			}
-			fp := defaultFollow(cal.PxPerMMY.V, base)
-			pr := follow(&cr, fp)
-			// Past half-way to a neighbouring row's baseline the path may
-			// only stay as long as a tall complex lasts; longer stretches
-			// there are the neighbour's trace (or a gap bridged onto it).
-			upLim, downLim := math.Inf(1), math.Inf(1)
-			if ri > 0 {
-				upLim = 0.5 * (r.baseY - rows[ri-1].baseY)
-			}
-			if ri+1 < len(rows) {
-				downLim = 0.5 * (rows[ri+1].baseY - r.baseY)
-			}
-			pr.points, pr.onInk = dropExcursions(pr.points, pr.onInk, base, upLim, downLim, maxExcursionS*cal.SpeedMMPerS.V*pxX)
-			p.Path = pr.points
-			cov := 0.0
-			if pr.cols > 0 {
-				cov = float64(pr.onInk) / float64(pr.cols)
-			}
-			p.Quality = cov / (1 + pr.meanJump/cal.PxPerMMY.V)
 			rowPanels = append(rowPanels, traced{p: p})
 		}
 		// 0 mV of the row: the pulse foot, else the isoelectric level.
@@ -252,7 +265,7 @@ func Extract(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse, opt *Op
 				zero = r.baseY
 			}
 		}
-		xc = r.traceX0
+		xc := r.traceX0
 		for k := range rowPanels {
 			tp := &rowPanels[k]
 			tp.p.ZeroY = zero

@@ -156,6 +156,9 @@ type pathResult struct {
 	cols     int     // columns in the panel
 	meanJump float64 // mean vertical jump between consecutive ink states, mm
 	penPx    float64 // estimated pen width, px
+	// runTop and runBot are, per column, the first and last row of the
+	// ink run on the path, px (NaN where the path bridges a gap).
+	runTop, runBot []float32
 }
 
 // follow finds the globally cheapest path through the runs of cr, column
@@ -258,9 +261,14 @@ func follow(cr *columnRuns, p followParams) pathResult {
 		}
 	}
 	path := make([]int32, W)
+	res.runTop, res.runBot = make([]float32, W), make([]float32, W)
 	for c := W - 1; c >= 0; c-- {
 		path[c] = int32(bj)
+		res.runTop[c], res.runBot[c] = float32(math.NaN()), float32(math.NaN())
 		if bj >= 0 {
+			if k := states[bj].run; k >= 0 {
+				res.runTop[c], res.runBot[c] = float32(cr.runs[k].top), float32(cr.runs[k].bot)
+			}
 			bj = int(states[bj].back)
 		}
 	}

@@ -134,6 +134,7 @@ func TestFollowCorpus(t *testing.T) {
 			sc := trace.SNR(fe.Printed, est, trace.Lenient)
 			var pv []float64
 			np, nf, nsw := 0, 0, 0
+			var swapped []string
 			for _, s := range fe.Printed.Signals {
 				if _, _, ok := s.ValidSpan(); !ok {
 					continue
@@ -146,8 +147,9 @@ func TestFollowCorpus(t *testing.T) {
 					if _, _, ok := e.ValidSpan(); ok {
 						nf++
 					}
-					if accuracy.SwappedWith(&fe.Full, e) != ecg.LeadUnknown {
+					if w := accuracy.SwappedWith(&fe.Full, e); w != ecg.LeadUnknown {
 						nsw++
+						swapped = append(swapped, fmt.Sprintf("%v→%v", s.Lead, w))
 					}
 				}
 			}
@@ -225,7 +227,7 @@ func TestFollowCorpus(t *testing.T) {
 					es = es[:80]
 				}
 			}
-			t.Logf("%-24s %-12s med %5.1f shift %4.0fms found %2d/%2d swaps %d %s | %s", c.Name(), lay, accuracy.Median(pv), 1000*sc.ShiftS, nf, np, nsw, es, fmtLeads(sc.PerLead))
+			t.Logf("%-24s %-12s med %5.1f shift %4.0fms found %2d/%2d swaps %d %v %s | %s", c.Name(), lay, accuracy.Median(pv), 1000*sc.ShiftS, nf, np, nsw, swapped, es, fmtLeads(sc.PerLead))
 			if overlay != "" && res != nil {
 				drawInkOverlay(filepath.Join(overlay, c.Name()+".png"), fe.ink, res, fe)
 			}

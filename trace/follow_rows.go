@@ -1,0 +1,336 @@
+package trace
+
+import (
+	"image"
+	"math"
+)
+
+// panelJob is one panel's search band and followed path while the rows of
+// a page are traced.
+type panelJob struct {
+	bounds         image.Rectangle // search band, px
+	base           float64         // baseline (0 mV if known) of the row, px
+	upLim, downLim float64         // dropExcursions limits, px
+	maxLen         float64         // longest far excursion kept, px
+	pr             pathResult
+}
+
+// follow follows the runs of cr (scanned from the job's band) and drops
+// the path's long excursions towards the neighbouring rows.
+func (j *panelJob) follow(cr *columnRuns, pxY float64) {
+	j.pr = follow(cr, defaultFollow(pxY, j.base))
+	j.pr.points, j.pr.onInk = dropExcursions(j.pr.points, j.pr.onInk, j.base, j.upLim, j.downLim, j.maxLen)
+}
+
+// separateRows re-follows panels whose path runs along a neighbouring
+// row's path. Two printed traces meet only where they cross, for a column
+// or two; where the paths of rows r and r+1 lie together for longer, one
+// of them has taken the other's complex (a tall R wave of row r+1 entering
+// row r's band, where row r's own R wave shares the columns), or both
+// stopped where their strokes merge. Then the traces keep their order on
+// the page: row r is followed again with the ink at and below row r+1's
+// path removed, or row r+1 with the ink at and above row r's path
+// removed, each alone or followed by the other row against the new path.
+// Of these pairs (and the pair as first followed) the one whose paths,
+// drawn with the pen, cover the most ink over the panel is kept: the wrong
+// pair leaves a whole stroke of the page unexplained.
+func separateRows(ink *image.Gray, pj [][]panelJob, cr *columnRuns, pxY float64) {
+	if len(pj) < 2 {
+		return
+	}
+	s := separator{ink: ink, cr: cr, pxY: pxY, x0: ink.Rect.Min.X, W: ink.Rect.Dx(), margin: math.Max(2, maxPenRadiusMM*pxY)}
+	tol := math.Max(2, 0.5*pxY)
+	minLen := 1
+	var et, eb, ft, fb []float32
+	for r := 0; r+1 < len(pj); r++ {
+		for ci := range pj[r] {
+			P := pj[r][ci]
+			if P.bounds.Empty() {
+				continue
+			}
+			et, eb = rowExtent(pj[r], s.x0, s.W, 0, et, eb)
+			ft, fb = rowExtent(pj[r+1], s.x0, s.W, 0, ft, fb)
+			if !coincident(et, eb, ft, fb, P.bounds.Min.X-s.x0, P.bounds.Max.X-s.x0, tol, minLen) {
+				continue
+			}
+			upper := []panelJob{P}
+			lower := s.sharing(pj[r+1], P.bounds)
+			type pair struct{ u, l []panelJob }
+			b := s.below(upper, lower)
+			a := s.above(lower, upper)
+			cands := []pair{{b, lower}, {upper, a}, {b, s.above(lower, b)}, {s.below(upper, a), a}}
+			old := s.runCover(P.bounds, upper, lower)
+			best, bestCov := -1, old*(1+minCoverGain)
+			for k, c := range cands {
+				if v := s.runCover(P.bounds, c.u, c.l); v > bestCov {
+					best, bestCov = k, v
+				}
+			}
+			if best < 0 {
+				continue
+			}
+			pj[r][ci] = cands[best].u[0]
+			for _, q := range cands[best].l {
+				for qi := range pj[r+1] {
+					if pj[r+1][qi].bounds == q.bounds {
+						pj[r+1][qi] = q
+					}
+				}
+			}
+		}
+	}
+}
+
+// minCoverGain is the fraction of ink a re-followed pair of rows must
+// cover beyond the pair as first followed to replace it: a few hundred
+// pixels more over a 10 s rhythm row were a neighbour's stroke ends.
+const minCoverGain = 0.02
+
+// separator holds what separateRows needs to re-follow panels.
+type separator struct {
+	ink    *image.Gray
+	cr     *columnRuns
+	buf    *image.Gray
+	pxY    float64
+	x0, W  int
+	margin float64 // px kept clear of the neighbour's path
+	et, eb []float32
+}
+
+// sharing returns the panels of a row whose bands share columns with b.
+func (s *separator) sharing(row []panelJob, b image.Rectangle) []panelJob {
+	var out []panelJob
+	for _, q := range row {
+		if !q.bounds.Empty() && q.bounds.Max.X > b.Min.X && q.bounds.Min.X < b.Max.X {
+			out = append(out, q)
+		}
+	}
+	return out
+}
+
+// below re-follows the panels js with the ink at and below the paths of
+// the row beneath (nb) removed; above, with the ink at and above the paths
+// of the row over them (nb) removed.
+func (s *separator) below(js, nb []panelJob) []panelJob { return s.refollow(js, nb, false) }
+func (s *separator) above(js, nb []panelJob) []panelJob { return s.refollow(js, nb, true) }
+
+func (s *separator) refollow(js, nb []panelJob, fromAbove bool) []panelJob {
+	s.et, s.eb = rowExtent(nb, s.x0, s.W, 2, s.et, s.eb)
+	out := make([]panelJob, len(js))
+	for k, j := range js {
+		var lo, hi []float64
+		if fromAbove {
+			lo, hi = clipLimits(s.eb, nil, j.bounds, s.x0, s.margin)
+		} else {
+			lo, hi = clipLimits(nil, s.et, j.bounds, s.x0, s.margin)
+		}
+		s.buf = clipBand(s.buf, s.ink, j.bounds, lo, hi)
+		s.cr.scan(s.buf, j.bounds)
+		out[k] = j
+		out[k].follow(s.cr, s.pxY)
+	}
+	return out
+}
+
+// cover counts the ink pixels in the columns of b that lie within margin
+// px of the paths of either row (u above, l below), each path swept
+// between its consecutive points.
+func (s *separator) cover(b image.Rectangle, u, l []panelJob) float64 {
+	ut, ub := rowExtent(u, s.x0, s.W, 0, nil, nil)
+	lt, lb := rowExtent(l, s.x0, s.W, 0, nil, nil)
+	m := float32(s.margin)
+	y0, y1 := float32(s.ink.Rect.Min.Y), float32(s.ink.Rect.Max.Y-1)
+	n := 0
+	for x := b.Min.X; x < b.Max.X; x++ {
+		c := x - s.x0
+		if c < 0 || c >= s.W {
+			continue
+		}
+		var iv [2][2]float32
+		k := 0
+		for _, e := range [2][2]float32{{ut[c], ub[c]}, {lt[c], lb[c]}} {
+			if e[0] == e[0] {
+				iv[k] = [2]float32{max(e[0]-m, y0), min(e[1]+m, y1)}
+				k++
+			}
+		}
+		if k == 2 && iv[1][0] < iv[0][0] {
+			iv[0], iv[1] = iv[1], iv[0]
+		}
+		if k == 2 && iv[1][0] <= iv[0][1] {
+			iv[0][1], k = max(iv[0][1], iv[1][1]), 1
+		}
+		for _, v := range iv[:k] {
+			for y := int(math.Ceil(float64(v[0]))); y <= int(v[1]); y++ {
+				if s.ink.Pix[(y-s.ink.Rect.Min.Y)*s.ink.Stride+c] >= inkThreshold {
+					n++
+				}
+			}
+		}
+	}
+	return float64(n)
+}
+
+// coincident reports whether two rows' path extents (per column, px)
+// overlap within tol px over at least minLen consecutive columns of
+// [c0, c1).
+func coincident(at, ab, bt, bb []float32, c0, c1 int, tol float64, minLen int) bool {
+	run := 0
+	for c := max(c0, 0); c < min(c1, len(at)); c++ {
+		if at[c] == at[c] && bt[c] == bt[c] && float64(at[c]) <= float64(bb[c])+tol && float64(bt[c]) <= float64(ab[c])+tol {
+			run++
+			if run >= minLen {
+				return true
+			}
+		} else {
+			run = 0
+		}
+	}
+	return false
+}
+
+// rowExtent fills, per image column (x − x0), the smallest and largest y
+// of a row's paths there, px (NaN where the row has no path), widened by
+// two columns either side. Consecutive points less than 1.5 px apart
+// share the y between them, so a steep stroke covers its whole height.
+func rowExtent(jobs []panelJob, x0, W, wd int, top, bot []float32) ([]float32, []float32) {
+	if cap(top) < W {
+		top, bot = make([]float32, W), make([]float32, W)
+	}
+	top, bot = top[:W], bot[:W]
+	nan := float32(math.NaN())
+	for i := range top {
+		top[i], bot[i] = nan, nan
+	}
+	put := func(x, y float64) {
+		c := int(math.Round(x)) - x0
+		if c < 0 || c >= W {
+			return
+		}
+		v := float32(y)
+		if !(top[c] <= v) {
+			top[c] = v
+		}
+		if !(bot[c] >= v) {
+			bot[c] = v
+		}
+	}
+	for _, j := range jobs {
+		pts := j.pr.points
+		for i, q := range pts {
+			put(q.X, q.Y)
+			if i > 0 && q.X-pts[i-1].X <= 1.5 {
+				m := (q.Y + pts[i-1].Y) / 2
+				put(q.X, m)
+				put(pts[i-1].X, m)
+			}
+		}
+	}
+	// Widened by wd columns: a narrow apex's centre point lies below the
+	// top of its ink in the apex column itself.
+	if wd <= 0 {
+		return top, bot
+	}
+	t2, b2 := make([]float32, W), make([]float32, W)
+	for c := range top {
+		t2[c], b2[c] = nan, nan
+		for k := max(0, c-wd); k <= min(W-1, c+wd); k++ {
+			if !(t2[c] <= top[k]) && top[k] == top[k] {
+				t2[c] = top[k]
+			}
+			if !(b2[c] >= bot[k]) && bot[k] == bot[k] {
+				b2[c] = bot[k]
+			}
+		}
+	}
+	copy(top, t2)
+	copy(bot, b2)
+	return top, bot
+}
+
+// clipLimits gives, per column of the band b, the open interval (lo, hi)
+// of y a row may use: below the row above's lowest path point (prevBot)
+// and above the row below's highest one (nextTop), each by margin px; ±Inf
+// where the neighbour is nil or has no path.
+func clipLimits(prevBot, nextTop []float32, b image.Rectangle, x0 int, margin float64) (lo, hi []float64) {
+	lo, hi = make([]float64, b.Dx()), make([]float64, b.Dx())
+	for c := range lo {
+		lo[c], hi[c] = math.Inf(-1), math.Inf(1)
+		x := b.Min.X + c - x0
+		if x >= 0 && x < len(prevBot) {
+			if v := prevBot[x]; v == v {
+				lo[c] = float64(v) + margin
+			}
+		}
+		if x >= 0 && x < len(nextTop) {
+			if v := nextTop[x]; v == v {
+				hi[c] = float64(v) - margin
+			}
+		}
+	}
+	return lo, hi
+}
+
+// clipBand copies the band b of ink into buf (reallocated when too
+// small; its Rect is b) with every pixel outside (lo[c], hi[c]) of its
+// column c cleared.
+func clipBand(buf *image.Gray, ink *image.Gray, b image.Rectangle, lo, hi []float64) *image.Gray {
+	w, h := b.Dx(), b.Dy()
+	if buf == nil || cap(buf.Pix) < w*h {
+		buf = &image.Gray{Pix: make([]uint8, w*h)}
+	}
+	buf.Pix, buf.Stride, buf.Rect = buf.Pix[:w*h], w, b
+	for y := 0; y < h; y++ {
+		src := ink.Pix[(b.Min.Y+y-ink.Rect.Min.Y)*ink.Stride+(b.Min.X-ink.Rect.Min.X):]
+		dst := buf.Pix[y*w : (y+1)*w]
+		fy := float64(b.Min.Y + y)
+		for c := 0; c < w; c++ {
+			if fy <= lo[c] || fy >= hi[c] {
+				dst[c] = 0
+			} else {
+				dst[c] = src[c]
+			}
+		}
+	}
+	return buf
+}
+
+// runCover is the number of pixels, over the columns of b, in the union of
+// the ink runs on the paths of either row (u above, l below).
+func (s *separator) runCover(b image.Rectangle, u, l []panelJob) float64 {
+	n := b.Dx()
+	ext := func(js []panelJob) ([]float32, []float32) {
+		t, bo := make([]float32, n), make([]float32, n)
+		nan := float32(math.NaN())
+		for i := range t {
+			t[i], bo[i] = nan, nan
+		}
+		for _, j := range js {
+			for c := range j.pr.runTop {
+				if x := j.bounds.Min.X + c - b.Min.X; x >= 0 && x < n {
+					t[x], bo[x] = j.pr.runTop[c], j.pr.runBot[c]
+				}
+			}
+		}
+		return t, bo
+	}
+	ut, ub := ext(u)
+	lt, lb := ext(l)
+	sum := 0.0
+	for c := 0; c < n; c++ {
+		t, bo, p, q := ut[c], ub[c], lt[c], lb[c]
+		switch {
+		case t != t && p != p:
+		case t != t:
+			sum += float64(q - p + 1)
+		case p != p:
+			sum += float64(bo - t + 1)
+		default:
+			sum += float64(bo-t+1) + float64(q-p+1)
+			if ov := min(bo, q) - max(t, p) + 1; ov > 0 {
+				sum -= float64(ov)
+			}
+		}
+	}
+	return sum
+}

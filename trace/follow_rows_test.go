@@ -1,0 +1,72 @@
+package trace
+
+import (
+	"image"
+	"math"
+	"testing"
+)
+
+// twoRowJobs follows the two rows of m (baselines b0 < b1, px, 10 px/mm)
+// as Extract's first pass does: one panel per row, bands reaching 1.5 row
+// pitches towards the other row.
+func twoRowJobs(m *image.Gray, b0, b1 float64) [][]panelJob {
+	pitch := b1 - b0
+	var cr columnRuns
+	var pj [][]panelJob
+	for ri, b := range []float64{b0, b1} {
+		up, down := 1.5*pitch, 1.5*pitch
+		upLim, downLim := math.Inf(1), 0.5*pitch
+		if ri == 1 {
+			upLim, downLim = 0.5*pitch, math.Inf(1)
+		}
+		j := panelJob{bounds: image.Rect(0, int(b-up), m.Rect.Dx(), int(b+down)).Intersect(m.Rect), base: b, upLim: upLim, downLim: downLim, maxLen: 60}
+		cr.scan(m, j.bounds)
+		j.follow(&cr, 10)
+		pj = append(pj, []panelJob{j})
+	}
+	return pj
+}
+
+// TestSeparateRowsSharedColumns draws two rows 20 mm apart whose R waves
+// share image columns (20 mm/mV pages print them so): the upper row's R
+// reaches 16 mm up, the lower row's R 25 mm up, past the upper row's
+// baseline, so that the strokes merge into single runs where they overlap.
+// Following the upper row alone, the path has two ink-continuous ways up:
+// its own apex and the lower row's apex lying within its band. After
+// separateRows the upper row must reach its own apex within 2 px (pen
+// radius 1.5 px); the lower row must not take the upper row's apex (its
+// path may not rise more than 1 mm above its own apex) nor lose more of
+// its own than on the first pass. (Where the lower apex lies inside the
+// upper spike's strokes, the ink holds no trace of it: its path stops
+// where the strokes merge.)
+func TestSeparateRowsSharedColumns(t *testing.T) {
+	const b0, b1 = 200.0, 400.0
+	tests := []struct {
+		name         string
+		own, other   []Point
+		apex0, apex1 float64 // drawn apexes of the upper and lower rows
+	}{
+		{"R waves in step", []Point{{0, b0}, {96, b0}, {100, 40}, {104, b0}, {107, 260}, {110, b0}, {300, b0}},
+			[]Point{{0, b1}, {97, b1}, {101, 150}, {105, b1}, {300, b1}}, 40, 150},
+		{"lower R a little later", []Point{{0, b0}, {96, b0}, {100, 40}, {104, b0}, {107, 260}, {110, b0}, {300, b0}},
+			[]Point{{0, b1}, {98, b1}, {102, 150}, {106, b1}, {300, b1}}, 40, 150},
+	}
+	for _, tc := range tests {
+		t.Run(tc.name, func(t *testing.T) {
+			m := image.NewGray(image.Rect(0, 0, 300, 700))
+			stroke(m, tc.own, 1.5)
+			stroke(m, tc.other, 1.5)
+			pj := twoRowJobs(m, b0, b1)
+			first1 := minY(pj[1][0].pr.points, 90, 115)
+			t.Logf("first pass: upper apex %.1f, lower apex %.1f", minY(pj[0][0].pr.points, 90, 115), first1)
+			var cr columnRuns
+			separateRows(m, pj, &cr, 10)
+			if got := minY(pj[0][0].pr.points, 90, 115); math.Abs(got-tc.apex0) > 2 {
+				t.Errorf("upper row's apex at y %.1f, drawn at %g", got, tc.apex0)
+			}
+			if got := minY(pj[1][0].pr.points, 90, 115); got < tc.apex1-10 || got > math.Max(first1, tc.apex1)+0.5 {
+				t.Errorf("lower row's apex at y %.1f, drawn at %g (first pass %.1f)", got, tc.apex1, first1)
+			}
+		})
+	}
+}
