@@ -172,6 +172,20 @@ func findRows(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse) []rowI
 	// A row without a pulse that never leaves its line is the edge of
 	// the sheet (a photo's desk), a rule or grid dashes, not a trace.
 	rows = dropFlatRows(ink, rows, pxX, pxY)
+	// Fewer than half of the rows with a pulse of their own: the pulses
+	// may be taller than the row pitch and overlap.
+	if k := countPulseMM(rows); 2*k < len(rows) && findStackedPulses(ink, rows, cal) {
+		// The stack spans the trace rows: a row above or below it
+		// without a pulse is header or footer text crossed by tall
+		// complexes.
+		lo, hi := len(rows), -1
+		for i, r := range rows {
+			if r.hasPulse {
+				lo, hi = min(lo, i), max(hi, i)
+			}
+		}
+		rows = rows[lo : hi+1]
+	}
 	// When most rows start with a calibration pulse, rows without one are
 	// header or footer text, or stray marks.
 	np := 0

@@ -1,0 +1,213 @@
+package trace
+
+import (
+	"image"
+	"math"
+	"sort"
+
+	"tracelift/grid"
+)
+
+// Calibration pulses taller than the row pitch (20 mm/mV on a 12 × 1
+// page, rows ≈ 14 mm apart) overlap: the pulses of all rows are printed
+// at the same x, so their rising and falling strokes merge into two long
+// vertical lines down the page, crossed by the flat tops, and no stroke
+// ends on its own row's baseline for findPulse to see. Each row's pulse
+// is still a rectangle: both lines cover the row from its baseline up to
+// its top, and its flat top joins them there. findStackedPulses tests
+// the printed gains 5, 10 and 20 mm/mV (standards.md §1.1) against that
+// picture; a wrong gain predicts a top where another row's top or none
+// lies, and at least one row (the top or the bottom one) then has no top
+// where it should.
+
+// stackedGainsMM are the pulse heights tried, mm (1 mV at the printed
+// gains 5, 10 and 20 mm/mV, standards.md §1.1).
+var stackedGainsMM = [...]float64{5, 10, 20}
+
+// colCover is the fraction of the pixels of column x between rows y0 and
+// y1 (inclusive) that are ink, taking the best of columns x−1, x, x+1 on
+// each row (a stroke a pixel off the vertical).
+func colCover(ink *image.Gray, x, y0, y1 int) float64 {
+	b := ink.Rect
+	y0, y1 = max(y0, b.Min.Y), min(y1, b.Max.Y-1)
+	if y0 > y1 || x-1 < b.Min.X || x+1 >= b.Max.X {
+		return 0
+	}
+	n := 0
+	for y := y0; y <= y1; y++ {
+		o := (y-b.Min.Y)*ink.Stride + (x - b.Min.X)
+		if ink.Pix[o-1] >= inkThreshold || ink.Pix[o] >= inkThreshold || ink.Pix[o+1] >= inkThreshold {
+			n++
+		}
+	}
+	return float64(n) / float64(y1-y0+1)
+}
+
+// flatTop returns the y of a horizontal line of ink across columns
+// [x0, x1] within tol px of y, the ink-weighted centre of the line's
+// rows, and whether one is there: each of at least 80 % of the columns
+// holds ink within tol of y.
+func flatTop(ink *image.Gray, x0, x1 int, y, tol float64) (float64, bool) {
+	b := ink.Rect
+	ya, yb := max(int(math.Floor(y-tol)), b.Min.Y), min(int(math.Ceil(y+tol)), b.Max.Y-1)
+	x0, x1 = max(x0, b.Min.X), min(x1, b.Max.X-1)
+	if ya > yb || x0 > x1 {
+		return 0, false
+	}
+	hit := 0
+	var sw, swy float64
+	for x := x0; x <= x1; x++ {
+		any := false
+		for yy := ya; yy <= yb; yy++ {
+			v := ink.Pix[(yy-b.Min.Y)*ink.Stride+(x-b.Min.X)]
+			if v >= inkThreshold {
+				any = true
+				sw += float64(v)
+				swy += float64(v) * float64(yy)
+			}
+		}
+		if any {
+			hit++
+		}
+	}
+	if float64(hit) < 0.8*float64(x1-x0+1) || sw == 0 {
+		return 0, false
+	}
+	return swy / sw, true
+}
+
+// pulseEdge is a run of adjacent image columns, [x0, x1].
+type pulseEdge struct{ x0, x1 int }
+
+func (s pulseEdge) centre() float64 { return float64(s.x0+s.x1) / 2 }
+
+// findStackedPulses looks for overlapping calibration pulses at the left
+// end of the rows (see above) and, when at least three quarters of the
+// rows (and three or more) show a complete rectangle at one printed gain,
+// gives those rows that pulse: 0 mV at the foot beside the falling
+// stroke (the row's baseline when the foot is not found), the height and
+// the trace start pulseTailMM after the falling stroke. It replaces what
+// findPulse and attachPulse found on those rows (a tangle of strokes
+// there looks like short pulses) and returns whether it did.
+func findStackedPulses(ink *image.Gray, rows []rowInfo, cal grid.Calibration) bool {
+	n := len(rows)
+	if n < 3 {
+		return false
+	}
+	pxX, pxY := cal.PxPerMMX.V, cal.PxPerMMY.V
+	x0s := make([]int, 0, n)
+	for _, r := range rows {
+		x0s = append(x0s, r.x0)
+	}
+	sort.Ints(x0s)
+	xa := max(ink.Rect.Min.X+1, x0s[0]-int(14*pxX))
+	xb := min(ink.Rect.Max.X-1, x0s[n/2]+int(25*pxX))
+	// Stacked pulse strokes cover the 3 mm above every row's baseline:
+	// candidate strokes are the columns that do so on at least three
+	// quarters of the rows.
+	var strokes []pulseEdge
+	in := false
+	for x := xa; x < xb; x++ {
+		k := 0
+		for _, r := range rows {
+			if colCover(ink, x, int(r.baseY-3*pxY), int(r.baseY)) >= 0.9 {
+				k++
+			}
+		}
+		ok := 4*k >= 3*n
+		switch {
+		case ok && !in:
+			strokes = append(strokes, pulseEdge{x, x})
+			in = true
+		case ok:
+			strokes[len(strokes)-1].x1 = x
+		default:
+			in = false
+		}
+	}
+	type fit struct {
+		rise, fall pulseEdge
+		hMM        float64
+		tops       []float64 // y of each row's top, NaN where missing
+		count      int
+	}
+	var best fit
+	tol := 0.5 * pxY
+	for i, s1 := range strokes {
+		for _, s2 := range strokes[i+1:] {
+			d := (s2.centre() - s1.centre()) / pxX
+			if d < 3 || d > 12 {
+				continue
+			}
+			for _, h := range stackedGainsMM {
+				f := fit{rise: s1, fall: s2, hMM: h, tops: make([]float64, n)}
+				for ri, r := range rows {
+					f.tops[ri] = math.NaN()
+					yt := r.baseY - h*pxY
+					if colCover(ink, int(s1.centre()), int(yt), int(r.baseY)) < 0.9 || colCover(ink, int(s2.centre()), int(yt), int(r.baseY)) < 0.9 {
+						continue
+					}
+					if y, ok := flatTop(ink, s1.x1+2, s2.x0-2, yt, tol); ok {
+						f.tops[ri] = y
+						f.count++
+					}
+				}
+				if f.count > best.count {
+					best = f
+				}
+			}
+		}
+	}
+	if best.count < 3 || 4*best.count < 3*n {
+		return false
+	}
+	for ri := range rows {
+		r := &rows[ri]
+		if math.IsNaN(best.tops[ri]) {
+			continue
+		}
+		// The foot: the thin line beside the falling stroke, within
+		// 1.5 mm of the baseline.
+		foot := math.NaN()
+		fx0, fx1 := best.fall.x1+2, best.fall.x1+int(pulseTailMM*pxX)
+		if fx1 > fx0 {
+			c := make([]float64, fx1-fx0)
+			inkCentres(c, ink, fx0, int(r.baseY-1.5*pxY), int(r.baseY+1.5*pxY), r.baseY)
+			var ys []float64
+			for _, v := range c {
+				if !math.IsNaN(v) {
+					ys = append(ys, v)
+				}
+			}
+			if 2*len(ys) >= len(c) {
+				sort.Float64s(ys)
+				foot = r.baseY + ys[len(ys)/2]
+			}
+		}
+		r.hasPulse = true
+		r.zeroY = foot
+		base := foot
+		if math.IsNaN(base) {
+			base = r.baseY
+		}
+		r.pulseMM = (base - best.tops[ri]) / pxY
+		if math.Abs(r.pulseMM-best.hMM) > 0.1*best.hMM {
+			r.pulseMM = best.hMM
+		}
+		r.traceX0 = best.fall.centre() + pulseTailMM*pxX
+		r.x0 = min(r.x0, best.rise.x0)
+	}
+	return true
+}
+
+// countPulseMM is the number of rows whose own pulse was measured
+// (pulseMM > 0).
+func countPulseMM(rows []rowInfo) int {
+	k := 0
+	for _, r := range rows {
+		if r.pulseMM > 0 {
+			k++
+		}
+	}
+	return k
+}
