@@ -23,6 +23,14 @@
 //     a 180° turn is traced turned (paths are returned in the input's
 //     coordinates). The first trace column starts 2 mm after the pulse's
 //     falling edge unless the printed column separators say otherwise.
+//     Pulses taller than the row pitch (20 mm/mV on 12 × 1) overlap into
+//     two vertical lines down the page; the printed gains 5, 10 and 20
+//     mm/mV are then tested for a full rectangle (both lines and a flat
+//     top) on every row, and the gain that fits the most rows is read.
+//   - Row checks: a row without a pulse must span the pulse rows' stretch,
+//     must leave its line (a trace's complexes; the edge of a photographed
+//     sheet over the desk does not) and must not sit between two rows at
+//     under 0.6 of the row pitch (a tangle of tall complexes).
 //   - Layout: the number of rows and the printed column separators (tall
 //     isolated strokes at 1/4, 1/2, 3/4 of the row) choose among 3 × 4 with
 //     0, 1 or 3 rhythm strips, 6 × 2, 12 × 1 and a single lead printed as
