@@ -124,6 +124,10 @@ type followParams struct {
 	maxStates int     // runs kept per column (nearest the baseline)
 	carries   int     // gap states carried from one column to the next
 	inkReward float64 // reward per px of ink on the path, in mm of jump per px
+	// A thin run (a flat stretch of trace) lying more than farUp px above
+	// or farDown px below the baseline costs farCost more per column: it is
+	// a neighbouring row's trace (0 or +Inf: no limit).
+	farUp, farDown, farCost float64
 }
 
 // defaultFollow gives the path finder's parameters. The gap cost is
@@ -136,8 +140,11 @@ type followParams struct {
 // 0.05 instead of 0.03; 0.09 scored lower; the other conditions within
 // 0.1 dB).
 func defaultFollow(pxPerMM, baseline float64) followParams {
-	return followParams{pxPerMM: pxPerMM, baseline: baseline, gapCost: 0.4, basePerMM: 0.01, maxStates: 24, carries: 3, inkReward: 0.05}
+	return followParams{pxPerMM: pxPerMM, baseline: baseline, gapCost: 0.4, basePerMM: 0.01, maxStates: 24, carries: 3, inkReward: 0.05, farUp: math.Inf(1), farDown: math.Inf(1), farCost: farThinCost}
 }
+
+// farThinCost is followParams.farCost.
+const farThinCost = 0.2
 
 // state is one node of the trellis: a run of column c or a gap state
 // carrying the last interval across a column without ink on the path.
@@ -176,6 +183,7 @@ func follow(cr *columnRuns, p followParams) pathResult {
 	pen := penWidth(cr)
 	res.penPx = pen
 	jumpW := 1 / p.pxPerMM // cost per px of jump
+	thinFar := 1.6*pen + 1
 	baseW := p.basePerMM / p.pxPerMM
 	inkW := p.inkReward / p.pxPerMM
 	states := make([]state, 0, W*6)
@@ -204,6 +212,9 @@ func follow(cr *columnRuns, p followParams) pathResult {
 			// climb to the apex of a spike whose two strokes are separate
 			// runs lower down, instead of crossing from one to the other.
 			unary := float32(baseW*distToBase(r, p.baseline) - inkW*math.Max(0, float64(r.bot-r.top+1)-2*pen))
+			if float64(r.bot-r.top+1) <= thinFar && (float64(r.bot) < p.baseline-p.farUp || float64(r.top) > p.baseline+p.farDown) {
+				unary += float32(p.farCost)
+			}
 			if c == 0 {
 				s.cost = unary
 				s.yIn = clampf(float32(p.baseline), s.top, s.bot)

@@ -18,7 +18,9 @@ type panelJob struct {
 // follow follows the runs of cr (scanned from the job's band) and drops
 // the path's long excursions towards the neighbouring rows.
 func (j *panelJob) follow(cr *columnRuns, pxY float64) {
-	j.pr = follow(cr, defaultFollow(pxY, j.base))
+	fp := defaultFollow(pxY, j.base)
+	fp.farUp, fp.farDown = j.upLim, j.downLim
+	j.pr = follow(cr, fp)
 	j.pr.points, j.pr.onInk = dropExcursions(j.pr.points, j.pr.onInk, j.base, j.upLim, j.downLim, j.maxLen)
 }
 

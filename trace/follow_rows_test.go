@@ -70,3 +70,45 @@ func TestSeparateRowsSharedColumns(t *testing.T) {
 		})
 	}
 }
+
+// TestFollowBrokenTraceBesideNeighbour draws what a binarised fax makes of
+// a low-amplitude row: its flat stretches lost, only short dashes and the
+// QRS strokes left (5 px of ink every 30 px: the fax corpus's "lead II: no
+// trace found" pages), with the next row's trace continuous 20 mm below.
+// With the baseline pull alone (0.01 per mm and column) the neighbour's
+// line costs 0.2 a column against 0.4 for a column of gap, and the path
+// takes it. Beyond half-way to the neighbouring row a flat stretch costs
+// farCost a column more, so the path bridges its own row's breaks.
+func TestFollowBrokenTraceBesideNeighbour(t *testing.T) {
+	const base, next = 200.0, 400.0
+	m := image.NewGray(image.Rect(0, 0, 400, 600))
+	for x := 0.0; x < 400; x += 30 {
+		stroke(m, []Point{{x, base}, {x + 2, base}}, 1.5)
+	}
+	stroke(m, []Point{{0, next}, {400, next}}, 1.5)
+	var cr columnRuns
+	cr.scan(m, image.Rect(0, 0, 400, 600))
+	fp := defaultFollow(10, base)
+	pr := follow(&cr, fp)
+	if n := near(pr.points, next, 10); n == 0 {
+		t.Errorf("without the far cost the path kept off the neighbour's line: the page does not show the case")
+	}
+	fp.farUp, fp.farDown = 100, 100 // half the row pitch
+	pr = follow(&cr, fp)
+	if n := near(pr.points, next, 10); n > 0 {
+		t.Errorf("%d points on the neighbouring row's line", n)
+	}
+	if n := near(pr.points, base, 3); n < 60 {
+		t.Errorf("%d points on the row's own dashes (5 px in every 30 of 400), want ≥ 60", n)
+	}
+}
+
+func near(pts []Point, y, tol float64) int {
+	n := 0
+	for _, p := range pts {
+		if math.Abs(p.Y-y) <= tol {
+			n++
+		}
+	}
+	return n
+}
