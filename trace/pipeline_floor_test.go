@@ -65,8 +65,19 @@ func TestPipelineFloors(t *testing.T) {
 // 15.7 dB on this page (before rows broken into islands were read, it
 // gave one lead of twelve); the fax corpus median over nine pages (3x4+1,
 // 3x4, 6x2; seeds 1–3) was 10.1 dB with 88 % of the leads found.
+//
+// The 3x4+3 page (seed 3) lost lead II in both its printed places ("no
+// trace found"): the binarised trace kept only dashes and QRS strokes and
+// its path ran along the next row's unbroken line, then was dropped as an
+// excursion. With the far-from-baseline cost for flat stretches
+// (followParams.farCost) all twelve leads are found; measured 17.2 dB.
 func TestFaxFloor(t *testing.T) {
-	checkPageFloor(t, accuracy.Case{Condition: "fax", Layout: "3x4", Seed: 2}, 14)
+	t.Run("3x4 seed 2", func(t *testing.T) {
+		checkPageFloor(t, accuracy.Case{Condition: "fax", Layout: "3x4", Seed: 2}, 14)
+	})
+	t.Run("3x4+3 seed 3", func(t *testing.T) {
+		checkPageFloor(t, accuracy.Case{Condition: "fax", Layout: "3x4+3", Seed: 3}, 12)
+	})
 }
 
 // checkPageFloor digitises one seeded page through the whole front end
@@ -103,8 +114,22 @@ func checkPageFloor(t *testing.T, c accuracy.Case, floorDB float64) {
 // 6x2, cabrera-3x4; seeds 1–2) is 14.8 dB with 7 swaps (8.2 dB and 10
 // swaps before), the 3x4+3 and 6x2 pages still lose or swap complexes:
 // see doc.go, Known limits.
+//
+// Seed 3 returned aVL matching V2's truth better than its own (its path
+// took the QRS of a neighbouring row in columns where its own R wave
+// stood); after separateRows no lead is swapped, measured 16.0 dB. The
+// 6x2 page (seed 2) keeps every lead under its own name, measured 11.3 dB.
 func TestOverlapFloor(t *testing.T) {
-	checkPageFloor(t, accuracy.Case{Condition: "overlap", Layout: "3x4", Seed: 2}, 16)
+	for _, tc := range []struct {
+		c     accuracy.Case
+		floor float64
+	}{
+		{accuracy.Case{Condition: "overlap", Layout: "3x4", Seed: 2}, 16},
+		{accuracy.Case{Condition: "overlap", Layout: "3x4", Seed: 3}, 14},
+		{accuracy.Case{Condition: "overlap", Layout: "6x2", Seed: 2}, 10},
+	} {
+		t.Run(tc.c.Name(), func(t *testing.T) { checkPageFloor(t, tc.c, tc.floor) })
+	}
 }
 
 // TestRealRecords prints open PhysioNet records (PTB Diagnostic
