@@ -408,7 +408,7 @@ func printPageSummary(w io.Writer, p pageOutcome) {
 	}
 	if g := r.Grid; g != nil {
 		c := g.Calibration
-		fmt.Fprintf(w, "  calibration %.3f × %.3f px/mm (%s), %g mm/s (%s), %g mm/mV (%s), layout %s\n",
+		fmt.Fprintf(w, "  calibration %.3f × %.3f px/mm (%s), %.4g mm/s (%s), %.4g mm/mV (%s), layout %s\n",
 			c.PxPerMMX.V, c.PxPerMMY.V, c.PxPerMMX.Origin, c.SpeedMMPerS.V, c.SpeedMMPerS.Origin,
 			c.GainMMPerMV.V, c.GainMMPerMV.Origin, layoutName(&r.Trace.Layout))
 	}

@@ -180,7 +180,7 @@ func overlaySegments(r *pipeline.Result) []overlay.Segment {
 func overlayOptions(rec ecg.Record, r *pipeline.Result) *overlay.Options {
 	c := "tracelift " + Version + " — " + rec.Meta.Source
 	if g := r.Grid; g != nil {
-		c += fmt.Sprintf(" — %.2f px/mm (%s), %g mm/s, %g mm/mV", g.Calibration.PxPerMMX.V, g.Calibration.PxPerMMX.Origin,
+		c += fmt.Sprintf(" — %.2f px/mm (%s), %.4g mm/s, %.4g mm/mV", g.Calibration.PxPerMMX.V, g.Calibration.PxPerMMX.Origin,
 			g.Calibration.SpeedMMPerS.V, g.Calibration.GainMMPerMV.V)
 	}
 	return &overlay.Options{Caption: c + " — verify against the original tracing"}
