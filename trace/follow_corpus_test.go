@@ -2,6 +2,7 @@ package trace_test
 
 import (
 	"encoding/gob"
+	"errors"
 	"fmt"
 	"image"
 	"image/png"
@@ -316,4 +317,22 @@ func drawInkOverlay(path string, ink *image.Gray, res *trace.Result, fe *frontEn
 	}
 	defer f.Close()
 	png.Encode(f, out)
+}
+
+// BenchmarkExtractOverlap times trace.Extract alone on the overlap 3x4+3
+// page of seed 1 (20 mm/mV, six rows, QRS strokes crossing the
+// neighbouring rows: the page on which separateRows re-follows most), its
+// ink map and calibration from the front end prepared outside the loop.
+func BenchmarkExtractOverlap(b *testing.B) {
+	fe, err := loadFrontEnd(b, accuracy.Case{Condition: "overlap", Layout: "3x4+3", Seed: 1}, b.TempDir())
+	if err != nil {
+		b.Fatal(err)
+	}
+	b.ReportAllocs()
+	b.ResetTimer()
+	for b.Loop() {
+		if _, err := trace.Extract(fe.ink, fe.Cal, fe.Pulses, nil); err != nil && !errors.Is(err, ecg.ErrPartial) {
+			b.Fatal(err)
+		}
+	}
 }

@@ -24,60 +24,65 @@ func (j *panelJob) follow(cr *columnRuns, pxY float64) {
 	j.pr.points, j.pr.onInk = dropExcursions(j.pr.points, j.pr.onInk, j.base, j.upLim, j.downLim, j.maxLen)
 }
 
-// separateRows re-follows panels whose path runs along a neighbouring
-// row's path. Two printed traces meet only where they cross, for a column
-// or two; where the paths of rows r and r+1 lie together for longer, one
-// of them has taken the other's complex (a tall R wave of row r+1 entering
-// row r's band, where row r's own R wave shares the columns), or both
-// stopped where their strokes merge. Then the traces keep their order on
-// the page: row r is followed again with the ink at and below row r+1's
-// path removed, or row r+1 with the ink at and above row r's path
-// removed, each alone or followed by the other row against the new path.
-// Of these pairs (and the pair as first followed) the one whose paths,
-// drawn with the pen, cover the most ink over the panel is kept: the wrong
-// pair leaves a whole stroke of the page unexplained.
+// separateRows re-follows panels whose path meets a neighbouring row's
+// path. Where the paths of rows r and r+1 meet, one of them may have taken
+// the other's complex (a tall R wave of row r+1 entering row r's band,
+// where row r's own R wave shares the columns), or both stopped where
+// their strokes merge into single runs. The traces keep their order on the
+// page almost everywhere, so two pairs are tried: row r followed again
+// with the ink at and below row r+1's paths removed, and row r+1 with the
+// ink at and above row r's paths removed. Of these and the pair as first
+// followed, the one whose paths' ink runs cover the most pixels over the
+// panel is kept (a new pair only when it covers minCoverGain more): the
+// wrong pair leaves a whole stroke of the page unexplained.
 func separateRows(ink *image.Gray, pj [][]panelJob, cr *columnRuns, pxY float64) {
 	if len(pj) < 2 {
 		return
 	}
 	s := separator{ink: ink, cr: cr, pxY: pxY, x0: ink.Rect.Min.X, W: ink.Rect.Dx(), margin: math.Max(2, maxPenRadiusMM*pxY)}
 	tol := math.Max(2, 0.5*pxY)
-	minLen := 1
+	minLen := 1 // contact in one column: merged strokes touch only there
 	var et, eb, ft, fb []float32
 	for r := 0; r+1 < len(pj); r++ {
+		et, eb = rowExtent(pj[r], s.x0, s.W, 0, et, eb)
+		ft, fb = rowExtent(pj[r+1], s.x0, s.W, 0, ft, fb)
+		// The lower row's panels re-followed against the upper row as it
+		// stands (computed when first needed, dropped when the upper row
+		// changes).
+		memo := map[int]panelJob{}
 		for ci := range pj[r] {
 			P := pj[r][ci]
-			if P.bounds.Empty() {
+			if P.bounds.Empty() || !coincident(et, eb, ft, fb, P.bounds.Min.X-s.x0, P.bounds.Max.X-s.x0, tol, minLen) {
 				continue
 			}
-			et, eb = rowExtent(pj[r], s.x0, s.W, 0, et, eb)
-			ft, fb = rowExtent(pj[r+1], s.x0, s.W, 0, ft, fb)
-			if !coincident(et, eb, ft, fb, P.bounds.Min.X-s.x0, P.bounds.Max.X-s.x0, tol, minLen) {
-				continue
-			}
-			upper := []panelJob{P}
-			lower := s.sharing(pj[r+1], P.bounds)
-			type pair struct{ u, l []panelJob }
-			b := s.below(upper, lower)
-			a := s.above(lower, upper)
-			cands := []pair{{b, lower}, {upper, a}, {b, s.above(lower, b)}, {s.below(upper, a), a}}
-			old := s.runCover(P.bounds, upper, lower)
-			best, bestCov := -1, old*(1+minCoverGain)
-			for k, c := range cands {
-				if v := s.runCover(P.bounds, c.u, c.l); v > bestCov {
-					best, bestCov = k, v
+			var qi []int
+			var lower, a []panelJob
+			for k, q := range pj[r+1] {
+				if q.bounds.Empty() || q.bounds.Max.X <= P.bounds.Min.X || q.bounds.Min.X >= P.bounds.Max.X {
+					continue
 				}
-			}
-			if best < 0 {
-				continue
-			}
-			pj[r][ci] = cands[best].u[0]
-			for _, q := range cands[best].l {
-				for qi := range pj[r+1] {
-					if pj[r+1][qi].bounds == q.bounds {
-						pj[r+1][qi] = q
-					}
+				m, ok := memo[k]
+				if !ok {
+					m = s.above([]panelJob{q}, pj[r])[0]
+					memo[k] = m
 				}
+				qi, lower, a = append(qi, k), append(lower, q), append(a, m)
+			}
+			b := s.below([]panelJob{P}, lower)[0]
+			old := s.runCover(P.bounds, []panelJob{P}, lower)
+			need := old * (1 + minCoverGain)
+			covB := s.runCover(P.bounds, []panelJob{b}, lower)
+			covA := s.runCover(P.bounds, []panelJob{P}, a)
+			switch {
+			case covB > need && covB >= covA:
+				pj[r][ci] = b
+				et, eb = rowExtent(pj[r], s.x0, s.W, 0, et, eb)
+				clear(memo)
+			case covA > need:
+				for k, i := range qi {
+					pj[r+1][i] = a[k]
+				}
+				ft, fb = rowExtent(pj[r+1], s.x0, s.W, 0, ft, fb)
 			}
 		}
 	}
@@ -132,45 +137,6 @@ func (s *separator) refollow(js, nb []panelJob, fromAbove bool) []panelJob {
 		out[k].follow(s.cr, s.pxY)
 	}
 	return out
-}
-
-// cover counts the ink pixels in the columns of b that lie within margin
-// px of the paths of either row (u above, l below), each path swept
-// between its consecutive points.
-func (s *separator) cover(b image.Rectangle, u, l []panelJob) float64 {
-	ut, ub := rowExtent(u, s.x0, s.W, 0, nil, nil)
-	lt, lb := rowExtent(l, s.x0, s.W, 0, nil, nil)
-	m := float32(s.margin)
-	y0, y1 := float32(s.ink.Rect.Min.Y), float32(s.ink.Rect.Max.Y-1)
-	n := 0
-	for x := b.Min.X; x < b.Max.X; x++ {
-		c := x - s.x0
-		if c < 0 || c >= s.W {
-			continue
-		}
-		var iv [2][2]float32
-		k := 0
-		for _, e := range [2][2]float32{{ut[c], ub[c]}, {lt[c], lb[c]}} {
-			if e[0] == e[0] {
-				iv[k] = [2]float32{max(e[0]-m, y0), min(e[1]+m, y1)}
-				k++
-			}
-		}
-		if k == 2 && iv[1][0] < iv[0][0] {
-			iv[0], iv[1] = iv[1], iv[0]
-		}
-		if k == 2 && iv[1][0] <= iv[0][1] {
-			iv[0][1], k = max(iv[0][1], iv[1][1]), 1
-		}
-		for _, v := range iv[:k] {
-			for y := int(math.Ceil(float64(v[0]))); y <= int(v[1]); y++ {
-				if s.ink.Pix[(y-s.ink.Rect.Min.Y)*s.ink.Stride+c] >= inkThreshold {
-					n++
-				}
-			}
-		}
-	}
-	return float64(n)
 }
 
 // coincident reports whether two rows' path extents (per column, px)
