@@ -44,8 +44,15 @@
 //     cubic polynomial residual field by least squares with iterated
 //     rejection beyond 3.5 robust standard deviations (1.4826 × median
 //     absolute residual; Rousseeuw & Leroy, Robust Regression and Outlier
-//     Detection, Wiley 1987, from memory). A fit whose rms exceeds a
-//     twelfth of a period is refused and the coarse page kept. The page
+//     Detection, Wiley 1987, from memory). The fit is then refined on
+//     the 1 mm lines: at every major-line crossing the phase of the minor
+//     period, measured in a window seen through the fit's local affine
+//     map, gives the node's offset modulo 1 mm; the offsets are unwrapped
+//     from node to node (the same quality-guided scheme; two-frequency
+//     phase reading is common practice in fringe analysis), which mends
+//     regions the first fit numbered a period off, and the map is
+//     refitted to the nodes. A fit whose rms exceeds a twelfth of a
+//     period is refused and the coarse page kept. The page
 //     is resampled once through a Mesh (nodes every 16 px, bilinear
 //     between them), kept in Page.Mesh; Page.SourcePoint maps upright px
 //     to input px through it;

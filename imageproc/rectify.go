@@ -29,7 +29,19 @@ import (
 //     homography (normalised DLT, EstimateHomography) and a cubic
 //     polynomial residual field, by least squares with outlier rejection
 //     (3.5 robust standard deviations, iterated), the field clamped to the
-//     tie points' hull so that it cannot run away where no grid was seen.
+//     tie points' hull so that it cannot run away where no grid was seen;
+//   - that first fit is refined on the 1 mm lines (refineLattice): at
+//     every lattice node (each crossing of major lines) a window one major
+//     period across, seen through the fit's local affine approximation, is
+//     projected on the lattice axes, and the phase of the minor (S/5)
+//     period gives the node's offset from the prediction, modulo 1 mm.
+//     The offsets are unwrapped from node to node (quality-guided, as
+//     above), so a region the first fit numbered a period off is mended
+//     rather than fitted around, and the map is refitted to the nodes
+//     (the phase read at five times the frequency, so a fifth of the
+//     position error). Where the minor lines are too faint the major
+//     period is used the same way; the tightest fit whose ties cover at
+//     least 80 % of the first fit's is kept.
 //
 // The result maps the registered page's pixels (a square lattice at one
 // px/mm on both axes) to the coarse page's pixels.
@@ -146,10 +158,17 @@ func registerLattice(grd *image.Gray) (*latticeMap, bool) {
 	var m *latticeMap
 	for _, frac := range []float64{0.35, 0.5, 0.65} {
 		mm, ok := fitTiles(tiles, nx, ny, step, mx, my, S, frac)
-		if ok && (m == nil || mm.rms < m.rms) {
+		// A first fit this loose has not found the lattice; a tighter
+		// one is refined on the node windows (refine.go), which mends
+		// misnumbered regions.
+		if !ok || mm.rms > S/4 {
+			continue
+		}
+		mm = refineLattice(grd, mm, S)
+		if m == nil || mm.rms < m.rms {
 			m = mm
 		}
-		if m != nil && m.rms <= max(3, S/12) {
+		if m.rms <= max(1.5, S/40) {
 			break
 		}
 	}
@@ -668,4 +687,324 @@ func fitLattice(lat, pg []Point, S float64) (*latticeMap, bool) {
 		}
 	}
 	return m, true
+}
+
+// nodeOffset is one lattice node's measured offset.
+type nodeOffset struct {
+	jx, jy int           // major-line indices of the node
+	c      Point         // predicted coarse px
+	a      [4]float64    // local Jacobian d(u, v)/d(X, Y): a[0] du/dX, a[1] du/dY, a[2] dv/dX, a[3] dv/dY
+	d      [2][2]float64 // [minor, major] line offsets (lattice px, modulo S/5 or S) along X and Y
+	q      [2][2]float64 // their phase quality
+	ok     bool
+}
+
+// nodeGrid is the refined nodes, indexed from (jx0, jy0).
+type nodeGrid struct {
+	jx0, jy0, nx, ny int
+	n                []nodeOffset
+}
+
+// refineTies measures every lattice node (each major line crossing, one
+// period S apart) whose window (S across, five minor periods) falls on
+// the map: the grid seen through the local affine approximation of m
+// around the node (coarse px → lattice offset, each pixel binned once,
+// Hann-weighted across) is projected on the lattice axes, and the phase
+// of the minor (S/5) and of the major (S) period in those profiles give
+// the node's offset from the prediction modulo either period. The whole
+// numbers of periods are left to unwrapOffsets.
+func refineTies(grd *image.Gray, m *latticeMap, S float64) *nodeGrid {
+	w, h := grd.Rect.Dx(), grd.Rect.Dy()
+	inv, ok := Invert(m.h)
+	if !ok {
+		return nil
+	}
+	lo := Point{math.Inf(1), math.Inf(1)}
+	hi := Point{math.Inf(-1), math.Inf(-1)}
+	for _, c := range [4]Point{{0, 0}, {float64(w - 1), 0}, {0, float64(h - 1)}, {float64(w - 1), float64(h - 1)}} {
+		X, Y := Apply(inv, c.X, c.Y)
+		lo.X, lo.Y = min(lo.X, X), min(lo.Y, Y)
+		hi.X, hi.Y = max(hi.X, X), max(hi.Y, Y)
+	}
+	T := S / 5
+	k := min(8, max(4, int(T/1.2))) // bins per minor period
+	bw := T / float64(k)
+	L := S / 2 // window half-width, lattice px: five minor periods across
+	nb := 5 * k
+	hw := make([]float64, nb)
+	for i := range hw {
+		hw[i] = 0.5 - 0.5*math.Cos(2*math.Pi*(float64(i)+0.5)/float64(nb))
+	}
+	colS, colW := make([]float64, nb), make([]float64, nb)
+	rowS, rowW := make([]float64, nb), make([]float64, nb)
+	prof := make([]float64, nb)
+	g := &nodeGrid{jx0: int(math.Ceil(lo.X / S)), jy0: int(math.Ceil(lo.Y / S))}
+	g.nx = int(math.Floor(hi.X/S)) - g.jx0 + 1
+	g.ny = int(math.Floor(hi.Y/S)) - g.jy0 + 1
+	if g.nx < 4 || g.ny < 4 || g.nx*g.ny > 1<<16 {
+		return nil
+	}
+	g.n = make([]nodeOffset, g.nx*g.ny)
+	for iy := 0; iy < g.ny; iy++ {
+		for ix := 0; ix < g.nx; ix++ {
+			jx, jy := g.jx0+ix, g.jy0+iy
+			X0, Y0 := float64(jx)*S, float64(jy)*S
+			cu, cv := m.at(X0, Y0)
+			u1, v1 := m.at(X0+S/2, Y0)
+			u0, v0 := m.at(X0-S/2, Y0)
+			u3, v3 := m.at(X0, Y0+S/2)
+			u2, v2 := m.at(X0, Y0-S/2)
+			a, c := (u1-u0)/S, (v1-v0)/S // d(u, v)/dX
+			b, d := (u3-u2)/S, (v3-v2)/S // d(u, v)/dY
+			det := a*d - b*c
+			if det <= 0 {
+				continue
+			}
+			// Coarse px → lattice offset: (dX, dY) = B·(u − cu, v − cv).
+			b00, b01, b10, b11 := d/det, -b/det, -c/det, a/det
+			ru := L * (math.Abs(a) + math.Abs(b))
+			rv := L * (math.Abs(c) + math.Abs(d))
+			x0, x1 := int(math.Floor(cu-ru)), int(math.Ceil(cu+ru))
+			y0, y1 := int(math.Floor(cv-rv)), int(math.Ceil(cv+rv))
+			if x0 < 0 || y0 < 0 || x1 >= w || y1 >= h {
+				continue
+			}
+			clear(colS)
+			clear(colW)
+			clear(rowS)
+			clear(rowW)
+			// Bin coordinates (lattice offset + L, in bins) step by
+			// (e00, e10) along a row.
+			e00, e01, e10, e11 := b00/bw, b01/bw, b10/bw, b11/bw
+			fnb := float64(nb)
+			for y := y0; y <= y1; y++ {
+				dv := float64(y) - cv
+				du := float64(x0) - cu
+				fx := e00*du + e01*dv + L/bw
+				fy := e10*du + e11*dv + L/bw
+				r := grd.Pix[y*grd.Stride+x0 : y*grd.Stride+x1+1]
+				for i, pv := range r {
+					X, Y := fx+float64(i)*e00, fy+float64(i)*e10
+					if X < 0 || Y < 0 || X >= fnb || Y >= fnb {
+						continue
+					}
+					bx, by := int(X), int(Y)
+					val := float64(pv)
+					colS[bx] += val * hw[by]
+					colW[bx] += hw[by]
+					rowS[by] += val * hw[bx]
+					rowW[by] += hw[bx]
+				}
+			}
+			nd := nodeOffset{jx: jx, jy: jy, c: Point{cu, cv}, a: [4]float64{a, b, c, d}, ok: true}
+			for pi, P := range [2]float64{T, S} {
+				dx, qx, okx := linePhase(colS, colW, hw, prof, bw, L, P)
+				dy, qy, oky := linePhase(rowS, rowW, hw, prof, bw, L, P)
+				nd.ok = nd.ok && okx && oky
+				nd.d[pi] = [2]float64{dx, dy}
+				nd.q[pi] = [2]float64{qx, qy}
+			}
+			g.n[iy*g.nx+ix] = nd
+		}
+	}
+	return g
+}
+
+// linePhase returns the offset (lattice px, within ±T/2) of the line of
+// period T nearest the profile's centre, and the phase's quality.
+func linePhase(sum, wt, win, prof []float64, bw, L, T float64) (float64, float64, bool) {
+	var mean, ws float64
+	for i := range sum {
+		if wt[i] == 0 {
+			return 0, 0, false
+		}
+		prof[i] = sum[i] / wt[i]
+		mean += win[i] * prof[i]
+		ws += win[i]
+	}
+	mean /= ws
+	var re, im, tot float64
+	for i, v := range prof {
+		dv := win[i] * (v - mean)
+		a := 2 * math.Pi * ((float64(i)+0.5)*bw - L) / T
+		re += dv * math.Cos(a)
+		im += dv * math.Sin(a)
+		tot += math.Abs(dv)
+	}
+	if tot == 0 {
+		return 0, 0, false
+	}
+	return math.Atan2(im, re) / (2 * math.Pi) * T, 2 * math.Hypot(re, im) / tot, true
+}
+
+// unwrapOffsets turns the nodes' line offsets of period P (pi 0: the
+// minor lines, 1: the major lines), known modulo P, into continuous
+// offsets along axis k, from the most reliable node outwards over
+// neighbours of quality at least thr (quality-guided unwrapping, as for
+// the major-line tiles). Only the largest region so reached is kept; the
+// other nodes get NaN. The offsets are finally shifted by a whole number
+// of P so that their median is nearest zero (the model's numbering kept
+// where it holds).
+func (g *nodeGrid) unwrapOffsets(pi, k int, thr, P float64) []float64 {
+	n := len(g.n)
+	off := make([]float64, n)
+	comp := make([]int, n)
+	for i := range comp {
+		comp[i] = -1
+	}
+	q := func(i int) float64 { return g.n[i].q[pi][k] }
+	good := func(i int) bool { return g.n[i].ok && q(i) >= thr }
+	type edge struct {
+		q        float64
+		from, to int
+	}
+	var heap []edge
+	push := func(i int) {
+		ix, iy := i%g.nx, i/g.nx
+		for _, d := range [4][2]int{{1, 0}, {-1, 0}, {0, 1}, {0, -1}} {
+			x, y := ix+d[0], iy+d[1]
+			if x < 0 || y < 0 || x >= g.nx || y >= g.ny {
+				continue
+			}
+			if j := y*g.nx + x; comp[j] < 0 && good(j) {
+				heap = append(heap, edge{min(q(i), q(j)), i, j})
+			}
+		}
+	}
+	var sizes []int
+	for c := 0; ; c++ {
+		start := -1
+		for i := range g.n {
+			if comp[i] < 0 && good(i) && (start < 0 || q(i) > q(start)) {
+				start = i
+			}
+		}
+		if start < 0 {
+			break
+		}
+		off[start], comp[start] = g.n[start].d[pi][k], c
+		size := 1
+		push(start)
+		for len(heap) > 0 {
+			b := 0
+			for i := range heap {
+				if heap[i].q > heap[b].q {
+					b = i
+				}
+			}
+			e := heap[b]
+			heap[b] = heap[len(heap)-1]
+			heap = heap[:len(heap)-1]
+			if comp[e.to] >= 0 {
+				continue
+			}
+			r := (off[e.from] - g.n[e.to].d[pi][k]) / P
+			if math.Abs(r-math.Round(r)) > 0.3 {
+				continue
+			}
+			off[e.to] = g.n[e.to].d[pi][k] + P*math.Round(r)
+			comp[e.to] = c
+			size++
+			push(e.to)
+		}
+		sizes = append(sizes, size)
+	}
+	if len(sizes) == 0 {
+		return nil
+	}
+	big := 0
+	for c, sz := range sizes {
+		if sz > sizes[big] {
+			big = c
+		}
+	}
+	var vs []float64
+	for i := range off {
+		if comp[i] == big {
+			vs = append(vs, off[i])
+		} else {
+			off[i] = math.NaN()
+		}
+	}
+	slices.Sort(vs)
+	sh := P * math.Round(vs[len(vs)/2]/P)
+	for i := range off {
+		off[i] -= sh
+	}
+	return off
+}
+
+// refineLattice refits m to node ties measured through it on the minor
+// lines (twice: the second time through the first refit), or, when that
+// is not tighter than m, on the major lines. It returns the tightest of
+// the fits whose ties cover at least 80 % of m's, or m.
+func refineLattice(grd *image.Gray, m *latticeMap, S float64) *latticeMap {
+	best := m
+	for pi, P := range [2]float64{S / 5, S} {
+		cur := m
+		for pass := 0; pass < 2; pass++ {
+			g := refineTies(grd, cur, S)
+			if g == nil {
+				break
+			}
+			mm, moved := fitNodes(g, pi, P, S)
+			if mm == nil {
+				break
+			}
+			cur = mm
+			// Nodes found where the model put them (within a quarter
+			// period): its local frames were right, a second pass
+			// would measure the same.
+			if moved < P/4 {
+				break
+			}
+		}
+		if cur != m && cur.rms < best.rms && cur.ties*5 >= m.ties*4 {
+			best = cur
+		}
+		if best != m && best.rms <= S/40 {
+			break
+		}
+	}
+	return best
+}
+
+// fitNodes unwraps the nodes' offsets of period P (pi as in
+// unwrapOffsets) and fits a lattice map to the node ties; nil when too
+// few nodes are reliable. moved is the 95th percentile of the nodes'
+// offsets from the model, lattice px.
+func fitNodes(g *nodeGrid, pi int, P, S float64) (m *latticeMap, moved float64) {
+	var qs []float64
+	for _, n := range g.n {
+		if n.ok {
+			qs = append(qs, min(n.q[pi][0], n.q[pi][1]))
+		}
+	}
+	if len(qs) < 30 {
+		return nil, 0
+	}
+	slices.Sort(qs)
+	thr := max(0.1, 0.4*qs[len(qs)*9/10])
+	ox := g.unwrapOffsets(pi, 0, thr, P)
+	oy := g.unwrapOffsets(pi, 1, thr, P)
+	if ox == nil || oy == nil {
+		return nil, 0
+	}
+	var lat, pg []Point
+	var mv []float64
+	for i, n := range g.n {
+		if !n.ok || math.IsNaN(ox[i]) || math.IsNaN(oy[i]) {
+			continue
+		}
+		dx, dy := ox[i], oy[i]
+		mv = append(mv, math.Hypot(dx, dy))
+		lat = append(lat, Point{float64(n.jx) * S, float64(n.jy) * S})
+		pg = append(pg, Point{n.c.X + n.a[0]*dx + n.a[1]*dy, n.c.Y + n.a[2]*dx + n.a[3]*dy})
+	}
+	m, ok := fitLattice(lat, pg, S)
+	if !ok {
+		return nil, 0
+	}
+	slices.Sort(mv)
+	return m, mv[len(mv)*95/100]
 }

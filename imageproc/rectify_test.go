@@ -4,6 +4,7 @@ import (
 	"image"
 	"math"
 	"math/rand/v2"
+	"slices"
 	"testing"
 )
 
@@ -124,6 +125,112 @@ func TestRegisterLatticeRefuses(t *testing.T) {
 	for name, m := range map[string]*image.Gray{"noise": noise, "blank": blankMap} {
 		if _, ok := registerLattice(m); ok {
 			t.Errorf("%s: registered a lattice that is not there", name)
+		}
+	}
+}
+
+// TestRefineLatticeCorrects perturbs a registered lattice map by a smooth
+// field of up to about 3 mm (a first fit whose lines were misnumbered over
+// part of the page looks like this) and checks that the refinement on the
+// 1 mm lines, unwrapped from node to node, brings the residual distortion
+// back under 0.25 mm. The warp is the radial lens model of
+// TestRegisterLatticeLens (Brown 1966, from memory).
+func TestRefineLatticeCorrects(t *testing.T) {
+	const w, h = 1500, 1100
+	const pxPerMM = 5.0
+	cx, cy := float64(w-1)/2, float64(h-1)/2
+	r2 := cx*cx + cy*cy
+	const k = 0.03
+	warp := func(u, v float64) (float64, float64) {
+		dx, dy := u-cx, v-cy
+		f := 1 + k*(dx*dx+dy*dy)/r2
+		u, v = cx+dx*f, cy+dy*f
+		s := 1 + 0.04*(v-cy)/float64(h)
+		return (u - cx) / pxPerMM * s, (v - cy) / pxPerMM
+	}
+	img := latticeImage(w, h, warp)
+	lm, ok := registerLattice(img)
+	if !ok {
+		t.Fatal("lattice not registered")
+	}
+	// The map as fitted (lattice px → coarse px, origin at lattice 0).
+	base := *lm
+	base.x0, base.y0 = 0, 0
+	residual := func(m *latticeMap) float64 {
+		var xs, ys, Xs, Ys []float64
+		for Y := lm.lo.Y; Y <= lm.hi.Y; Y += 23 {
+			for X := lm.lo.X; X <= lm.hi.X; X += 23 {
+				u, v := m.at(X, Y)
+				if u < 60 || v < 60 || u > w-60 || v > h-60 {
+					continue
+				}
+				a, b := warp(u, v)
+				xs, ys, Xs, Ys = append(xs, X), append(ys, Y), append(Xs, a), append(Ys, b)
+			}
+		}
+		if len(xs) < 200 {
+			t.Fatalf("only %d points on the page", len(xs))
+		}
+		return maxResidual(xs, ys, Xs, Ys)
+	}
+	bad := base
+	bad.cu, bad.cv = slices.Clone(base.cu), slices.Clone(base.cv)
+	bad.cu[3] += 9  // x²: up to 9 px (1.8 mm) at the sides
+	bad.cv[4] += 12 // x·y: up to 12 px at the corners
+	bad.cu[7] -= 6  // x²·y
+	before := residual(&bad)
+	if before < 1.5 {
+		t.Fatalf("perturbation leaves only %.2f mm; too weak to test the refinement", before)
+	}
+	fixed := refineLattice(img, &bad, lm.period)
+	after := residual(fixed)
+	if after > 0.25 {
+		t.Errorf("refined residual %.3f mm > 0.25 mm (perturbed %.2f mm)", after, before)
+	}
+	t.Logf("perturbed %.2f mm → refined %.3f mm, %d ties, rms %.2f px", before, after, fixed.ties, fixed.rms)
+}
+
+// TestUnwrapOffsets checks the node-to-node unwrapping of minor-line
+// offsets: a smooth field of several periods, seen only modulo the
+// period, is recovered up to one whole number of periods; nodes of low
+// quality are left out and do not break the field around them.
+func TestUnwrapOffsets(t *testing.T) {
+	const T = 5.0
+	g := &nodeGrid{nx: 30, ny: 20}
+	g.n = make([]nodeOffset, g.nx*g.ny)
+	r := rand.New(rand.NewPCG(5, 5))
+	truth := make([]float64, len(g.n))
+	for iy := 0; iy < g.ny; iy++ {
+		for ix := 0; ix < g.nx; ix++ {
+			i := iy*g.nx + ix
+			truth[i] = 3*T*math.Sin(float64(ix)/15) + 2*T*math.Cos(float64(iy)/10) + 0.03*T*r.NormFloat64()
+			d := truth[i] - T*math.Round(truth[i]/T)
+			q := 1.0
+			if ix >= 10 && ix < 14 && iy >= 5 && iy < 15 {
+				d, q = T*(r.Float64()-0.5), 0.05 // a blot: no grid seen
+			}
+			g.n[i] = nodeOffset{ok: true, d: [2][2]float64{{d, d}}, q: [2][2]float64{{q, q}}}
+		}
+	}
+	off := g.unwrapOffsets(0, 0, 0.5, T)
+	if off == nil {
+		t.Fatal("nothing unwrapped")
+	}
+	shift := math.NaN()
+	for i, o := range off {
+		low := g.n[i].q[0][0] < 0.5
+		if low != math.IsNaN(o) {
+			t.Fatalf("node %d: quality %.2f but offset %v", i, g.n[i].q[0][0], o)
+		}
+		if low {
+			continue
+		}
+		s := (truth[i] - o) / T
+		if math.IsNaN(shift) {
+			shift = math.Round(s)
+		}
+		if math.Abs(s-shift) > 0.3 {
+			t.Fatalf("node (%d, %d): offset %.2f, truth %.2f: %.2f periods apart, others %.0f", i%g.nx, i/g.nx, o, truth[i], s, shift)
 		}
 	}
 }
