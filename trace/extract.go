@@ -229,6 +229,7 @@ func Extract(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse, opt *Op
 			if !bounds.Empty() {
 				cr.scan(ink, bounds)
 				j.follow(&cr, cal.PxPerMMY.V)
+				j.keepRuns(&cr)
 			}
 			jobs = append(jobs, j)
 		}

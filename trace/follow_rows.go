@@ -13,6 +13,16 @@ type panelJob struct {
 	upLim, downLim float64         // dropExcursions limits, px
 	maxLen         float64         // longest far excursion kept, px
 	pr             pathResult
+	// The band's runs as first scanned (runs, off as in columnRuns), for
+	// re-following with a neighbour's ink removed.
+	runs []run
+	off  []int32
+}
+
+// keepRuns keeps a copy of the runs of cr (scanned from the job's band).
+func (j *panelJob) keepRuns(cr *columnRuns) {
+	j.runs = append([]run(nil), cr.runs...)
+	j.off = append([]int32(nil), cr.off...)
 }
 
 // follow follows the runs of cr (scanned from the job's band) and drops
@@ -131,8 +141,12 @@ func (s *separator) refollow(js, nb []panelJob, fromAbove bool) []panelJob {
 		} else {
 			lo, hi = clipLimits(nil, s.et, j.bounds, s.x0, s.margin)
 		}
-		s.buf = clipBand(s.buf, s.ink, j.bounds, lo, hi)
-		s.cr.scan(s.buf, j.bounds)
+		if j.off != nil {
+			s.cr.clip(j, lo, hi)
+		} else {
+			s.buf = clipBand(s.buf, s.ink, j.bounds, lo, hi)
+			s.cr.scan(s.buf, j.bounds)
+		}
 		out[k] = j
 		out[k].follow(s.cr, s.pxY)
 	}
@@ -301,4 +315,39 @@ func (s *separator) runCover(b image.Rectangle, u, l []panelJob) float64 {
 		}
 	}
 	return sum
+}
+
+// clip fills cr with the runs kept by j (keepRuns) cut to the open
+// interval (lo[c], hi[c]) of their column c, as scanning the band with the
+// pixels outside cleared would give them; the ink-weighted centre of a cut
+// run is taken as its middle.
+func (cr *columnRuns) clip(j panelJob, lo, hi []float64) {
+	w := len(j.off) - 1
+	cr.x0 = j.bounds.Min.X
+	cr.runs = cr.runs[:0]
+	cr.off = append(cr.off[:0], 0)
+	for c := 0; c < w; c++ {
+		t0, b0 := float64(math.MinInt32), float64(math.MaxInt32)
+		if c < len(lo) {
+			if !math.IsInf(lo[c], -1) {
+				t0 = math.Floor(lo[c]) + 1
+			}
+			if !math.IsInf(hi[c], 1) {
+				b0 = math.Ceil(hi[c]) - 1
+			}
+		}
+		for _, r := range j.runs[j.off[c]:j.off[c+1]] {
+			t, b := int32(max(float64(r.top), t0)), int32(min(float64(r.bot), b0))
+			if t > b {
+				continue
+			}
+			if t != r.top || b != r.bot {
+				f := float32(b-t+1) / float32(r.bot-r.top+1)
+				r = run{top: t, bot: b, w: r.w * f}
+				r.wy = r.w * float32(t+b) / 2
+			}
+			cr.runs = append(cr.runs, r)
+		}
+		cr.off = append(cr.off, int32(len(cr.runs)))
+	}
 }

@@ -3,6 +3,7 @@ package trace
 import (
 	"image"
 	"math"
+	"math/rand/v2"
 	"testing"
 )
 
@@ -22,6 +23,7 @@ func twoRowJobs(m *image.Gray, b0, b1 float64) [][]panelJob {
 		j := panelJob{bounds: image.Rect(0, int(b-up), m.Rect.Dx(), int(b+down)).Intersect(m.Rect), base: b, upLim: upLim, downLim: downLim, maxLen: 60}
 		cr.scan(m, j.bounds)
 		j.follow(&cr, 10)
+		j.keepRuns(&cr)
 		pj = append(pj, []panelJob{j})
 	}
 	return pj
@@ -100,6 +102,54 @@ func TestFollowBrokenTraceBesideNeighbour(t *testing.T) {
 	}
 	if n := near(pr.points, base, 3); n < 60 {
 		t.Errorf("%d points on the row's own dashes (5 px in every 30 of 400), want ≥ 60", n)
+	}
+}
+
+// TestClipRunsMatchesClippedScan checks that cutting a band's kept runs
+// to per-column limits gives the runs that scanning the band with the
+// pixels outside the limits cleared gives (same extents, column by column;
+// the centre of a cut run is only approximated).
+func TestClipRunsMatchesClippedScan(t *testing.T) {
+	rng := rand.New(rand.NewPCG(4, 4))
+	m := image.NewGray(image.Rect(0, 0, 120, 90))
+	for i := range m.Pix {
+		if rng.IntN(3) == 0 {
+			m.Pix[i] = 255
+		}
+	}
+	b := image.Rect(10, 5, 110, 85)
+	lo, hi := make([]float64, b.Dx()), make([]float64, b.Dx())
+	for c := range lo {
+		lo[c], hi[c] = math.Inf(-1), math.Inf(1)
+		switch c % 4 {
+		case 1:
+			lo[c] = 20 + 30*rng.Float64()
+		case 2:
+			hi[c] = 30 + 40*rng.Float64()
+		case 3:
+			lo[c], hi[c] = float64(10+c%20), float64(50+c%20)
+		}
+	}
+	var cr, want columnRuns
+	cr.scan(m, b)
+	var j panelJob
+	j.bounds = b
+	j.keepRuns(&cr)
+	cr.clip(j, lo, hi)
+	want.scan(clipBand(nil, m, b, lo, hi), b)
+	if cr.width() != want.width() {
+		t.Fatalf("%d columns, want %d", cr.width(), want.width())
+	}
+	for c := 0; c < want.width(); c++ {
+		g, w := cr.col(c), want.col(c)
+		if len(g) != len(w) {
+			t.Fatalf("column %d: %d runs, want %d", c, len(g), len(w))
+		}
+		for k := range w {
+			if g[k].top != w[k].top || g[k].bot != w[k].bot {
+				t.Errorf("column %d run %d: [%d, %d], want [%d, %d]", c, k, g[k].top, g[k].bot, w[k].top, w[k].bot)
+			}
+		}
 	}
 }
 
