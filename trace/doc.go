@@ -64,6 +64,15 @@
 //     capped at 0.3 mm. A short stretch of tall runs that contains the
 //     trace's line between thin runs and reaches 2 mm past it both ways
 //     is another row's stroke crossing: it is passed at the trace's level.
+//     A flat (thin) run past half-way to a neighbouring baseline costs 0.2
+//     a column more, so a binarised row that lost its flats bridges its
+//     breaks rather than run along the neighbour's unbroken line.
+//   - Neighbouring rows (separateRows): where the paths of two adjacent
+//     rows meet, each is followed again with the ink at and beyond the
+//     other's path removed (printed traces keep their order almost
+//     everywhere), and the pair of paths whose ink runs cover the most
+//     pixels is kept (2 % more needed to change): a path that took the
+//     neighbour's R wave leaves its own stroke unexplained.
 //   - Bands: a row's search band reaches 1.5 row pitches (at most 3 mV, the
 //     page's edge for the outer rows); a path that stays past half-way to a
 //     neighbouring baseline for longer than 0.25 s (longer than a QRS) is
