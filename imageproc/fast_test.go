@@ -47,8 +47,8 @@ func mapDiff(t *testing.T, a, b []uint8, tol int) (int, float64) {
 // TestPrepareReadsInputsInPlace: the in-place readers (opaque RGBA as
 // NRGBA, grey rows and grey bilinear samples) and the one-pass resampling
 // and separation give, byte for byte, the pages of the reference path that
-// converts the whole input to NRGBA first; Y′CbCr input (converted up
-// front) too. Interpolating Y′CbCr planes before converting would not be
+// converts the whole input to NRGBA first; Y′CbCr input (converted row by
+// row in the pass that makes the work copy) too. Interpolating Y′CbCr planes before converting would not be
 // equivalent: the conversion clips (a pink grid's red channel saturates on
 // white paper).
 func TestPrepareReadsInputsInPlace(t *testing.T) {

@@ -68,9 +68,10 @@ func (f *sepFixed) row(row []uint8, g []uint32, gr, ir, dr []uint8) {
 // upright makes the w×h upright page in one pass over its rows: each row
 // is sampled from the input through toSrc (upright px → input px; a plain
 // copy or conversion when toSrc is the identity) into the colour image
-// and separated while it is still in cache: no colour image or map is
-// read back from memory, and 8-bit RGBA or grey input is never copied as
-// a whole. Rows are independent,
+// and separated: an affine sample of NRGBA input is separated in the same
+// loop (affineSepRow), other rows while they are still in cache. No
+// colour image or map is read back from memory, and 8-bit RGBA or grey
+// input is never copied as a whole. Rows are independent,
 // so they are shared among GOMAXPROCS workers; the result does not depend
 // on their number. A projective toSrc (photos) takes the general warp
 // first.
@@ -101,16 +102,23 @@ func (s *separator) upright(src *source, toSrc Homography, w, h int, bg *backgro
 		var sc gainScratch
 		for y := y0; y < y1; y++ {
 			row := col.Pix[y*col.Stride : y*col.Stride+4*w]
+			bg.gainRowFixedInto(g, &sc, y, w)
 			switch {
 			case !affine || col == src.rgb:
 				// Already in place.
 			case ident:
 				row = src.row(row, y)
+			case src.rgb != nil:
+				// Sampled and separated in one loop.
+				fy := float64(y)
+				f.affineSepRow(row, g, gray.Pix[y*gray.Stride:y*gray.Stride+w], ink.Pix[y*ink.Stride:y*ink.Stride+w],
+					grd.Pix[y*grd.Stride:y*grd.Stride+w], src.rgb.Pix, src.rgb.Stride, src.w, src.h,
+					toFix32(hm[1]*fy+hm[2]), toFix32(hm[4]*fy+hm[5]), stepX, stepY)
+				continue
 			default:
 				fy := float64(y)
 				src.affineRow(row, toFix32(hm[1]*fy+hm[2]), toFix32(hm[4]*fy+hm[5]), stepX, stepY)
 			}
-			bg.gainRowFixedInto(g, &sc, y, w)
 			f.row(row, g, gray.Pix[y*gray.Stride:y*gray.Stride+w],
 				ink.Pix[y*ink.Stride:y*ink.Stride+w], grd.Pix[y*grd.Stride:y*grd.Stride+w])
 		}
@@ -120,13 +128,17 @@ func (s *separator) upright(src *source, toSrc Homography, w, h int, bg *backgro
 }
 
 // downscaleSource is downscale for any source: rows are converted one at
-// a time (the same bytes as downscaling the converted input).
+// a time (the same bytes as downscaling the converted input). A Y′CbCr
+// source is converted into its full-page NRGBA here, in the same pass.
 func downscaleSource(src *source, f int) *image.NRGBA {
 	if src.rgb != nil {
 		return downscale(src.rgb, f)
 	}
 	if f < 1 {
 		f = 1
+	}
+	if src.ycc != nil {
+		return downscaleConvert(src, f)
 	}
 	sw, sh := src.w, src.h
 	w, h := (sw+f-1)/f, (sh+f-1)/f
@@ -142,6 +154,33 @@ func downscaleSource(src *source, f int) *image.NRGBA {
 		}
 		finishRow(dst.Pix[oy*dst.Stride:oy*dst.Stride+4*w], acc, cnt)
 	}
+	return dst
+}
+
+// downscaleConvert converts a Y′CbCr source into src.rgb and returns its
+// f× box downscale (the bytes of downscale(toNRGBA(src.ycc), f)): each
+// converted row is added to the work copy's sums while it is in cache.
+// Bands of output rows are shared among GOMAXPROCS workers.
+func downscaleConvert(src *source, f int) *image.NRGBA {
+	sw, sh := src.w, src.h
+	conv := image.NewNRGBA(image.Rect(0, 0, sw, sh))
+	w, h := (sw+f-1)/f, (sh+f-1)/f
+	dst := image.NewNRGBA(image.Rect(0, 0, w, h))
+	rowBands(h, func(o0, o1 int) {
+		acc := make([]uint32, 4*w)
+		cnt := make([]uint32, w)
+		for oy := o0; oy < o1; oy++ {
+			clear(acc)
+			clear(cnt)
+			for sy := oy * f; sy < min(sh, oy*f+f); sy++ {
+				row := conv.Pix[sy*conv.Stride : sy*conv.Stride+4*sw]
+				ycbcrRow(row, src.ycc, src.hs, sy)
+				accumulateRow(acc, cnt, row, f, w, sw)
+			}
+			finishRow(dst.Pix[oy*dst.Stride:oy*dst.Stride+4*w], acc, cnt)
+		}
+	})
+	src.rgb = conv
 	return dst
 }
 

@@ -8,20 +8,25 @@ import (
 // source is the decoded input as Prepare reads it: row by row or sampled
 // bilinearly, straight from the decoder's own pixel layout where that is
 // 8-bit RGBA or 8-bit grey, so that no full-page NRGBA copy of such input
-// is made. JPEG's Y′CbCr is converted once, row-wise (toNRGBA): reading
-// it through a sliding window of converted rows instead (tried) converted
-// every row twice, for the work copy and for the page, and cost more CPU
-// time than the copy saves.
+// is made. JPEG's Y′CbCr is converted once, row by row, by the pass that
+// makes the work copy (downscaleSource): each row is averaged into the
+// work copy while it is still in cache, so the converted page is written
+// once and not read back until the full-resolution pass. (Reading Y′CbCr
+// through a sliding window of converted rows instead converted every row
+// twice; sampling the planes and converting the samples clips differently
+// — see fastycc_test.go — and changed the grid colour estimate.)
 type source struct {
 	w, h int
 	rgb  *image.NRGBA // NRGBA input, opaque RGBA read as NRGBA, or a conversion
 	gray *image.Gray  // Rect.Min at the origin
+	ycc  *image.YCbCr // Rect.Min at the origin, a known subsampling; converted into rgb on first use
+	hs   uint         // ycc's horizontal chroma shift (column x>>hs)
 	img  image.Image  // the input, for the general conversion
 }
 
-// newSource wraps img. Inputs of other types (Y′CbCr, paletted, 16-bit,
-// images whose Rect does not start at the origin, RGBA with transparency)
-// are converted to NRGBA once, here.
+// newSource wraps img. Inputs of other types (paletted, 16-bit, images
+// whose Rect does not start at the origin, RGBA with transparency) are
+// converted to NRGBA once, here; Y′CbCr waits for the work copy.
 func newSource(img image.Image) *source {
 	b := img.Bounds()
 	s := &source{w: b.Dx(), h: b.Dy(), img: img}
@@ -41,6 +46,11 @@ func newSource(img image.Image) *source {
 	case *image.Gray:
 		if b.Min == (image.Point{}) {
 			s.gray = m
+			return s
+		}
+	case *image.YCbCr:
+		if hs, ok := chromaShift(m.SubsampleRatio); ok && b.Min == (image.Point{}) {
+			s.ycc, s.hs = m, hs
 			return s
 		}
 	}
@@ -63,9 +73,15 @@ func opaque(m *image.RGBA) bool {
 }
 
 // nrgba returns the input as an *image.NRGBA (the input itself when it
-// already is one; otherwise a conversion, made on every call).
+// already is one; a Y′CbCr input converted once and kept; otherwise a
+// conversion, made on every call).
 func (s *source) nrgba() *image.NRGBA {
 	if s.rgb != nil {
+		return s.rgb
+	}
+	if s.ycc != nil {
+		s.rgb = image.NewNRGBA(image.Rect(0, 0, s.w, s.h))
+		ycbcrRows(s.rgb, s.ycc, s.hs)
 		return s.rgb
 	}
 	return toNRGBA(s.img)
@@ -78,6 +94,8 @@ func (s *source) row(buf []uint8, y int) []uint8 {
 	switch {
 	case s.rgb != nil:
 		return s.rgb.Pix[y*s.rgb.Stride : y*s.rgb.Stride+4*w]
+	case s.ycc != nil:
+		ycbcrRow(buf, s.ycc, s.hs, y)
 	default:
 		d := buf[:4*w]
 		for x, v := range s.gray.Pix[y*s.gray.Stride : y*s.gray.Stride+w] {
@@ -119,6 +137,9 @@ func ycbcrRow(d []uint8, m *image.YCbCr, hs uint, y int) {
 // Samples outside the source are white paper. The bytes equal
 // warpAffineNRGBA's on the converted input.
 func (s *source) affineRow(d []uint8, sx, sy, stepX, stepY int64) {
+	if s.rgb == nil && s.ycc != nil {
+		s.nrgba() // not reached from Prepare: the work copy converted it
+	}
 	if s.rgb != nil {
 		affineRowNRGBA(d, s.rgb.Pix, s.rgb.Stride, s.w, s.h, 0, sx, sy, stepX, stepY)
 		return

@@ -1,6 +1,7 @@
 package imageproc
 
 import (
+	"bytes"
 	"image"
 	"math"
 	"math/rand/v2"
@@ -50,6 +51,59 @@ func TestAffineWarpMatchesBilinear(t *testing.T) {
 					if g := float64(got.Pix[y*got.Stride+4*x+c]); math.Abs(g-want) > 1.5 {
 						t.Fatalf("case %d (%d,%d) channel %d: %g, want %.2f", k, x, y, c, g, want)
 					}
+				}
+			}
+		}
+	}
+}
+
+// TestAffineSepRowMatches: the one-loop sampling and separation of the
+// upright pass (affineSepRow) gives, byte for byte, the colour row of
+// affineRowNRGBA and the maps of sepFixed.row applied to it, for colour
+// and grey separators, on rows that run inside the input, cross its
+// edges or miss it, with random gains (saturating ones included).
+func TestAffineSepRowMatches(t *testing.T) {
+	rng := rand.New(rand.NewPCG(11, 11))
+	const sw, sh = 83, 57
+	src := image.NewNRGBA(image.Rect(0, 0, sw, sh))
+	for i := range src.Pix {
+		src.Pix[i] = uint8(rng.IntN(256))
+		if i%4 == 3 {
+			src.Pix[i] = 255
+		}
+	}
+	seps := []*separator{
+		{colour: true, ka: [3]float64{0.0031, -0.0012, -0.0009}, kb: [3]float64{-0.0004, 0.0017, 0.0021}, inkLo: 45, inkHi: 140},
+		{colour: false, inkLo: 50, inkHi: 150},
+	}
+	for k := 0; k < 40; k++ {
+		th := (rng.Float64() - 0.5) * 0.5
+		hm, w, h := rotation(th, sw, sh)
+		// Shifted by up to a fifth of the page: rows leave the input.
+		hm[2] += (rng.Float64() - 0.5) * 0.4 * sw
+		hm[5] += (rng.Float64() - 0.5) * 0.4 * sh
+		sep := seps[k%2]
+		f := sep.fixed()
+		g := make([]uint32, 3*w)
+		for i := range g {
+			g[i] = uint32(180 + rng.IntN(200))
+		}
+		want, got := make([]uint8, 4*w), make([]uint8, 4*w)
+		maps := func() [3][]uint8 { return [3][]uint8{make([]uint8, w), make([]uint8, w), make([]uint8, w)} }
+		wm, gm := maps(), maps()
+		sx, sy := toFix32(hm[0]), toFix32(hm[3])
+		for y := 0; y < h; y++ {
+			fy := float64(y)
+			x0, y0 := toFix32(hm[1]*fy+hm[2]), toFix32(hm[4]*fy+hm[5])
+			affineRowNRGBA(want, src.Pix, src.Stride, sw, sh, 0, x0, y0, sx, sy)
+			f.row(want, g, wm[0], wm[1], wm[2])
+			f.affineSepRow(got, g, gm[0], gm[1], gm[2], src.Pix, src.Stride, sw, sh, x0, y0, sx, sy)
+			if !bytes.Equal(want, got) {
+				t.Fatalf("case %d row %d: colour differs", k, y)
+			}
+			for m := range wm {
+				if !bytes.Equal(wm[m], gm[m]) {
+					t.Fatalf("case %d row %d (colour %v): map %d differs", k, y, sep.colour, m)
 				}
 			}
 		}

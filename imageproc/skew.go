@@ -27,7 +27,8 @@ func collectPoints(m *image.Gray, thr uint8, limit int) *points {
 	if n > limit {
 		step = (n + limit - 1) / limit
 	}
-	p := &points{span: w + h}
+	kept := n / step // the k = step, 2·step, … of the n pixels
+	p := &points{span: w + h, x: make([]float32, 0, kept), y: make([]float32, 0, kept), w: make([]float32, 0, kept)}
 	k := 0
 	for y := 0; y < h; y++ {
 		for x, v := range m.Pix[y*m.Stride : y*m.Stride+w] {

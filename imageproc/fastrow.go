@@ -1,0 +1,134 @@
+package imageproc
+
+// affineSepRow is affineRowNRGBA followed by sepFixed.row for one row of
+// the upright page: each pixel is sampled bilinearly from the NRGBA input
+// (sw×sh, rows of ss bytes; the source point starts at (sx, sy) and
+// advances by (stepX, stepY) per pixel, 32.32 fixed point) into col (4
+// bytes per pixel) and separated into gr, ir and dr (grey pages leave dr
+// untouched) with the row's gains g (3 per pixel, 8.8 fixed point). The
+// bytes are those of the two functions (TestAffineSepRowMatches). The
+// pixels whose four neighbours all lie inside the input form one run
+// along the row (the source point moves on a line); that run is sampled
+// and separated in one loop without calls or range tests, the colour
+// row is not read back; the few pixels at the page's edges go through
+// the two functions.
+func (f *sepFixed) affineSepRow(col []uint8, g []uint32, gr, ir, dr []uint8, sp []uint8, ss, sw, sh int, sx, sy, stepX, stepY int64) {
+	w := len(gr)
+	inside := func(sx, sy int64) bool {
+		return uint(sx>>32) < uint(sw-1) && uint(sy>>32) < uint(sh-1)
+	}
+	// [xa, xb): the run with all four neighbours inside.
+	xa := 0
+	for xa < w && !inside(sx+int64(xa)*stepX, sy+int64(xa)*stepY) {
+		xa++
+	}
+	xb := xa
+	if xa < w {
+		// The run ends where the line leaves the input; found from the
+		// far end, which is outside at most for the page's margin.
+		xb = w
+		for xb > xa && !inside(sx+int64(xb-1)*stepX, sy+int64(xb-1)*stepY) {
+			xb--
+		}
+	}
+	if xa > 0 {
+		affineRowNRGBA(col[:4*xa], sp, ss, sw, sh, 0, sx, sy, stepX, stepY)
+		f.row(col[:4*xa], g[:3*xa], gr[:xa], ir[:xa], dr[:xa])
+	}
+	if xb > xa {
+		s0, s1 := sx+int64(xa)*stepX, sy+int64(xa)*stepY
+		c, gg := col[4*xa:4*xb], g[3*xa:3*xb]
+		if f.colour {
+			f.sampleColour(c, gg, gr[xa:xb], ir[xa:xb], dr[xa:xb], sp, ss, s0, s1, stepX, stepY)
+		} else {
+			f.sampleGrey(c, gg, gr[xa:xb], ir[xa:xb], sp, ss, s0, s1, stepX, stepY)
+		}
+	}
+	if xb < w {
+		s0, s1 := sx+int64(xb)*stepX, sy+int64(xb)*stepY
+		affineRowNRGBA(col[4*xb:4*w], sp, ss, sw, sh, 0, s0, s1, stepX, stepY)
+		f.row(col[4*xb:4*w], g[3*xb:3*w], gr[xb:w], ir[xb:w], dr[xb:w])
+	}
+}
+
+// sampleColour is the inner run of affineSepRow for a colour separator:
+// every source point of the run has its four neighbours inside.
+func (f *sepFixed) sampleColour(col []uint8, g []uint32, gr, ir, dr []uint8, sp []uint8, ss int, sx, sy, stepX, stepY int64) {
+	ka, kb, off := f.ka, f.kb, f.off
+	ir = ir[:len(gr)]
+	dr = dr[:len(gr)]
+	g = g[:3*len(gr)]
+	col = col[:4*len(gr)]
+	for x := range gr {
+		i := int(sy>>32)*ss + 4*int(sx>>32)
+		ax := int32(((sx & (fixOne - 1)) + 1<<23) >> 24)
+		ay := int32(((sy & (fixOne - 1)) + 1<<23) >> 24)
+		// Σ w·c with the weights (256−ax)(256−ay), ax(256−ay),
+		// (256−ax)ay, ax·ay is exactly the lerp along y of two lerps
+		// along x, each 256·c0 + a·(c1 − c0): three products per
+		// channel instead of four plus the weights.
+		c0 := sp[i : i+8 : i+8]
+		c1 := sp[i+ss : i+ss+8 : i+ss+8]
+		t0 := int32(c0[0])<<8 + ax*(int32(c0[4])-int32(c0[0]))
+		t1 := int32(c1[0])<<8 + ax*(int32(c1[4])-int32(c1[0]))
+		r := uint32(t0<<8+ay*(t1-t0)+32768) >> 16
+		t0 = int32(c0[1])<<8 + ax*(int32(c0[5])-int32(c0[1]))
+		t1 = int32(c1[1])<<8 + ax*(int32(c1[5])-int32(c1[1]))
+		gg := uint32(t0<<8+ay*(t1-t0)+32768) >> 16
+		t0 = int32(c0[2])<<8 + ax*(int32(c0[6])-int32(c0[2]))
+		t1 = int32(c1[2])<<8 + ax*(int32(c1[6])-int32(c1[2]))
+		b := uint32(t0<<8+ay*(t1-t0)+32768) >> 16
+		sx += stepX
+		sy += stepY
+		o := col[4*x : 4*x+4 : 4*x+4]
+		o[0], o[1], o[2], o[3] = uint8(r), uint8(gg), uint8(b), 255
+		k := g[3*x : 3*x+3 : 3*x+3]
+		rr := min(255, (r*k[0]+128)>>8)
+		gn := min(255, (gg*k[1]+128)>>8)
+		bb := min(255, (b*k[2]+128)>>8)
+		gr[x] = uint8((77*rr + 150*gn + 29*bb + 128) >> 8)
+		a0, a1, a2 := 255-int32(rr), 255-int32(gn), 255-int32(bb)
+		dr[x] = sat8((ka[0]*a0 + ka[1]*a1 + ka[2]*a2) >> 10)
+		ir[x] = sat8((kb[0]*a0+kb[1]*a1+kb[2]*a2)>>10 - off)
+	}
+}
+
+// sampleGrey is sampleColour for a grey separator (no grid map: the
+// structural split fills it).
+func (f *sepFixed) sampleGrey(col []uint8, g []uint32, gr, ir []uint8, sp []uint8, ss int, sx, sy, stepX, stepY int64) {
+	loG, spanG := f.loG, f.spanG
+	ir = ir[:len(gr)]
+	g = g[:3*len(gr)]
+	col = col[:4*len(gr)]
+	for x := range gr {
+		i := int(sy>>32)*ss + 4*int(sx>>32)
+		ax := int32(((sx & (fixOne - 1)) + 1<<23) >> 24)
+		ay := int32(((sy & (fixOne - 1)) + 1<<23) >> 24)
+		// Σ w·c with the weights (256−ax)(256−ay), ax(256−ay),
+		// (256−ax)ay, ax·ay is exactly the lerp along y of two lerps
+		// along x, each 256·c0 + a·(c1 − c0): three products per
+		// channel instead of four plus the weights.
+		c0 := sp[i : i+8 : i+8]
+		c1 := sp[i+ss : i+ss+8 : i+ss+8]
+		t0 := int32(c0[0])<<8 + ax*(int32(c0[4])-int32(c0[0]))
+		t1 := int32(c1[0])<<8 + ax*(int32(c1[4])-int32(c1[0]))
+		r := uint32(t0<<8+ay*(t1-t0)+32768) >> 16
+		t0 = int32(c0[1])<<8 + ax*(int32(c0[5])-int32(c0[1]))
+		t1 = int32(c1[1])<<8 + ax*(int32(c1[5])-int32(c1[1]))
+		gg := uint32(t0<<8+ay*(t1-t0)+32768) >> 16
+		t0 = int32(c0[2])<<8 + ax*(int32(c0[6])-int32(c0[2]))
+		t1 = int32(c1[2])<<8 + ax*(int32(c1[6])-int32(c1[2]))
+		b := uint32(t0<<8+ay*(t1-t0)+32768) >> 16
+		sx += stepX
+		sy += stepY
+		o := col[4*x : 4*x+4 : 4*x+4]
+		o[0], o[1], o[2], o[3] = uint8(r), uint8(gg), uint8(b), 255
+		k := g[3*x : 3*x+3 : 3*x+3]
+		rr := min(255, (r*k[0]+128)>>8)
+		gn := min(255, (gg*k[1]+128)>>8)
+		bb := min(255, (b*k[2]+128)>>8)
+		lum := (77*rr + 150*gn + 29*bb + 128) >> 8
+		gr[x] = uint8(lum)
+		ir[x] = sat8(((255 - int32(lum) - loG) * spanG) >> 10)
+	}
+}
