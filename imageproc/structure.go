@@ -80,6 +80,49 @@ func structureSplit(gray, ink, grd *image.Gray) {
 	}
 	if max(fl.rowMedian, fl.colMedian) >= blackLines {
 		markFringe(gray, ink, fl)
+		if fl.rowPitch == 0 && fl.colPitch == 0 {
+			markSpecks(gray, ink)
+		}
+	}
+}
+
+// maxSpecks is the share of a page's pixels up to which the marks left
+// outside the ink of a binarised page without any grid lattice count as
+// specks (see markSpecks): 1 in 5000. A grid of dots or broken lines that
+// the split did not flag covers far more (a 1 px dot per 5 mm at 204 dpi
+// alone is 1 in 1600).
+const maxSpecks = 0.0002
+
+// markSpecks gives the few marks left outside the ink of a binarised page
+// without any grid lattice (specks of noise, stray dots of a grid that
+// did not survive the binarisation) the weak strength fringeInk when
+// they are fewer than maxSpecks of the page: grid measures the period of
+// the darkness outside the ink, and a hundred scattered pixels made it
+// read a 'grid' 94 % off (fax 6x2 seed 13); with nothing left it falls
+// back to the resolution tags.
+func markSpecks(gray, ink *image.Gray) {
+	w, h := gray.Rect.Dx(), gray.Rect.Dy()
+	n := 0
+	for y := 0; y < h; y++ {
+		grow := gray.Pix[y*gray.Stride : y*gray.Stride+w]
+		irow := ink.Pix[y*ink.Stride : y*ink.Stride+w]
+		for x, v := range grow {
+			if v < 255-30 && irow[x] < fringeInk {
+				n++
+			}
+		}
+	}
+	if float64(n) > maxSpecks*float64(w*h) {
+		return
+	}
+	for y := 0; y < h; y++ {
+		grow := gray.Pix[y*gray.Stride : y*gray.Stride+w]
+		irow := ink.Pix[y*ink.Stride : y*ink.Stride+w]
+		for x, v := range grow {
+			if v < 255 && irow[x] < fringeInk {
+				irow[x] = fringeInk
+			}
+		}
 	}
 }
 
@@ -237,6 +280,9 @@ type lineFlags struct {
 	// rowMedian, colMedian are the median on-levels of the lines flagged
 	// before the lattice test (0 when none).
 	rowMedian, colMedian float64
+	// rowPitch, colPitch are the lattice pitches (px) of binarised pages,
+	// 0 when none (or the lines are grey).
+	rowPitch, colPitch float64
 }
 
 // blackLines is the median on-level (darkness 0..255 of a line's dark
@@ -315,8 +361,8 @@ func flagLines(gray *image.Gray) lineFlags {
 		// Black lines in one direction: a binarised page, whose other
 		// direction's levels the resampling of a 98-dpi fax to square
 		// pixels may have lightened (149–156 on the corpus).
-		keepLattice(rowLine, h, maxPitch)
-		keepLattice(colLine, w, maxPitch)
+		fl.rowPitch = keepLattice(rowLine, h, maxPitch)
+		fl.colPitch = keepLattice(colLine, w, maxPitch)
 	}
 	return fl
 }
@@ -406,6 +452,7 @@ func onChain(c []float64, pitch float64, keep []bool) int {
 // none: among the common distances between two lines (up to maxPitch, at
 // least 3 px), the one that puts the most lines on runs of minChain
 // (ties: the shorter), refined to the mean spacing along those runs.
+// Fewer than four such lines per segment on average are no lattice.
 func latticePitch(centres [][]float64, maxPitch float64) float64 {
 	if maxPitch < 3 {
 		return 0
@@ -450,7 +497,9 @@ func latticePitch(centres [][]float64, maxPitch float64) float64 {
 			bestP, bestKept = p, kept
 		}
 	}
-	if bestKept == 0 {
+	// A grid runs across the page: on average four lattice lines or more
+	// per segment (a stray run of five QRS strokes is not one).
+	if bestKept < 4*len(centres) {
 		return 0
 	}
 	// Refine: the mean spacing of consecutive chained lines.
