@@ -62,7 +62,7 @@ func TestSeparateRowsSharedColumns(t *testing.T) {
 			first1 := minY(pj[1][0].pr.points, 90, 115)
 			t.Logf("first pass: upper apex %.1f, lower apex %.1f", minY(pj[0][0].pr.points, 90, 115), first1)
 			var cr columnRuns
-			separateRows(m, pj, &cr, 10)
+			separateRows(m, pj, &cr, 10, 100) // 10 mm/mV: the rows are 2 mV apart
 			if got := minY(pj[0][0].pr.points, 90, 115); math.Abs(got-tc.apex0) > 2 {
 				t.Errorf("upper row's apex at y %.1f, drawn at %g", got, tc.apex0)
 			}
