@@ -72,7 +72,9 @@
 //     other's path removed (printed traces keep their order almost
 //     everywhere), and the pair of paths whose ink runs cover the most
 //     pixels is kept (2 % more needed to change): a path that took the
-//     neighbour's R wave leaves its own stroke unexplained.
+//     neighbour's R wave leaves its own stroke unexplained. Rows less than
+//     1 mV apart (12 × 1 at 20 mm/mV) are left alone: there complexes
+//     cross whole rows and the order does not hold.
 //   - Bands: a row's search band reaches 1.5 row pitches (at most 3 mV, the
 //     page's edge for the outer rows); a path that stays past half-way to a
 //     neighbouring baseline for longer than 0.25 s (longer than a QRS) is
