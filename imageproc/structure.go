@@ -96,10 +96,11 @@ const maxSpecks = 0.0002
 // markSpecks gives the few marks left outside the ink of a binarised page
 // without any grid lattice (specks of noise, stray dots of a grid that
 // did not survive the binarisation) the weak strength fringeInk when
-// they are fewer than maxSpecks of the page: grid measures the period of
-// the darkness outside the ink, and a hundred scattered pixels made it
-// read a 'grid' 94 % off (fax 6x2 seed 13); with nothing left it falls
-// back to the resolution tags.
+// they are fewer than maxSpecks of the page. Grid measures the period of
+// the darkness outside the ink; from a few hundred scattered dots it read
+// fax 6x2 seed 13 at 0.1 % off along x (13.4 dB median against 18.5 dB
+// from the page's resolution tags, which it falls back to when nothing
+// is left).
 func markSpecks(gray, ink *image.Gray) {
 	w, h := gray.Rect.Dx(), gray.Rect.Dy()
 	n := 0
