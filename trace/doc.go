@@ -98,8 +98,10 @@
 // Where tall complexes of several rows cross (20 mm/mV pages, 12 × 1 on
 // A4) the strokes merge into one run per column and the path cannot tell
 // whose stroke it follows; those leads lose QRS amplitude or, on six-row
-// pages, swap strokes (the eval's overlap condition: 9.9 dB median over
-// 21 pages, 15 swaps). A row missing at the top or bottom of
+// pages, swap strokes (the eval's overlap condition: 12.1 dB median over
+// 21 pages, 14 swaps, 12 of them on the 3x4+3 and 12 × 1 pages; a
+// low-amplitude lead such as aVL between two rows with tall complexes
+// takes their strokes and matches V2 better than itself). A row missing at the top or bottom of
 // the page is not detected as missing. Pages turned by a quarter turn are
 // not traced (the front end turns them upright). Detail
 // finer than the pen width (high-frequency noise) is not recoverable.
