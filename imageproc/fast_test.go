@@ -74,23 +74,42 @@ func TestPrepareReadsInputsInPlace(t *testing.T) {
 			}
 		}
 
-		var buf bytes.Buffer
-		if err := jpeg.Encode(&buf, nrgba, &jpeg.Options{Quality: 90}); err != nil {
-			t.Fatal(err)
-		}
-		ycc, err := jpeg.Decode(&buf)
-		if err != nil {
-			t.Fatal(err)
-		}
-		if _, ok := ycc.(*image.YCbCr); !ok {
-			t.Fatalf("jpeg decoded to %T", ycc)
-		}
-		got, ref = preparePair(t, ycc)
-		for name, m := range map[string][2][]uint8{"ink": {got.Ink.Pix, ref.Ink.Pix}, "grid": {got.Grid.Pix, ref.Grid.Pix},
-			"gray": {got.Gray.Pix, ref.Gray.Pix}, "colour": {got.Color.Pix, ref.Color.Pix}} {
-			if mx, _ := mapDiff(t, m[0], m[1], 0); mx != 0 {
-				t.Errorf("Y′CbCr %.1f°: %s differs by up to %d", deg, name, mx)
+		// Y′CbCr upright (rows read through a sliding window), turned a
+		// quarter and turned over (converted whole before the pass).
+		for q := 0; q < 3; q++ {
+			var buf bytes.Buffer
+			if err := jpeg.Encode(&buf, turnNRGBA(nrgba, q), &jpeg.Options{Quality: 90}); err != nil {
+				t.Fatal(err)
+			}
+			ycc, err := jpeg.Decode(&buf)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if _, ok := ycc.(*image.YCbCr); !ok {
+				t.Fatalf("jpeg decoded to %T", ycc)
+			}
+			got, ref = preparePair(t, ycc)
+			for name, m := range map[string][2][]uint8{"ink": {got.Ink.Pix, ref.Ink.Pix}, "grid": {got.Grid.Pix, ref.Grid.Pix},
+				"gray": {got.Gray.Pix, ref.Gray.Pix}, "colour": {got.Color.Pix, ref.Color.Pix}} {
+				if mx, _ := mapDiff(t, m[0], m[1], 0); mx != 0 {
+					t.Errorf("Y′CbCr %.1f° turned %d: %s differs by up to %d", deg, q, name, mx)
+				}
 			}
 		}
 	}
+}
+
+// turnNRGBA returns m turned q×90° counter-clockwise.
+func turnNRGBA(m *image.NRGBA, q int) *image.NRGBA {
+	w, h := m.Rect.Dx(), m.Rect.Dy()
+	tw, th := turnedSize(q, w, h)
+	d := image.NewNRGBA(image.Rect(0, 0, tw, th))
+	back := quarterTurn(q, w, h)
+	for y := 0; y < th; y++ {
+		for x := 0; x < tw; x++ {
+			sx, sy := Apply(back, float64(x), float64(y))
+			copy(d.Pix[y*d.Stride+4*x:y*d.Stride+4*x+4], m.Pix[int(sy)*m.Stride+4*int(sx):])
+		}
+	}
+	return d
 }

@@ -97,9 +97,24 @@ func (s *separator) upright(src *source, toSrc Homography, w, h int, bg *backgro
 		col = image.NewNRGBA(r)
 	}
 	stepX, stepY := toFix32(hm[0]), toFix32(hm[3])
+	// Y′CbCr input under a small turn: each band converts the input rows
+	// its rows cross into a sliding window (rowWindow); otherwise (a
+	// quarter turn makes every row cross the whole input) it is converted
+	// once, before the bands.
+	span := 0
+	if affine && !ident && src.rgb == nil && src.ycc != nil {
+		span = windowSpan(hm, w, src.h)
+		if span == 0 {
+			src.nrgba()
+		}
+	}
 	band := func(y0, y1 int) {
 		g := make([]uint32, 3*w)
 		var sc gainScratch
+		var win *rowWindow
+		if span > 0 {
+			win = newRowWindow(src, 2*span+8)
+		}
 		for y := y0; y < y1; y++ {
 			row := col.Pix[y*col.Stride : y*col.Stride+4*w]
 			bg.gainRowFixedInto(g, &sc, y, w)
@@ -108,12 +123,22 @@ func (s *separator) upright(src *source, toSrc Homography, w, h int, bg *backgro
 				// Already in place.
 			case ident:
 				row = src.row(row, y)
-			case src.rgb != nil:
+			case src.rgb != nil || win != nil:
 				// Sampled and separated in one loop.
 				fy := float64(y)
+				sx, sy := toFix32(hm[1]*fy+hm[2]), toFix32(hm[4]*fy+hm[5])
+				var sp []uint8
+				var ss, lo int
+				if win != nil {
+					// The input rows under this row: y0 of its first and
+					// last source points, and the row below.
+					sy1 := sy + int64(w-1)*stepY
+					sp, ss, lo = win.cover(int(min(sy, sy1)>>32), int(max(sy, sy1)>>32)+1)
+				} else {
+					sp, ss = src.rgb.Pix, src.rgb.Stride
+				}
 				f.affineSepRow(row, g, gray.Pix[y*gray.Stride:y*gray.Stride+w], ink.Pix[y*ink.Stride:y*ink.Stride+w],
-					grd.Pix[y*grd.Stride:y*grd.Stride+w], src.rgb.Pix, src.rgb.Stride, src.w, src.h,
-					toFix32(hm[1]*fy+hm[2]), toFix32(hm[4]*fy+hm[5]), stepX, stepY)
+					grd.Pix[y*grd.Stride:y*grd.Stride+w], sp, ss, src.w, src.h, lo, sx, sy, stepX, stepY)
 				continue
 			default:
 				fy := float64(y)
@@ -128,17 +153,13 @@ func (s *separator) upright(src *source, toSrc Homography, w, h int, bg *backgro
 }
 
 // downscaleSource is downscale for any source: rows are converted one at
-// a time (the same bytes as downscaling the converted input). A Y′CbCr
-// source is converted into its full-page NRGBA here, in the same pass.
+// a time (the same bytes as downscaling the converted input).
 func downscaleSource(src *source, f int) *image.NRGBA {
 	if src.rgb != nil {
 		return downscale(src.rgb, f)
 	}
 	if f < 1 {
 		f = 1
-	}
-	if src.ycc != nil {
-		return downscaleConvert(src, f)
 	}
 	sw, sh := src.w, src.h
 	w, h := (sw+f-1)/f, (sh+f-1)/f
@@ -154,33 +175,6 @@ func downscaleSource(src *source, f int) *image.NRGBA {
 		}
 		finishRow(dst.Pix[oy*dst.Stride:oy*dst.Stride+4*w], acc, cnt)
 	}
-	return dst
-}
-
-// downscaleConvert converts a Y′CbCr source into src.rgb and returns its
-// f× box downscale (the bytes of downscale(toNRGBA(src.ycc), f)): each
-// converted row is added to the work copy's sums while it is in cache.
-// Bands of output rows are shared among GOMAXPROCS workers.
-func downscaleConvert(src *source, f int) *image.NRGBA {
-	sw, sh := src.w, src.h
-	conv := image.NewNRGBA(image.Rect(0, 0, sw, sh))
-	w, h := (sw+f-1)/f, (sh+f-1)/f
-	dst := image.NewNRGBA(image.Rect(0, 0, w, h))
-	rowBands(h, func(o0, o1 int) {
-		acc := make([]uint32, 4*w)
-		cnt := make([]uint32, w)
-		for oy := o0; oy < o1; oy++ {
-			clear(acc)
-			clear(cnt)
-			for sy := oy * f; sy < min(sh, oy*f+f); sy++ {
-				row := conv.Pix[sy*conv.Stride : sy*conv.Stride+4*sw]
-				ycbcrRow(row, src.ycc, src.hs, sy)
-				accumulateRow(acc, cnt, row, f, w, sw)
-			}
-			finishRow(dst.Pix[oy*dst.Stride:oy*dst.Stride+4*w], acc, cnt)
-		}
-	})
-	src.rgb = conv
 	return dst
 }
 

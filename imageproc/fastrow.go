@@ -12,7 +12,10 @@ package imageproc
 // and separated in one loop without calls or range tests, the colour
 // row is not read back; the few pixels at the page's edges go through
 // the two functions.
-func (f *sepFixed) affineSepRow(col []uint8, g []uint32, gr, ir, dr []uint8, sp []uint8, ss, sw, sh int, sx, sy, stepX, stepY int64) {
+//
+// lo > 0 reads a window of the input's rows: row y starts at
+// sp[(y−lo)·ss] (the rows the line crosses must be there).
+func (f *sepFixed) affineSepRow(col []uint8, g []uint32, gr, ir, dr []uint8, sp []uint8, ss, sw, sh, lo int, sx, sy, stepX, stepY int64) {
 	w := len(gr)
 	inside := func(sx, sy int64) bool {
 		return uint(sx>>32) < uint(sw-1) && uint(sy>>32) < uint(sh-1)
@@ -32,11 +35,12 @@ func (f *sepFixed) affineSepRow(col []uint8, g []uint32, gr, ir, dr []uint8, sp 
 		}
 	}
 	if xa > 0 {
-		affineRowNRGBA(col[:4*xa], sp, ss, sw, sh, 0, sx, sy, stepX, stepY)
+		affineRowNRGBA(col[:4*xa], sp, ss, sw, sh, lo, sx, sy, stepX, stepY)
 		f.row(col[:4*xa], g[:3*xa], gr[:xa], ir[:xa], dr[:xa])
 	}
 	if xb > xa {
-		s0, s1 := sx+int64(xa)*stepX, sy+int64(xa)*stepY
+		// Inside the run the window's rows are read directly.
+		s0, s1 := sx+int64(xa)*stepX, sy+int64(xa)*stepY-int64(lo)<<32
 		c, gg := col[4*xa:4*xb], g[3*xa:3*xb]
 		if f.colour {
 			f.sampleColour(c, gg, gr[xa:xb], ir[xa:xb], dr[xa:xb], sp, ss, s0, s1, stepX, stepY)
@@ -46,7 +50,7 @@ func (f *sepFixed) affineSepRow(col []uint8, g []uint32, gr, ir, dr []uint8, sp 
 	}
 	if xb < w {
 		s0, s1 := sx+int64(xb)*stepX, sy+int64(xb)*stepY
-		affineRowNRGBA(col[4*xb:4*w], sp, ss, sw, sh, 0, s0, s1, stepX, stepY)
+		affineRowNRGBA(col[4*xb:4*w], sp, ss, sw, sh, lo, s0, s1, stepX, stepY)
 		f.row(col[4*xb:4*w], g[3*xb:3*w], gr[xb:w], ir[xb:w], dr[xb:w])
 	}
 }

@@ -7,26 +7,27 @@ import (
 
 // source is the decoded input as Prepare reads it: row by row or sampled
 // bilinearly, straight from the decoder's own pixel layout where that is
-// 8-bit RGBA or 8-bit grey, so that no full-page NRGBA copy of such input
-// is made. JPEG's Y′CbCr is converted once, row by row, by the pass that
-// makes the work copy (downscaleSource): each row is averaged into the
-// work copy while it is still in cache, so the converted page is written
-// once and not read back until the full-resolution pass. (Reading Y′CbCr
-// through a sliding window of converted rows instead converted every row
-// twice; sampling the planes and converting the samples clips differently
-// — see fastycc_test.go — and changed the grid colour estimate.)
+// 8-bit RGBA, 8-bit grey or JPEG's Y′CbCr, so that no full-page NRGBA
+// copy of such input is made. Y′CbCr rows are converted where they are
+// read: one at a time for the work copy, and into a sliding window of
+// rows for the upright page (rowWindow), so each row is converted twice
+// — about 5 ns a pixel, less than writing a 4-byte copy of the page and
+// reading it back (35 MB for an A4 page at 300 dpi). Sampling the planes
+// and converting the samples instead is not equivalent: the conversion
+// clips (a red grid's red channel saturates on white paper) and that
+// moved the grid colour estimate.
 type source struct {
 	w, h int
 	rgb  *image.NRGBA // NRGBA input, opaque RGBA read as NRGBA, or a conversion
 	gray *image.Gray  // Rect.Min at the origin
-	ycc  *image.YCbCr // Rect.Min at the origin, a known subsampling; converted into rgb on first use
+	ycc  *image.YCbCr // Rect.Min at the origin, a known subsampling
 	hs   uint         // ycc's horizontal chroma shift (column x>>hs)
 	img  image.Image  // the input, for the general conversion
 }
 
 // newSource wraps img. Inputs of other types (paletted, 16-bit, images
 // whose Rect does not start at the origin, RGBA with transparency) are
-// converted to NRGBA once, here; Y′CbCr waits for the work copy.
+// converted to NRGBA once, here.
 func newSource(img image.Image) *source {
 	b := img.Bounds()
 	s := &source{w: b.Dx(), h: b.Dy(), img: img}
@@ -73,8 +74,9 @@ func opaque(m *image.RGBA) bool {
 }
 
 // nrgba returns the input as an *image.NRGBA (the input itself when it
-// already is one; a Y′CbCr input converted once and kept; otherwise a
-// conversion, made on every call).
+// already is one; a Y′CbCr input converted on the first call and kept,
+// for the photo registration and the general warps; otherwise a
+// conversion, made on every call). Not safe for concurrent first calls.
 func (s *source) nrgba() *image.NRGBA {
 	if s.rgb != nil {
 		return s.rgb
@@ -137,9 +139,6 @@ func ycbcrRow(d []uint8, m *image.YCbCr, hs uint, y int) {
 // Samples outside the source are white paper. The bytes equal
 // warpAffineNRGBA's on the converted input.
 func (s *source) affineRow(d []uint8, sx, sy, stepX, stepY int64) {
-	if s.rgb == nil && s.ycc != nil {
-		s.nrgba() // not reached from Prepare: the work copy converted it
-	}
 	if s.rgb != nil {
 		affineRowNRGBA(d, s.rgb.Pix, s.rgb.Stride, s.w, s.h, 0, sx, sy, stepX, stepY)
 		return
@@ -234,4 +233,59 @@ func affineRowGray(d []uint8, src *image.Gray, sx, sy, stepX, stepY int64) {
 		v := uint8(((256-ax)*(256-ay)*c00 + ax*(256-ay)*c10 + (256-ax)*ay*c01 + ax*ay*c11 + 32768) >> 16)
 		o[0], o[1], o[2], o[3] = v, v, v, 255
 	}
+}
+
+// rowWindow holds consecutive input rows, converted to NRGBA, for a band
+// of upright rows that sample them in order: rows [lo, lo+n) of the input
+// at buf[(y−lo)·4w]. It slides down as the rows ask for lower input rows
+// (rows no longer needed are dropped by moving the kept ones to the
+// front), so each input row is converted once per band.
+type rowWindow struct {
+	src   *source
+	buf   []uint8
+	lo, n int
+	k     int // capacity in rows
+}
+
+func newRowWindow(src *source, k int) *rowWindow {
+	k = min(k, src.h)
+	return &rowWindow{src: src, buf: make([]uint8, k*4*src.w), k: k}
+}
+
+// cover makes the window hold the input rows [r0, r1] (clipped to the
+// input; r1 − r0 < k) and returns its pixels, stride and first row, as
+// affineSepRow reads them.
+func (wd *rowWindow) cover(r0, r1 int) (sp []uint8, ss, lo int) {
+	rs := 4 * wd.src.w
+	r0, r1 = max(r0, 0), min(r1, wd.src.h-1)
+	switch {
+	case r1 < r0:
+		// Nothing of the input under this row.
+	case r0 < wd.lo || r0 >= wd.lo+wd.n:
+		wd.lo, wd.n = r0, 0
+	case r1 >= wd.lo+wd.k:
+		d := r0 - wd.lo
+		copy(wd.buf, wd.buf[d*rs:wd.n*rs])
+		wd.lo, wd.n = r0, wd.n-d
+	}
+	for ; wd.lo+wd.n <= r1; wd.n++ {
+		wd.src.row(wd.buf[wd.n*rs:(wd.n+1)*rs], wd.lo+wd.n)
+	}
+	return wd.buf, rs, wd.lo
+}
+
+// windowSpan returns the number of input rows one upright row of width
+// w crosses under the affine map hm (upright px → input px) when bands of
+// upright rows can read them through a rowWindow: hm[4] > 0 (input rows
+// advance with upright rows) and the span is below an eighth of the
+// input's h rows; otherwise 0.
+func windowSpan(hm Homography, w, h int) int {
+	if hm[4] <= 0 {
+		return 0
+	}
+	span := int(math.Ceil(math.Abs(hm[3])*float64(w-1))) + 3
+	if 8*span > h {
+		return 0
+	}
+	return span
 }

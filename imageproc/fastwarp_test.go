@@ -97,7 +97,7 @@ func TestAffineSepRowMatches(t *testing.T) {
 			x0, y0 := toFix32(hm[1]*fy+hm[2]), toFix32(hm[4]*fy+hm[5])
 			affineRowNRGBA(want, src.Pix, src.Stride, sw, sh, 0, x0, y0, sx, sy)
 			f.row(want, g, wm[0], wm[1], wm[2])
-			f.affineSepRow(got, g, gm[0], gm[1], gm[2], src.Pix, src.Stride, sw, sh, x0, y0, sx, sy)
+			f.affineSepRow(got, g, gm[0], gm[1], gm[2], src.Pix, src.Stride, sw, sh, 0, x0, y0, sx, sy)
 			if !bytes.Equal(want, got) {
 				t.Fatalf("case %d row %d: colour differs", k, y)
 			}
