@@ -164,17 +164,21 @@ func downscaleSource(src *source, f int) *image.NRGBA {
 	sw, sh := src.w, src.h
 	w, h := (sw+f-1)/f, (sh+f-1)/f
 	dst := image.NewNRGBA(image.Rect(0, 0, w, h))
-	acc := make([]uint32, 4*w)
-	cnt := make([]uint32, w)
-	buf := make([]uint8, 4*sw)
-	for oy := 0; oy < h; oy++ {
-		clear(acc)
-		clear(cnt)
-		for sy := oy * f; sy < min(sh, oy*f+f); sy++ {
-			accumulateRow(acc, cnt, src.row(buf, sy), f, w, sw)
+	// Bands of work rows among GOMAXPROCS workers (a Y′CbCr page is
+	// converted here).
+	rowBands(h, func(o0, o1 int) {
+		acc := make([]uint32, 4*w)
+		cnt := make([]uint32, w)
+		buf := make([]uint8, 4*sw)
+		for oy := o0; oy < o1; oy++ {
+			clear(acc)
+			clear(cnt)
+			for sy := oy * f; sy < min(sh, oy*f+f); sy++ {
+				accumulateRow(acc, cnt, src.row(buf, sy), f, w, sw)
+			}
+			finishRow(dst.Pix[oy*dst.Stride:oy*dst.Stride+4*w], acc, cnt)
 		}
-		finishRow(dst.Pix[oy*dst.Stride:oy*dst.Stride+4*w], acc, cnt)
-	}
+	})
 	return dst
 }
 
