@@ -127,17 +127,6 @@ type separator struct {
 	et, eb []float32
 }
 
-// sharing returns the panels of a row whose bands share columns with b.
-func (s *separator) sharing(row []panelJob, b image.Rectangle) []panelJob {
-	var out []panelJob
-	for _, q := range row {
-		if !q.bounds.Empty() && q.bounds.Max.X > b.Min.X && q.bounds.Min.X < b.Max.X {
-			out = append(out, q)
-		}
-	}
-	return out
-}
-
 // below re-follows the panels js with the ink at and below the paths of
 // the row beneath (nb) removed; above, with the ink at and above the paths
 // of the row over them (nb) removed.

@@ -69,6 +69,14 @@ func TestSeparateRowsSharedColumns(t *testing.T) {
 			if got := minY(pj[1][0].pr.points, 90, 115); got < tc.apex1-10 || got > math.Max(first1, tc.apex1)+0.5 {
 				t.Errorf("lower row's apex at y %.1f, drawn at %g (first pass %.1f)", got, tc.apex1, first1)
 			}
+			// At 25 mm/mV the same rows are 0.8 mV apart, closer than
+			// minOrderPitchMV: the pass leaves them as first followed.
+			pj = twoRowJobs(m, b0, b1)
+			first0 := minY(pj[0][0].pr.points, 90, 115)
+			separateRows(m, pj, &cr, 10, 250)
+			if got := minY(pj[0][0].pr.points, 90, 115); got != first0 {
+				t.Errorf("rows 0.8 mV apart: upper apex moved from %.1f to %.1f", first0, got)
+			}
 		})
 	}
 }
