@@ -51,8 +51,11 @@
 //     from node to node (the same quality-guided scheme; two-frequency
 //     phase reading is common practice in fringe analysis), which mends
 //     regions the first fit numbered a period off, and the map is
-//     refitted to the nodes. A fit whose rms exceeds a twelfth of a
-//     period is refused and the coarse page kept. The page
+//     refitted to the nodes with a bicubic B-spline residual field (de
+//     Boor, A Practical Guide to Splines, 1978, from memory; knots every
+//     20 mm, second differences penalised). A fit whose rms exceeds a
+//     twelfth of a period is refused and the coarse page kept. The page
+//     is cropped to the grid seen, on the sheet (paper mask). The page
 //     is resampled once through a Mesh (nodes every 16 px, bilinear
 //     between them), kept in Page.Mesh; Page.SourcePoint maps upright px
 //     to input px through it;

@@ -110,7 +110,18 @@ func meshHomography(m *Mesh) (Homography, bool) {
 // fullToWork maps src px to it. On failure p is left as it is, with a
 // warning.
 func registerPhoto(p *Page, src *image.NRGBA, pre, toSrc Homography, bgw *background, fullToWork Homography, sep *separator, f int, wInk *image.Gray) {
-	lm, ok := registerLattice(latticeMap8(p))
+	// The sheet on the coarse page: the paper mask of its background.
+	cw, ch := p.Color.Rect.Dx(), p.Color.Rect.Dy()
+	cb := max(8, min(cw, ch)/f/24) * f
+	cbg := bgw.resample(Mul(fullToWork, toSrc), cw, ch, cb)
+	var onSheet func(u, v float64) bool
+	if mask := paperMask(cbg); mask != nil {
+		onSheet = func(u, v float64) bool {
+			bx, by := int(u)/cb, int(v)/cb
+			return u >= 0 && v >= 0 && bx < cbg.nx && by < cbg.ny && mask[by*cbg.nx+bx]
+		}
+	}
+	lm, ok := registerLattice(latticeMap8(p), onSheet)
 	if !ok {
 		p.Warnings = append(p.Warnings, "photo: the grid lattice could not be registered; lens or curl distortion is not corrected")
 		return
