@@ -170,18 +170,38 @@ func emptyFraction(prof []float64) float64 {
 	// Nearly empty: below 5 % of the span's mean. (A fraction of the
 	// maximum made the flat columns of a page with tall, crossing QRS
 	// strokes count as empty: one stroke column outweighs them 30-fold.)
+	// Each entry is judged by the mean over ±r entries (r ≈ ½–1 mm at the
+	// work scale): a pen line broken by a pixel or two where the confident
+	// ink level drops it is not an empty column (a photographed rhythm
+	// strip's dotted baseline made a third of its columns 'empty' and the
+	// page was turned a quarter), while the gaps between rows of traces
+	// are many millimetres wide.
 	sum := 0.0
 	for _, v := range prof[lo : hi+1] {
 		sum += v
 	}
-	lim := 0.05 * sum / float64(hi-lo+1)
+	n0 := hi - lo + 1
+	lim := 0.05 * sum / float64(n0)
+	r := max(1, len(prof)/300)
+	win := 0.0
+	for i := lo; i <= min(hi, lo+r); i++ {
+		win += prof[i]
+	}
 	n := 0
-	for _, v := range prof[lo : hi+1] {
-		if v < lim {
+	for i := lo; i <= hi; i++ {
+		// win holds prof[max(lo, i−r) … min(hi, i+r)].
+		a, b := max(lo, i-r), min(hi, i+r)
+		if win/float64(b-a+1) < lim {
 			n++
 		}
+		if i+r+1 <= hi {
+			win += prof[i+r+1]
+		}
+		if i-r >= lo {
+			win -= prof[i-r]
+		}
 	}
-	return float64(n) / float64(hi-lo+1)
+	return float64(n) / float64(n0)
 }
 
 // orientInk is the confident-ink level (of 255) for the orientation
