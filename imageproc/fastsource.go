@@ -111,8 +111,9 @@ func (s *source) row(buf []uint8, y int) []uint8 {
 // ycbcrRow converts row y of m (Rect.Min at the origin) into d (4 bytes
 // per pixel): the JFIF full-range conversion (ITU-T T.871 §7) in the
 // 16-bit fixed point of image/color's YCbCrToRGB, which gives identical
-// bytes. (Computing the chroma terms once per chroma sample, or storing
-// each pixel as one word, measured slower: 4.2 and 5.3 against 3.8 ns/px.)
+// bytes. With 2:1 horizontal chroma (4:2:0, 4:2:2) the chroma terms are
+// computed once per pixel pair (measured 15 % faster; storing each pixel
+// as one word measured slower).
 func ycbcrRow(d []uint8, m *image.YCbCr, hs uint, y int) {
 	w := m.Rect.Dx()
 	yr := m.Y[y*m.YStride : y*m.YStride+w]
@@ -121,8 +122,25 @@ func ycbcrRow(d []uint8, m *image.YCbCr, hs uint, y int) {
 	cbr := m.Cb[c0 : c0+cw]
 	crr := m.Cr[c0 : c0+cw]
 	d = d[:4*w]
-	for x, yv := range yr {
-		yy1 := int32(yv) * 0x10101
+	x0 := 0
+	if hs == 1 {
+		n := w / 2
+		cbr, crr = cbr[:n], crr[:n]
+		for c, cb := range cbr {
+			cb1 := int32(cb) - 128
+			cr1 := int32(crr[c]) - 128
+			kr, kg, kb := 91881*cr1, -22554*cb1-46802*cr1, 116130*cb1
+			p := yr[2*c : 2*c+2 : 2*c+2]
+			o := d[8*c : 8*c+8 : 8*c+8]
+			y0, y1 := int32(p[0])*0x10101, int32(p[1])*0x10101
+			o[0], o[1], o[2], o[3] = clip16(y0+kr), clip16(y0+kg), clip16(y0+kb), 255
+			o[4], o[5], o[6], o[7] = clip16(y1+kr), clip16(y1+kg), clip16(y1+kb), 255
+		}
+		x0 = 2 * n
+		cbr, crr = m.Cb[c0:c0+cw], m.Cr[c0:c0+cw]
+	}
+	for x := x0; x < w; x++ {
+		yy1 := int32(yr[x]) * 0x10101
 		cb1 := int32(cbr[x>>hs]) - 128
 		cr1 := int32(crr[x>>hs]) - 128
 		o := d[4*x : 4*x+4 : 4*x+4]
