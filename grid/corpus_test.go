@@ -180,7 +180,7 @@ func TestCorpusPhoto(t *testing.T) {
 // misnumbers lines (rms about 11 px) and is mended by the node refinement
 // on the 1 mm lines. Before the clearer-tile retry the page kept the
 // coarse correction (6.5 mm residual, px/mm 4 % off); with the retry alone
-// 0.89 mm; with the refinement 0.16 mm. The bounds are the issue's:
+// 0.89 mm; with the refinement 0.10 mm. The bounds are the issue's:
 // residual ≤ 0.5 mm, px/mm within 1 %, orientation right.
 func TestCorpusPhotoGreyDense(t *testing.T) {
 	checkPhotoPage(t, 1000, 11)
@@ -191,7 +191,7 @@ func TestCorpusPhotoGreyDense(t *testing.T) {
 // numbered a period off (tiles on the desk and at the sheet's edge): it
 // was left with 3.8 mm of distortion at a corner. The node refinement
 // unwraps the 1 mm lines' offsets from node to node and mends it
-// (0.16 mm). Bounds as in TestCorpusPhotoGreyDense.
+// (0.02 mm). Bounds as in TestCorpusPhotoGreyDense.
 func TestCorpusPhotoMisnumbered(t *testing.T) {
 	checkPhotoPage(t, 2000, 6)
 }
