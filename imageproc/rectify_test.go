@@ -239,3 +239,39 @@ func TestUnwrapOffsets(t *testing.T) {
 		}
 	}
 }
+
+// TestRegisterLatticeCropsToSheet checks that the registered page's crop
+// (the grid seen plus three periods) stops at the sheet's edge: the grid
+// ends at x = 1100 px, the sheet at 1140 px (desk beyond), so the 15 mm
+// margin would reach 1175 px and take the sheet's edge, which the later
+// stages read as a trace. Without the sheet test the crop goes past it.
+func TestRegisterLatticeCropsToSheet(t *testing.T) {
+	const w, h = 1500, 1100
+	img := latticeImage(w, h, func(u, v float64) (float64, float64) { return u / 5, v / 5 })
+	for y := 0; y < h; y++ {
+		clear(img.Pix[y*img.Stride+1100 : y*img.Stride+w])
+	}
+	onSheet := func(u, v float64) bool { return u < 1140 }
+	right := func(lm *latticeMap) float64 {
+		r := 0.0
+		for y := 100.0; y < float64(lm.h0)-100; y += 50 {
+			u, _ := lm.at(float64(lm.w-1), y)
+			r = max(r, u)
+		}
+		return r
+	}
+	lm, ok := registerLattice(img, onSheet)
+	if !ok {
+		t.Fatal("lattice not registered")
+	}
+	if r := right(lm); r > 1140 || r < 1090 {
+		t.Errorf("registered page's right edge at x = %.0f px, want on the sheet (≤ 1140) and past the grid's end (1100 less half a period)", r)
+	}
+	free, ok := registerLattice(img, nil)
+	if !ok {
+		t.Fatal("lattice not registered without the sheet test")
+	}
+	if r := right(free); r <= 1140 {
+		t.Errorf("without the sheet test the right edge is at %.0f px: the case does not test the clip", r)
+	}
+}
