@@ -177,14 +177,8 @@ func findRows(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse) []rowI
 	if k := countPulseMM(rows); 2*k < len(rows) && findStackedPulses(ink, rows, cal) {
 		// The stack spans the trace rows: a row above or below it
 		// without a pulse is header or footer text crossed by tall
-		// complexes.
-		lo, hi := len(rows), -1
-		for i, r := range rows {
-			if r.hasPulse {
-				lo, hi = min(lo, i), max(hi, i)
-			}
-		}
-		rows = rows[lo : hi+1]
+		// complexes, one close to a pulse row a tangle of complexes.
+		rows = stackRows(rows)
 	}
 	// When most rows start with a calibration pulse, rows without one are
 	// header or footer text, or stray marks.

@@ -82,8 +82,9 @@ type pulseEdge struct{ x0, x1 int }
 func (s pulseEdge) centre() float64 { return float64(s.x0+s.x1) / 2 }
 
 // findStackedPulses looks for overlapping calibration pulses at the left
-// end of the rows (see above) and, when at least three quarters of the
-// rows (and three or more) show a complete rectangle at one printed gain,
+// end of the rows (see above) and, when three or more rows, and at least
+// three quarters of the trace rows of the stack (missedRows), show a
+// complete rectangle at one printed gain,
 // gives those rows that pulse: 0 mV at the foot beside the falling
 // stroke (the row's baseline when the foot is not found), the height and
 // the trace start pulseTailMM after the falling stroke. It replaces what
@@ -102,9 +103,9 @@ func findStackedPulses(ink *image.Gray, rows []rowInfo, cal grid.Calibration) bo
 	sort.Ints(x0s)
 	xa := max(ink.Rect.Min.X+1, x0s[0]-int(14*pxX))
 	xb := min(ink.Rect.Max.X-1, x0s[n/2]+int(25*pxX))
-	// Stacked pulse strokes cover the 3 mm above every row's baseline:
-	// candidate strokes are the columns that do so on at least three
-	// quarters of the rows.
+	// Stacked pulse strokes cover the 3 mm above every trace row's
+	// baseline: candidate strokes are the columns that do so on at least
+	// half of the rows (header and footer lines are rows here too).
 	var strokes []pulseEdge
 	in := false
 	for x := xa; x < xb; x++ {
@@ -114,7 +115,7 @@ func findStackedPulses(ink *image.Gray, rows []rowInfo, cal grid.Calibration) bo
 				k++
 			}
 		}
-		ok := 4*k >= 3*n
+		ok := k >= 3 && 2*k >= n
 		switch {
 		case ok && !in:
 			strokes = append(strokes, pulseEdge{x, x})
@@ -158,7 +159,7 @@ func findStackedPulses(ink *image.Gray, rows []rowInfo, cal grid.Calibration) bo
 			}
 		}
 	}
-	if best.count < 3 || 4*best.count < 3*n {
+	if best.count < 3 || 4*best.count < 3*(best.count+missedRows(rows, best.tops)) {
 		return false
 	}
 	for ri := range rows {
@@ -210,4 +211,94 @@ func countPulseMM(rows []rowInfo) int {
 		}
 	}
 	return k
+}
+
+// stackRows returns the rows of a page whose pulses were read as a stack
+// (findStackedPulses): the rows from the first to the last with a pulse,
+// without those that sit within 0.6 of the stack's pitch from a row with
+// a pulse (profile peaks of the complexes tangled between two rows).
+func stackRows(rows []rowInfo) []rowInfo {
+	tops := make([]float64, len(rows))
+	for i, r := range rows {
+		tops[i] = math.NaN()
+		if r.hasPulse {
+			tops[i] = r.baseY
+		}
+	}
+	near := nearStack(rows, tops)
+	var out []rowInfo
+	lo, hi := math.Inf(1), math.Inf(-1)
+	for _, r := range rows {
+		if r.hasPulse {
+			lo, hi = math.Min(lo, r.baseY), math.Max(hi, r.baseY)
+		}
+	}
+	for i, r := range rows {
+		if r.baseY < lo || r.baseY > hi || !r.hasPulse && near[i] {
+			continue
+		}
+		out = append(out, r)
+	}
+	return out
+}
+
+// missedRows counts the rows without a top (NaN in tops) between the
+// first and the last row with one that sit at least 0.6 of the stack's
+// pitch (the median spacing of consecutive rows with a top) from every
+// row with a top: trace rows whose pulse was not read. Rows above and
+// below the stack are header and footer text, and profile peaks between
+// two trace rows are tangles of their complexes (dropCrowdedRows).
+func missedRows(rows []rowInfo, tops []float64) int {
+	miss := 0
+	for i, n := range nearStack(rows, tops) {
+		if !n && math.IsNaN(tops[i]) && inStack(rows, tops, i) {
+			miss++
+		}
+	}
+	return miss
+}
+
+// inStack reports whether row i lies between the first and the last row
+// with a top.
+func inStack(rows []rowInfo, tops []float64, i int) bool {
+	lo, hi := math.Inf(1), math.Inf(-1)
+	for ri, y := range tops {
+		if !math.IsNaN(y) {
+			lo, hi = math.Min(lo, rows[ri].baseY), math.Max(hi, rows[ri].baseY)
+		}
+	}
+	return rows[i].baseY >= lo && rows[i].baseY <= hi
+}
+
+// nearStack reports for each row without a top whether it lies within 0.6
+// of the stack's pitch (the median spacing of consecutive rows with a top)
+// of a row with one.
+func nearStack(rows []rowInfo, tops []float64) []bool {
+	near := make([]bool, len(rows))
+	var ys, sp []float64
+	for ri, y := range tops {
+		if !math.IsNaN(y) {
+			if len(ys) > 0 {
+				sp = append(sp, rows[ri].baseY-ys[len(ys)-1])
+			}
+			ys = append(ys, rows[ri].baseY)
+		}
+	}
+	if len(sp) == 0 {
+		return near
+	}
+	sort.Float64s(sp)
+	pitch := sp[(len(sp)-1)/2]
+	for ri, r := range rows {
+		if !math.IsNaN(tops[ri]) {
+			continue
+		}
+		for _, y := range ys {
+			if math.Abs(y-r.baseY) < 0.6*pitch {
+				near[ri] = true
+				break
+			}
+		}
+	}
+	return near
 }
