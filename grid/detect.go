@@ -64,6 +64,9 @@ func Detect(p *imageproc.Page, opt *Options) (*Result, error) {
 	px, okx := measureAxis(gm, true)
 	py, oky := measureAxis(gm, false)
 	if okx && oky {
+		okx, oky = trustTags(p, o, px, py, &r.Warnings)
+	}
+	if okx && oky {
 		// Both axes of one page: unresolved minor lines on one axis only
 		// show up as a 5:1 disagreement.
 		px, py = reconcile(px, py)
@@ -335,4 +338,38 @@ func settle5(pitch, dpi float64, warn *[]string, axis string) float64 {
 		*warn = append(*warn, fmt.Sprintf("grid: %s grid gives %.4g px/mm but the resolution says %.4g; trusting the grid", axis, pitch, prior))
 	}
 	return pitch
+}
+
+// trustTags settles a disagreement between the two axes of a grey or 1-bit
+// page (a fax) whose resolution tags are known for both axes: when one
+// axis agrees with its tag within 0.5 % and the other is more than 1 %
+// off both its tag and the first axis, the second is taken as not
+// measured (it then comes from the tags, with a warning). Binarisation
+// leaves the grid's horizontal lines the most fragile part of a fax in
+// standard mode (98 lines per inch), and what the row profile then holds
+// is not a grid: the steps of the deskewed vertical lines (a one-pixel
+// line at a tilt θ moves a column every 1/tan θ rows; at 1.49° that read
+// as a 5 mm period 4.9 % short), or the rhythm of the resampling to
+// square pixels (17 % off on an unskewed page). A fax's resolution is fixed
+// by its mode (ITU-T T.4: 204 dpi across, 3.85 or 7.7 lines/mm down;
+// standards.md §6.1); a colour page is left alone, as is a page where
+// neither axis agrees with its tags.
+func trustTags(p *imageproc.Page, o Options, px, py axisFit, warn *[]string) (okx, oky bool) {
+	if p.GridColor != imageproc.GridGrey && p.GridColor != imageproc.GridNone {
+		return true, true
+	}
+	ux, uy := orOther(o.DPIX, p.DPIX)/25.4, orOther(o.DPIY, p.DPIY)/25.4
+	if ux <= 0 || uy <= 0 {
+		return true, true
+	}
+	off := func(v, ref float64) float64 { return math.Abs(v/ref - 1) }
+	switch {
+	case off(px.pitch, ux) <= 0.005 && off(py.pitch, uy) > 0.01 && off(py.pitch, px.pitch*uy/ux) > 0.01:
+		*warn = append(*warn, fmt.Sprintf("grid: the y axis read %.4g px/mm, %.1f %% off the resolution while x agrees with it; y not measured", py.pitch, 100*(py.pitch/uy-1)))
+		return true, false
+	case off(py.pitch, uy) <= 0.005 && off(px.pitch, ux) > 0.01 && off(px.pitch, py.pitch*ux/uy) > 0.01:
+		*warn = append(*warn, fmt.Sprintf("grid: the x axis read %.4g px/mm, %.1f %% off the resolution while y agrees with it; x not measured", px.pitch, 100*(px.pitch/ux-1)))
+		return false, true
+	}
+	return true, true
 }

@@ -65,6 +65,10 @@ func TestFaxGridlessCalibration(t *testing.T) {
 		{"6x2", 13, true},
 		// Dashed vertical 5 mm lines survive (98 dpi): x from the grid.
 		{"3x4+3", 3, false},
+		// Vertical lines only, deskewed by 1.49°: their steps every
+		// 1/tan 1.49° = 38.5 px down the page read as a 5 mm period along
+		// y, 4.9 % short (gain 10.67 mm/mV), until trustTags.
+		{"12x1", 3, false},
 	} {
 		pg, r := faxPage(t, c.layout, c.seed)
 		// Prepare makes the pixels square at the x resolution.
