@@ -57,8 +57,7 @@ func Score(res *pipeline.Result, err error, truth *render.Truth, full *ecg.Recor
 		p.PxPerMMXErrPct, p.PxPerMMYErrPct = F(100*s.PxPerMMErrX), F(100*s.PxPerMMErrY)
 		p.SkewErrDeg, p.ResidualMM = F(s.SkewErrDeg), F(s.ResidualMM)
 	}
-	if res.Grid != nil {
-		c := res.Grid.Calibration
+	if c, ok := res.Calibration(); ok {
 		p.GainCorrect = math.Abs(c.GainMMPerMV.V/truth.GainMMPerMV-1) < 0.02
 		p.GainFromPulse = string(c.GainMMPerMV.Origin) == "pulse"
 		p.SpeedCorrect = math.Abs(c.SpeedMMPerS.V/truth.SpeedMMPerS-1) < 0.02

@@ -72,6 +72,21 @@ func (r *Result) Record() *ecg.Record {
 	return &r.Trace.Record
 }
 
+// Calibration returns the calibration the record was made with: the
+// trace stage's (which may re-read the gain from the rows' pulses) once
+// it ran, else the grid stage's; ok is false before the grid stage.
+func (r *Result) Calibration() (c grid.Calibration, ok bool) {
+	switch {
+	case r == nil:
+		return c, false
+	case r.Trace != nil:
+		return r.Trace.Calibration, true
+	case r.Grid != nil:
+		return r.Grid.Calibration, true
+	}
+	return c, false
+}
+
 // Elapsed returns the total time of the stages that ran.
 func (r *Result) Elapsed() time.Duration {
 	var d time.Duration

@@ -12,6 +12,7 @@ import (
 	"math/rand/v2"
 	"strings"
 	"testing"
+	"tracelift/grid"
 	"tracelift/internal/cputime"
 
 	"github.com/stretchr/testify/assert"
@@ -240,4 +241,32 @@ func TestRunWarningsPrefixedOnce(t *testing.T) {
 		sawGrid = sawGrid || stage == pipeline.StageGrid
 	}
 	assert.True(t, sawGrid, "a gridless page must warn from the grid stage: %q", res.Warnings)
+}
+
+// A 12 × 1 page printed at 20 mm/mV whose pulses, taller than the row
+// pitch, only the trace stage reads as one stack: the calibration that
+// Result reports (and the CLI writes) is the one the record was made
+// with; a gain the user gives is kept.
+func TestRunCalibrationIsTheRecords(t *testing.T) {
+	_, page := renderCase(t, "overlap", "12x1", 2)
+	require.Equal(t, 20.0, page.Truth.GainMMPerMV)
+	src := decode.Page{Image: page.Image, Index: 1}
+	res, err := pipeline.Run(context.Background(), src, pipeline.Config{})
+	if err != nil {
+		require.ErrorIs(t, err, ecg.ErrPartial)
+	}
+	c, ok := res.Calibration()
+	require.True(t, ok)
+	assert.Equal(t, 20.0, c.GainMMPerMV.V)
+	assert.Equal(t, grid.FromPulse, c.GainMMPerMV.Origin)
+	assert.Equal(t, c.GainMMPerMV.V, res.Record().Meta.GainMMPerMV)
+
+	res, err = pipeline.Run(context.Background(), src, pipeline.Config{GainMMPerMV: 10})
+	if err != nil {
+		require.ErrorIs(t, err, ecg.ErrPartial)
+	}
+	c, ok = res.Calibration()
+	require.True(t, ok)
+	assert.Equal(t, grid.Value{V: 10, Origin: grid.FromOption}, c.GainMMPerMV)
+	assert.Equal(t, 10.0, res.Record().Meta.GainMMPerMV)
 }

@@ -33,13 +33,18 @@ type Panel struct {
 
 // Result is the outcome of Extract.
 type Result struct {
-	Record   ecg.Record           // one signal per lead, uniform rate from t = 0, NaN where not printed; Meta.SpeedMMPerS and GainMMPerMV filled
-	Layout   Layout               // the layout used (detected or given)
-	Panels   []Panel              // one per printed segment
-	Quality  map[ecg.Lead]float64 // per lead, 0..1
-	Limb     ecg.LimbConsistency  // Einthoven/Goldberger residual of the extracted limb leads
-	Flagged  []ecg.Lead           // leads that failed the self-check
-	Warnings []string
+	Record ecg.Record // one signal per lead, uniform rate from t = 0, NaN where not printed; Meta.SpeedMMPerS and GainMMPerMV filled
+	// Calibration is the one the signals were converted with: the given
+	// one with Extract's defaults for a missing speed or gain, and the
+	// gain re-read from the rows' calibration pulses when the given one
+	// was a default or disagreed with them.
+	Calibration grid.Calibration
+	Layout      Layout               // the layout used (detected or given)
+	Panels      []Panel              // one per printed segment
+	Quality     map[ecg.Lead]float64 // per lead, 0..1
+	Limb        ecg.LimbConsistency  // Einthoven/Goldberger residual of the extracted limb leads
+	Flagged     []ecg.Lead           // leads that failed the self-check
+	Warnings    []string
 }
 
 // LeadError reports a lead that could not be extracted.
@@ -125,7 +130,9 @@ func Extract(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse, opt *Op
 		}
 		sort.Float64s(hs)
 		g0 := cal.GainMMPerMV.V
-		if len(hs) > 0 && (cal.GainMMPerMV.Origin == grid.FromDefault || len(hs) >= 2 && math.Abs(hs[len(hs)/2]-g0) > 0.2*g0) {
+		// A gain the user gave stands (the grid stage warns when the
+		// pulses disagree with it).
+		if cal.GainMMPerMV.Origin != grid.FromOption && len(hs) > 0 && (cal.GainMMPerMV.Origin == grid.FromDefault || len(hs) >= 2 && math.Abs(hs[len(hs)/2]-g0) > 0.2*g0) {
 			sort.Float64s(hs)
 			g := hs[len(hs)/2]
 			for _, std := range []float64{5, 10, 20} {
@@ -141,6 +148,7 @@ func Extract(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse, opt *Op
 			cal.GainMMPerMV = grid.Value{V: g, Origin: grid.FromPulse}
 		}
 	}
+	res.Calibration = cal
 	for i := range rows {
 		up, down := bandAround(rows, i, cal.PxPerMMY.V)
 		findTicks(ink, &rows[i], cal, up, down)

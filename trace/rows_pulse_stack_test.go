@@ -128,6 +128,10 @@ func TestStackedPulsesPage(t *testing.T) {
 			if g := res.Record.Meta.GainMMPerMV; g != 20 {
 				t.Errorf("gain %g mm/mV, want 20 (the printed pulses)", g)
 			}
+			// The calibration reported with the record is the one used.
+			if g := res.Calibration.GainMMPerMV; g.V != 20 || g.Origin != grid.FromPulse {
+				t.Errorf("reported gain %v, want 20 from the pulses", g)
+			}
 			if n := len(res.Record.Signals); n != 12 {
 				t.Errorf("%d leads, want 12 (err %v)", n, err)
 			}

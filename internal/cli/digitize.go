@@ -406,8 +406,7 @@ func printPageSummary(w io.Writer, p pageOutcome) {
 	if missing := missingLeads(r.Trace); len(missing) > 0 {
 		fmt.Fprintf(w, "  missing    %s\n", strings.Join(missing, " "))
 	}
-	if g := r.Grid; g != nil {
-		c := g.Calibration
+	if c, ok := r.Calibration(); ok {
 		fmt.Fprintf(w, "  calibration %.3f × %.3f px/mm (%s), %.4g mm/s (%s), %.4g mm/mV (%s), layout %s\n",
 			c.PxPerMMX.V, c.PxPerMMY.V, c.PxPerMMX.Origin, c.SpeedMMPerS.V, c.SpeedMMPerS.Origin,
 			c.GainMMPerMV.V, c.GainMMPerMV.Origin, layoutName(&r.Trace.Layout))

@@ -26,9 +26,9 @@ func pageRecord(srcPath string, pg decode.Page, r *pipeline.Result) ecg.Record {
 	rec := r.Trace.Record.Clone()
 	rec.Meta.Source = filepath.Base(srcPath)
 	rec.Meta.Page = pg.Index
-	if r.Grid != nil {
-		rec.Meta.SpeedMMPerS = r.Grid.Calibration.SpeedMMPerS.V
-		rec.Meta.GainMMPerMV = r.Grid.Calibration.GainMMPerMV.V
+	if c, ok := r.Calibration(); ok {
+		rec.Meta.SpeedMMPerS = c.SpeedMMPerS.V
+		rec.Meta.GainMMPerMV = c.GainMMPerMV.V
 	}
 	if r.Report != nil {
 		rec.Beats = rec.Beats[:0]
@@ -48,8 +48,7 @@ func pageRecord(srcPath string, pg decode.Page, r *pipeline.Result) ecg.Record {
 func pageReport(rec ecg.Record, r *pipeline.Result, layoutGiven bool) *export.Report {
 	rep := export.NewReport(rec)
 	rep.Generator = "tracelift " + Version
-	if g := r.Grid; g != nil {
-		c := g.Calibration
+	if c, ok := r.Calibration(); ok {
 		v := func(x grid.Value) export.Value {
 			return export.Value{Value: measure.Num(x.V), Origin: string(x.Origin)}
 		}
@@ -179,9 +178,9 @@ func overlaySegments(r *pipeline.Result) []overlay.Segment {
 
 func overlayOptions(rec ecg.Record, r *pipeline.Result) *overlay.Options {
 	c := "tracelift " + Version + " — " + rec.Meta.Source
-	if g := r.Grid; g != nil {
-		c += fmt.Sprintf(" — %.2f px/mm (%s), %.4g mm/s, %.4g mm/mV", g.Calibration.PxPerMMX.V, g.Calibration.PxPerMMX.Origin,
-			g.Calibration.SpeedMMPerS.V, g.Calibration.GainMMPerMV.V)
+	if k, ok := r.Calibration(); ok {
+		c += fmt.Sprintf(" — %.2f px/mm (%s), %.4g mm/s, %.4g mm/mV", k.PxPerMMX.V, k.PxPerMMX.Origin,
+			k.SpeedMMPerS.V, k.GainMMPerMV.V)
 	}
 	return &overlay.Options{Caption: c + " — verify against the original tracing"}
 }
