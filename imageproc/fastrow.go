@@ -67,21 +67,9 @@ func (f *sepFixed) sampleColour(col []uint8, g []uint32, gr, ir, dr []uint8, sp 
 		i := int(sy>>32)*ss + 4*int(sx>>32)
 		ax := int32(((sx & (fixOne - 1)) + 1<<23) >> 24)
 		ay := int32(((sy & (fixOne - 1)) + 1<<23) >> 24)
-		// Σ w·c with the weights (256−ax)(256−ay), ax(256−ay),
-		// (256−ax)ay, ax·ay is exactly the lerp along y of two lerps
-		// along x, each 256·c0 + a·(c1 − c0): three products per
-		// channel instead of four plus the weights.
 		c0 := sp[i : i+8 : i+8]
 		c1 := sp[i+ss : i+ss+8 : i+ss+8]
-		t0 := int32(c0[0])<<8 + ax*(int32(c0[4])-int32(c0[0]))
-		t1 := int32(c1[0])<<8 + ax*(int32(c1[4])-int32(c1[0]))
-		r := uint32(t0<<8+ay*(t1-t0)+32768) >> 16
-		t0 = int32(c0[1])<<8 + ax*(int32(c0[5])-int32(c0[1]))
-		t1 = int32(c1[1])<<8 + ax*(int32(c1[5])-int32(c1[1]))
-		gg := uint32(t0<<8+ay*(t1-t0)+32768) >> 16
-		t0 = int32(c0[2])<<8 + ax*(int32(c0[6])-int32(c0[2]))
-		t1 = int32(c1[2])<<8 + ax*(int32(c1[6])-int32(c1[2]))
-		b := uint32(t0<<8+ay*(t1-t0)+32768) >> 16
+		r, gg, b := bilerp8(c0, c1, 0, ax, ay), bilerp8(c0, c1, 1, ax, ay), bilerp8(c0, c1, 2, ax, ay)
 		sx += stepX
 		sy += stepY
 		o := col[4*x : 4*x+4 : 4*x+4]
@@ -108,21 +96,9 @@ func (f *sepFixed) sampleGrey(col []uint8, g []uint32, gr, ir []uint8, sp []uint
 		i := int(sy>>32)*ss + 4*int(sx>>32)
 		ax := int32(((sx & (fixOne - 1)) + 1<<23) >> 24)
 		ay := int32(((sy & (fixOne - 1)) + 1<<23) >> 24)
-		// Σ w·c with the weights (256−ax)(256−ay), ax(256−ay),
-		// (256−ax)ay, ax·ay is exactly the lerp along y of two lerps
-		// along x, each 256·c0 + a·(c1 − c0): three products per
-		// channel instead of four plus the weights.
 		c0 := sp[i : i+8 : i+8]
 		c1 := sp[i+ss : i+ss+8 : i+ss+8]
-		t0 := int32(c0[0])<<8 + ax*(int32(c0[4])-int32(c0[0]))
-		t1 := int32(c1[0])<<8 + ax*(int32(c1[4])-int32(c1[0]))
-		r := uint32(t0<<8+ay*(t1-t0)+32768) >> 16
-		t0 = int32(c0[1])<<8 + ax*(int32(c0[5])-int32(c0[1]))
-		t1 = int32(c1[1])<<8 + ax*(int32(c1[5])-int32(c1[1]))
-		gg := uint32(t0<<8+ay*(t1-t0)+32768) >> 16
-		t0 = int32(c0[2])<<8 + ax*(int32(c0[6])-int32(c0[2]))
-		t1 = int32(c1[2])<<8 + ax*(int32(c1[6])-int32(c1[2]))
-		b := uint32(t0<<8+ay*(t1-t0)+32768) >> 16
+		r, gg, b := bilerp8(c0, c1, 0, ax, ay), bilerp8(c0, c1, 1, ax, ay), bilerp8(c0, c1, 2, ax, ay)
 		sx += stepX
 		sy += stepY
 		o := col[4*x : 4*x+4 : 4*x+4]
@@ -135,4 +111,15 @@ func (f *sepFixed) sampleGrey(col []uint8, g []uint32, gr, ir []uint8, sp []uint
 		gr[x] = uint8(lum)
 		ir[x] = sat8(((255 - int32(lum) - loG) * spanG) >> 10)
 	}
+}
+
+// bilerp8 interpolates channel k of the 2 × 2 NRGBA block whose rows start
+// at c0 and c1 (8 bytes each) at the 8-bit fractions ax, ay. Σ w·c with the
+// weights (256−ax)(256−ay), ax(256−ay), (256−ax)ay, ax·ay is exactly the
+// lerp along y of two lerps along x, each 256·c0 + a·(c1 − c0): three
+// products instead of four plus the weights.
+func bilerp8(c0, c1 []uint8, k int, ax, ay int32) uint32 {
+	t0 := int32(c0[k])<<8 + ax*(int32(c0[k+4])-int32(c0[k]))
+	t1 := int32(c1[k])<<8 + ax*(int32(c1[k+4])-int32(c1[k]))
+	return uint32(t0<<8+ay*(t1-t0)+32768) >> 16
 }
