@@ -515,71 +515,20 @@ func unwrap(tiles []tieTile, nx, ny, step int, mx, my, frac float64) bool {
 	// scale of what a grid tile looks like on this page; frac of their
 	// quality).
 	thr := max(0.15, frac*sorted[len(sorted)*9/10])
-	comp := make([]int, len(tiles))
-	for i := range comp {
-		comp[i] = -1
-	}
-	type edge struct {
-		q        float64
-		from, to int
-	}
-	var heap []edge
-	push := func(i int) {
-		tx, ty := i%nx, i/nx
-		for _, d := range [4][2]int{{1, 0}, {-1, 0}, {0, 1}, {0, -1}} {
-			x, y := tx+d[0], ty+d[1]
-			if x < 0 || y < 0 || x >= nx || y >= ny {
-				continue
-			}
-			if j := y*nx + x; comp[j] < 0 && qs[j] >= thr {
-				heap = append(heap, edge{min(qs[i], qs[j]), i, j})
-			}
-		}
-	}
-	var sizes []int
-	for c := 0; ; c++ {
-		start := -1
-		for i := range tiles {
-			if comp[i] < 0 && qs[i] >= thr && (start < 0 || qs[i] > qs[start]) {
-				start = i
-			}
-		}
-		if start < 0 {
-			break
-		}
-		comp[start] = c
-		tiles[start].jx, tiles[start].jy = 0, 0
-		n := 1
-		push(start)
-		for len(heap) > 0 {
-			// Most reliable edge first.
-			k := 0
-			for i := range heap {
-				if heap[i].q > heap[k].q {
-					k = i
-				}
-			}
-			e := heap[k]
-			heap[k] = heap[len(heap)-1]
-			heap = heap[:len(heap)-1]
-			if comp[e.to] >= 0 {
-				continue
-			}
-			t, f := &tiles[e.to], tiles[e.from]
+	comp, sizes := growRegions(nx, ny, func(i int) float64 { return qs[i] }, func(i int) bool { return qs[i] >= thr },
+		func(i int) { tiles[i].jx, tiles[i].jy = 0, 0 },
+		func(from, to int) bool {
+			t, f := &tiles[to], tiles[from]
 			rx, ry := (t.x.pos-f.x.pos)/mx, (t.y.pos-f.y.pos)/my
 			if math.Abs(rx-math.Round(rx)) > 0.3 || math.Abs(ry-math.Round(ry)) > 0.3 {
 				// An ambiguous step (a local scale change, or a line
 				// misread): the tile may be reached by another path.
-				continue
+				return false
 			}
 			t.jx = f.jx + int(math.Round(rx))
 			t.jy = f.jy + int(math.Round(ry))
-			comp[e.to] = c
-			n++
-			push(e.to)
-		}
-		sizes = append(sizes, n)
-	}
+			return true
+		})
 	if len(sizes) == 0 {
 		return false
 	}
@@ -869,69 +818,18 @@ func linePhase(sum, wt, win, prof []float64, bw, L, T float64) (float64, float64
 // of P so that their median is nearest zero (the model's numbering kept
 // where it holds).
 func (g *nodeGrid) unwrapOffsets(pi, k int, thr, P float64) []float64 {
-	n := len(g.n)
-	off := make([]float64, n)
-	comp := make([]int, n)
-	for i := range comp {
-		comp[i] = -1
-	}
+	off := make([]float64, len(g.n))
 	q := func(i int) float64 { return g.n[i].q[pi][k] }
-	good := func(i int) bool { return g.n[i].ok && q(i) >= thr }
-	type edge struct {
-		q        float64
-		from, to int
-	}
-	var heap []edge
-	push := func(i int) {
-		ix, iy := i%g.nx, i/g.nx
-		for _, d := range [4][2]int{{1, 0}, {-1, 0}, {0, 1}, {0, -1}} {
-			x, y := ix+d[0], iy+d[1]
-			if x < 0 || y < 0 || x >= g.nx || y >= g.ny {
-				continue
-			}
-			if j := y*g.nx + x; comp[j] < 0 && good(j) {
-				heap = append(heap, edge{min(q(i), q(j)), i, j})
-			}
-		}
-	}
-	var sizes []int
-	for c := 0; ; c++ {
-		start := -1
-		for i := range g.n {
-			if comp[i] < 0 && good(i) && (start < 0 || q(i) > q(start)) {
-				start = i
-			}
-		}
-		if start < 0 {
-			break
-		}
-		off[start], comp[start] = g.n[start].d[pi][k], c
-		size := 1
-		push(start)
-		for len(heap) > 0 {
-			b := 0
-			for i := range heap {
-				if heap[i].q > heap[b].q {
-					b = i
-				}
-			}
-			e := heap[b]
-			heap[b] = heap[len(heap)-1]
-			heap = heap[:len(heap)-1]
-			if comp[e.to] >= 0 {
-				continue
-			}
-			r := (off[e.from] - g.n[e.to].d[pi][k]) / P
+	comp, sizes := growRegions(g.nx, g.ny, q, func(i int) bool { return g.n[i].ok && q(i) >= thr },
+		func(i int) { off[i] = g.n[i].d[pi][k] },
+		func(from, to int) bool {
+			r := (off[from] - g.n[to].d[pi][k]) / P
 			if math.Abs(r-math.Round(r)) > 0.3 {
-				continue
+				return false
 			}
-			off[e.to] = g.n[e.to].d[pi][k] + P*math.Round(r)
-			comp[e.to] = c
-			size++
-			push(e.to)
-		}
-		sizes = append(sizes, size)
-	}
+			off[to] = g.n[to].d[pi][k] + P*math.Round(r)
+			return true
+		})
 	if len(sizes) == 0 {
 		return nil
 	}
@@ -1190,4 +1088,69 @@ func (m *latticeMap) clipToSheet(onSheet func(u, v float64) bool, x0, y0, x1, y1
 		y1 = max(y1-S/2, m.hi.Y)
 	}
 	return math.Floor(x0), math.Floor(y0), math.Ceil(x1), math.Ceil(y1)
+}
+
+// growRegions grows regions over an nx × ny grid of cells by
+// quality-guided unwrapping (Ghiglia & Pritt 1998): each region
+// starts at the best usable cell not yet reached (begin(i) sets it up)
+// and then takes the most reliable edge first — an edge from a reached
+// cell to a usable 4-neighbour, as reliable as the lesser quality of the
+// two — where join(from, to) reports whether cell to could be unwrapped
+// from its neighbour (and does it). It returns each cell's region (−1 for
+// none) and the regions' sizes.
+func growRegions(nx, ny int, q func(i int) float64, usable func(i int) bool, begin func(i int), join func(from, to int) bool) (comp, sizes []int) {
+	comp = make([]int, nx*ny)
+	for i := range comp {
+		comp[i] = -1
+	}
+	type edge struct {
+		q        float64
+		from, to int
+	}
+	var queue []edge
+	push := func(i int) {
+		ix, iy := i%nx, i/nx
+		for _, d := range [4][2]int{{1, 0}, {-1, 0}, {0, 1}, {0, -1}} {
+			x, y := ix+d[0], iy+d[1]
+			if x < 0 || y < 0 || x >= nx || y >= ny {
+				continue
+			}
+			if j := y*nx + x; comp[j] < 0 && usable(j) {
+				queue = append(queue, edge{min(q(i), q(j)), i, j})
+			}
+		}
+	}
+	for c := 0; ; c++ {
+		start := -1
+		for i := range comp {
+			if comp[i] < 0 && usable(i) && (start < 0 || q(i) > q(start)) {
+				start = i
+			}
+		}
+		if start < 0 {
+			return comp, sizes
+		}
+		begin(start)
+		comp[start] = c
+		size := 1
+		push(start)
+		for len(queue) > 0 {
+			b := 0
+			for i := range queue {
+				if queue[i].q > queue[b].q {
+					b = i
+				}
+			}
+			e := queue[b]
+			queue[b] = queue[len(queue)-1]
+			queue = queue[:len(queue)-1]
+			if comp[e.to] >= 0 || !join(e.from, e.to) {
+				continue
+			}
+			comp[e.to] = c
+			size++
+			push(e.to)
+		}
+		sizes = append(sizes, size)
+	}
 }
