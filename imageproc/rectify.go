@@ -515,7 +515,7 @@ func unwrap(tiles []tieTile, nx, ny, step int, mx, my, frac float64) bool {
 	// scale of what a grid tile looks like on this page; frac of their
 	// quality).
 	thr := max(0.15, frac*sorted[len(sorted)*9/10])
-	comp, sizes := growRegions(nx, ny, func(i int) float64 { return qs[i] }, func(i int) bool { return qs[i] >= thr },
+	comp, big, size := growRegions(nx, ny, func(i int) float64 { return qs[i] }, func(i int) bool { return qs[i] >= thr },
 		func(i int) { tiles[i].jx, tiles[i].jy = 0, 0 },
 		func(from, to int) bool {
 			t, f := &tiles[to], tiles[from]
@@ -529,19 +529,13 @@ func unwrap(tiles []tieTile, nx, ny, step int, mx, my, frac float64) bool {
 			t.jy = f.jy + int(math.Round(ry))
 			return true
 		})
-	if len(sizes) == 0 {
+	if big < 0 {
 		return false
-	}
-	big := 0
-	for c, n := range sizes {
-		if n > sizes[big] {
-			big = c
-		}
 	}
 	for i := range tiles {
 		tiles[i].seen = comp[i] == big
 	}
-	return sizes[big] >= 12
+	return size >= 12
 }
 
 // fitLattice fits lattice px → coarse px: a homography by the normalised
@@ -820,7 +814,7 @@ func linePhase(sum, wt, win, prof []float64, bw, L, T float64) (float64, float64
 func (g *nodeGrid) unwrapOffsets(pi, k int, thr, P float64) []float64 {
 	off := make([]float64, len(g.n))
 	q := func(i int) float64 { return g.n[i].q[pi][k] }
-	comp, sizes := growRegions(g.nx, g.ny, q, func(i int) bool { return g.n[i].ok && q(i) >= thr },
+	comp, big, _ := growRegions(g.nx, g.ny, q, func(i int) bool { return g.n[i].ok && q(i) >= thr },
 		func(i int) { off[i] = g.n[i].d[pi][k] },
 		func(from, to int) bool {
 			r := (off[from] - g.n[to].d[pi][k]) / P
@@ -830,14 +824,8 @@ func (g *nodeGrid) unwrapOffsets(pi, k int, thr, P float64) []float64 {
 			off[to] = g.n[to].d[pi][k] + P*math.Round(r)
 			return true
 		})
-	if len(sizes) == 0 {
+	if big < 0 {
 		return nil
-	}
-	big := 0
-	for c, sz := range sizes {
-		if sz > sizes[big] {
-			big = c
-		}
 	}
 	var vs []float64
 	for i := range off {
@@ -1097,9 +1085,10 @@ func (m *latticeMap) clipToSheet(onSheet func(u, v float64) bool, x0, y0, x1, y1
 // cell to a usable 4-neighbour, as reliable as the lesser quality of the
 // two — where join(from, to) reports whether cell to could be unwrapped
 // from its neighbour (and does it). It returns each cell's region (−1 for
-// none) and the regions' sizes.
-func growRegions(nx, ny int, q func(i int) float64, usable func(i int) bool, begin func(i int), join func(from, to int) bool) (comp, sizes []int) {
-	comp = make([]int, nx*ny)
+// none) and the largest region with its size (big −1 when no cell is
+// usable).
+func growRegions(nx, ny int, q func(i int) float64, usable func(i int) bool, begin func(i int), join func(from, to int) bool) (comp []int, big, bigSize int) {
+	comp, big = make([]int, nx*ny), -1
 	for i := range comp {
 		comp[i] = -1
 	}
@@ -1128,7 +1117,7 @@ func growRegions(nx, ny int, q func(i int) float64, usable func(i int) bool, beg
 			}
 		}
 		if start < 0 {
-			return comp, sizes
+			return comp, big, bigSize
 		}
 		begin(start)
 		comp[start] = c
@@ -1151,6 +1140,8 @@ func growRegions(nx, ny int, q func(i int) float64, usable func(i int) bool, beg
 			size++
 			push(e.to)
 		}
-		sizes = append(sizes, size)
+		if size > bigSize {
+			big, bigSize = c, size
+		}
 	}
 }
