@@ -12,20 +12,16 @@ import (
 	"github.com/stretchr/testify/assert"
 	"github.com/stretchr/testify/require"
 
+	"tracelift/accuracy"
 	"tracelift/imageproc"
 	"tracelift/render"
 )
 
 // renderCorpusPage prints corpus record seed under a condition and layout,
-// as the evaluation corpus does (accuracy.RenderCase).
+// as the evaluation corpus does.
 func renderCorpusPage(tb testing.TB, cond, layout string, seed uint64) image.Image {
 	tb.Helper()
-	rec, err := render.CorpusRecord(seed, cond == "overlap")
-	require.NoError(tb, err)
-	o, err := render.ConditionOptions(cond, seed)
-	require.NoError(tb, err)
-	o.Layout = layout
-	pg, err := render.Render(rec, o)
+	_, pg, err := accuracy.RenderCase(accuracy.Case{Condition: cond, Layout: layout, Seed: seed})
 	require.NoError(tb, err)
 	return pg.Image
 }
