@@ -83,7 +83,7 @@ func Evaluate(p *imageproc.Page, r *Result, ref Reference) Score {
 		lo[0], lo[1] = min(lo[0], u), min(lo[1], v)
 		hi[0], hi[1] = max(hi[0], u), max(hi[1], v)
 	}
-	W, H := float64(p.Color.Rect.Dx()-1), float64(p.Color.Rect.Dy()-1)
+	W, H := float64(p.Ink.Rect.Dx()-1), float64(p.Ink.Rect.Dy()-1)
 	lo[0], lo[1] = max(lo[0], 0), max(lo[1], 0)
 	hi[0], hi[1] = min(hi[0], W), min(hi[1], H)
 	// Least squares X = a·u + c and Y = b·v + e over the lattice points

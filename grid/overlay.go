@@ -12,7 +12,7 @@ import (
 // boxes with their baseline) and the page outline (orange). The page is
 // faded so that the marks stand out.
 func (r *Result) Overlay(p *imageproc.Page) *image.NRGBA {
-	src := p.Color
+	src := p.Upright()
 	b := src.Rect
 	w, h := b.Dx(), b.Dy()
 	out := image.NewNRGBA(image.Rect(0, 0, w, h))

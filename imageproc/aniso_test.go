@@ -30,7 +30,7 @@ func TestPrepareAnisotropic(t *testing.T) {
 	}
 	// ToSource still maps to the squashed input: the page's centre row
 	// goes to about k × its upright y.
-	_, y := Apply(p.ToSource, float64(p.Color.Rect.Dx())/2, float64(p.Color.Rect.Dy())/2)
+	_, y := Apply(p.ToSource, float64(p.Ink.Rect.Dx())/2, float64(p.Ink.Rect.Dy())/2)
 	if want := float64(s.h-1) / 2; math.Abs(y-want) > 3 {
 		t.Errorf("centre maps to y %.1f, want %.1f", y, want)
 	}

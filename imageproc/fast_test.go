@@ -22,6 +22,13 @@ func preparePair(t *testing.T, img image.Image) (got, ref *Page) {
 		t.Fatalf("geometry differs: %.4f° q%d %s, reference %.4f° q%d %s", got.RotationDeg, got.QuarterTurns, got.GridColor,
 			ref.RotationDeg, ref.QuarterTurns, ref.GridColor)
 	}
+	// The colour page made on demand is the input warped through the
+	// page's map (the whole-image warp, not the row passes).
+	want := image.NewNRGBA(ref.Ink.Rect)
+	warpNRGBA(want, toNRGBA(img), ref.ToSource)
+	if mx, _ := mapDiff(t, got.Upright().Pix, want.Pix, 0); mx != 0 {
+		t.Errorf("Upright differs from the warped input by up to %d", mx)
+	}
 	return got, ref
 }
 
@@ -57,7 +64,7 @@ func TestPrepareReadsInputsInPlace(t *testing.T) {
 		rgba := &image.RGBA{Pix: nrgba.Pix, Stride: nrgba.Stride, Rect: nrgba.Rect}
 		got, ref := preparePair(t, rgba)
 		for name, m := range map[string][2][]uint8{"ink": {got.Ink.Pix, ref.Ink.Pix}, "grid": {got.Grid.Pix, ref.Grid.Pix},
-			"gray": {got.Gray.Pix, ref.Gray.Pix}, "colour": {got.Color.Pix, ref.Color.Pix}} {
+			"gray": {got.Gray.Pix, ref.Gray.Pix}, "colour": {got.Upright().Pix, ref.Upright().Pix}} {
 			if mx, _ := mapDiff(t, m[0], m[1], 0); mx != 0 {
 				t.Errorf("RGBA %.1f°: %s differs by up to %d", deg, name, mx)
 			}
@@ -90,7 +97,7 @@ func TestPrepareReadsInputsInPlace(t *testing.T) {
 			}
 			got, ref = preparePair(t, ycc)
 			for name, m := range map[string][2][]uint8{"ink": {got.Ink.Pix, ref.Ink.Pix}, "grid": {got.Grid.Pix, ref.Grid.Pix},
-				"gray": {got.Gray.Pix, ref.Gray.Pix}, "colour": {got.Color.Pix, ref.Color.Pix}} {
+				"gray": {got.Gray.Pix, ref.Gray.Pix}, "colour": {got.Upright().Pix, ref.Upright().Pix}} {
 				if mx, _ := mapDiff(t, m[0], m[1], 0); mx != 0 {
 					t.Errorf("Y′CbCr %.1f° turned %d: %s differs by up to %d", deg, q, name, mx)
 				}

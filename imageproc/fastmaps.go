@@ -65,27 +65,24 @@ func (f *sepFixed) row(row []uint8, g []uint32, gr, ir, dr []uint8) {
 	}
 }
 
-// upright makes the w×h upright page in one pass over its rows: each row
-// is sampled from the input through toSrc (upright px → input px; a plain
-// copy or conversion when toSrc is the identity) into the colour image
-// and separated: an affine sample of NRGBA input is separated in the same
-// loop (affineSepRow), other rows while they are still in cache. No
-// colour image or map is read back from memory, and 8-bit RGBA or grey
-// input is never copied as a whole. Rows are independent,
-// so they are shared among GOMAXPROCS workers; the result does not depend
-// on their number. A projective toSrc (photos) takes the general warp
-// first.
+// upright makes the w×h upright page's maps in one pass over its rows:
+// each row is sampled from the input through toSrc (upright px → input
+// px; a plain copy or conversion when toSrc is the identity) and
+// separated: an affine sample of NRGBA input is separated in the same
+// loop (affineSepRow), other rows while they are still in cache. No map
+// is read back from memory, and 8-bit RGBA or grey input is never copied
+// as a whole. The upright colour page col is returned only where it
+// costs nothing more (the input itself, or a projective warp made first
+// for photos); otherwise it is nil and Page.Upright resamples it on
+// demand (uprightColour, the same bytes): only overlays read it, and
+// writing it cost a 35 MB image per A4 page. Rows are independent, so
+// they are shared among GOMAXPROCS workers; the result does not depend
+// on their number.
 func (s *separator) upright(src *source, toSrc Homography, w, h int, bg *background) (col *image.NRGBA, gray, ink, grd *image.Gray) {
 	r := image.Rect(0, 0, w, h)
 	gray, ink, grd = image.NewGray(r), image.NewGray(r), image.NewGray(r)
 	f := s.fixed()
-	hm := toSrc
-	affine := hm[6] == 0 && hm[7] == 0
-	if affine && hm[8] != 1 {
-		for i := range hm {
-			hm[i] /= toSrc[8]
-		}
-	}
+	hm, affine := affineMap(toSrc)
 	ident := toSrc == identity && w == src.w && h == src.h
 	switch {
 	case ident && src.rgb != nil:
@@ -93,56 +90,39 @@ func (s *separator) upright(src *source, toSrc Homography, w, h int, bg *backgro
 	case !affine:
 		col = image.NewNRGBA(r)
 		warpNRGBA(col, src.nrgba(), toSrc)
-	default:
-		col = image.NewNRGBA(r)
 	}
 	stepX, stepY := toFix32(hm[0]), toFix32(hm[3])
-	// Y′CbCr input under a small turn: each band converts the input rows
-	// its rows cross into a sliding window (rowWindow); otherwise (a
-	// quarter turn makes every row cross the whole input) it is converted
-	// once, before the bands.
-	span := 0
-	if affine && !ident && src.rgb == nil && src.ycc != nil {
-		span = windowSpan(hm, w, src.h)
-		if span == 0 {
-			src.nrgba()
-		}
-	}
+	span := yccSpan(src, hm, affine && !ident, w)
 	band := func(y0, y1 int) {
 		g := make([]uint32, 3*w)
+		buf := make([]uint8, 4*w) // one colour row, when col is not kept
 		var sc gainScratch
 		var win *rowWindow
 		if span > 0 {
 			win = newRowWindow(src, 2*span+8)
 		}
 		for y := y0; y < y1; y++ {
-			row := col.Pix[y*col.Stride : y*col.Stride+4*w]
+			var row []uint8
+			if col != nil {
+				row = col.Pix[y*col.Stride : y*col.Stride+4*w]
+			}
 			bg.gainRowFixedInto(g, &sc, y, w)
 			switch {
-			case !affine || col == src.rgb:
+			case col != nil:
 				// Already in place.
 			case ident:
-				row = src.row(row, y)
+				row = src.row(buf, y)
 			case src.rgb != nil || win != nil:
 				// Sampled and separated in one loop.
-				fy := float64(y)
-				sx, sy := toFix32(hm[1]*fy+hm[2]), toFix32(hm[4]*fy+hm[5])
-				var sp []uint8
-				var ss, lo int
-				if win != nil {
-					// The input rows under this row: y0 of its first and
-					// last source points, and the row below.
-					sy1 := sy + int64(w-1)*stepY
-					sp, ss, lo = win.cover(int(min(sy, sy1)>>32), int(max(sy, sy1)>>32)+1)
-				} else {
-					sp, ss = src.rgb.Pix, src.rgb.Stride
-				}
-				f.affineSepRow(row, g, gray.Pix[y*gray.Stride:y*gray.Stride+w], ink.Pix[y*ink.Stride:y*ink.Stride+w],
+				sx, sy := rowStart(hm, y)
+				sp, ss, lo := rowInput(src, win, sy, sy+int64(w-1)*stepY)
+				f.affineSepRow(buf, g, gray.Pix[y*gray.Stride:y*gray.Stride+w], ink.Pix[y*ink.Stride:y*ink.Stride+w],
 					grd.Pix[y*grd.Stride:y*grd.Stride+w], sp, ss, src.w, src.h, lo, sx, sy, stepX, stepY)
 				continue
 			default:
-				fy := float64(y)
-				src.affineRow(row, toFix32(hm[1]*fy+hm[2]), toFix32(hm[4]*fy+hm[5]), stepX, stepY)
+				sx, sy := rowStart(hm, y)
+				row = buf
+				src.affineRow(row, sx, sy, stepX, stepY)
 			}
 			f.row(row, g, gray.Pix[y*gray.Stride:y*gray.Stride+w],
 				ink.Pix[y*ink.Stride:y*ink.Stride+w], grd.Pix[y*grd.Stride:y*grd.Stride+w])
@@ -150,6 +130,89 @@ func (s *separator) upright(src *source, toSrc Homography, w, h int, bg *backgro
 	}
 	rowBands(h, band)
 	return col, gray, ink, grd
+}
+
+// uprightColour returns the w×h upright colour page that upright samples
+// through toSrc when it does not keep it: the same bytes, row by row
+// (through a sliding window of converted rows for Y′CbCr input).
+func uprightColour(src *source, toSrc Homography, w, h int) *image.NRGBA {
+	col := image.NewNRGBA(image.Rect(0, 0, w, h))
+	hm, affine := affineMap(toSrc)
+	ident := toSrc == identity && w == src.w && h == src.h
+	if !affine {
+		warpNRGBA(col, src.nrgba(), toSrc)
+		return col
+	}
+	stepX, stepY := toFix32(hm[0]), toFix32(hm[3])
+	span := yccSpan(src, hm, !ident, w)
+	rowBands(h, func(y0, y1 int) {
+		var win *rowWindow
+		if span > 0 {
+			win = newRowWindow(src, 2*span+8)
+		}
+		for y := y0; y < y1; y++ {
+			row := col.Pix[y*col.Stride : y*col.Stride+4*w]
+			sx, sy := rowStart(hm, y)
+			switch {
+			case ident:
+				if r := src.row(row, y); &r[0] != &row[0] {
+					copy(row, r)
+				}
+			case src.rgb != nil || win != nil:
+				sp, ss, lo := rowInput(src, win, sy, sy+int64(w-1)*stepY)
+				affineRowNRGBA(row, sp, ss, src.w, src.h, lo, sx, sy, stepX, stepY)
+			default:
+				src.affineRow(row, sx, sy, stepX, stepY)
+			}
+		}
+	})
+	return col
+}
+
+// affineMap returns toSrc scaled so that its last entry is 1 when it is
+// affine (last row 0 0 c), and whether it is.
+func affineMap(toSrc Homography) (Homography, bool) {
+	hm := toSrc
+	affine := hm[6] == 0 && hm[7] == 0
+	if affine && hm[8] != 1 {
+		for i := range hm {
+			hm[i] /= toSrc[8]
+		}
+	}
+	return hm, affine
+}
+
+// yccSpan returns the rowWindow span (windowSpan) for sampling a Y′CbCr
+// input through the affine map hm, 0 when the input is not Y′CbCr, is not
+// sampled or cannot be read through a window; in that last case the
+// input is converted whole first (src.nrgba), as a quarter turn makes
+// every row cross the whole input.
+func yccSpan(src *source, hm Homography, sampled bool, w int) int {
+	if !sampled || src.rgb != nil || src.ycc == nil {
+		return 0
+	}
+	span := windowSpan(hm, w, src.h)
+	if span == 0 {
+		src.nrgba()
+	}
+	return span
+}
+
+// rowStart returns the source point of pixel 0 of upright row y under the
+// affine map hm, 32.32 fixed point.
+func rowStart(hm Homography, y int) (sx, sy int64) {
+	fy := float64(y)
+	return toFix32(hm[1]*fy + hm[2]), toFix32(hm[4]*fy + hm[5])
+}
+
+// rowInput returns the input pixels a row whose source points run from y
+// sy0 to sy1 (32.32) reads: the window covering those rows and the row
+// below, or the whole NRGBA input (win nil).
+func rowInput(src *source, win *rowWindow, sy0, sy1 int64) (sp []uint8, ss, lo int) {
+	if win == nil {
+		return src.rgb.Pix, src.rgb.Stride, 0
+	}
+	return win.cover(int(min(sy0, sy1)>>32), int(max(sy0, sy1)>>32)+1)
 }
 
 // downscaleSource is downscale for any source: rows are converted one at

@@ -3,15 +3,16 @@ package imageproc
 // affineSepRow is affineRowNRGBA followed by sepFixed.row for one row of
 // the upright page: each pixel is sampled bilinearly from the NRGBA input
 // (sw×sh, rows of ss bytes; the source point starts at (sx, sy) and
-// advances by (stepX, stepY) per pixel, 32.32 fixed point) into col (4
-// bytes per pixel) and separated into gr, ir and dr (grey pages leave dr
-// untouched) with the row's gains g (3 per pixel, 8.8 fixed point). The
-// bytes are those of the two functions (TestAffineSepRowMatches). The
-// pixels whose four neighbours all lie inside the input form one run
-// along the row (the source point moves on a line); that run is sampled
-// and separated in one loop without calls or range tests, the colour
-// row is not read back; the few pixels at the page's edges go through
-// the two functions.
+// advances by (stepX, stepY) per pixel, 32.32 fixed point) and separated
+// into gr, ir and dr (grey pages leave dr untouched) with the row's gains
+// g (3 per pixel, 8.8 fixed point). The maps are those of the two
+// functions (TestAffineSepRowMatches). The pixels whose four neighbours
+// all lie inside the input form one run along the row (the source point
+// moves on a line); that run is sampled and separated in one loop without
+// calls or range tests, and its colour samples are never stored (the
+// upright colour page is made only on demand: Page.Upright); the few
+// pixels at the page's edges go through the two functions, with col (4
+// bytes per pixel of the row) as their scratch.
 //
 // lo > 0 reads a window of the input's rows: row y starts at
 // sp[(y−lo)·ss] (the rows the line crosses must be there).
@@ -41,11 +42,11 @@ func (f *sepFixed) affineSepRow(col []uint8, g []uint32, gr, ir, dr []uint8, sp 
 	if xb > xa {
 		// Inside the run the window's rows are read directly.
 		s0, s1 := sx+int64(xa)*stepX, sy+int64(xa)*stepY-int64(lo)<<32
-		c, gg := col[4*xa:4*xb], g[3*xa:3*xb]
+		gg := g[3*xa : 3*xb]
 		if f.colour {
-			f.sampleColour(c, gg, gr[xa:xb], ir[xa:xb], dr[xa:xb], sp, ss, s0, s1, stepX, stepY)
+			f.sampleColour(gg, gr[xa:xb], ir[xa:xb], dr[xa:xb], sp, ss, s0, s1, stepX, stepY)
 		} else {
-			f.sampleGrey(c, gg, gr[xa:xb], ir[xa:xb], sp, ss, s0, s1, stepX, stepY)
+			f.sampleGrey(gg, gr[xa:xb], ir[xa:xb], sp, ss, s0, s1, stepX, stepY)
 		}
 	}
 	if xb < w {
@@ -57,12 +58,11 @@ func (f *sepFixed) affineSepRow(col []uint8, g []uint32, gr, ir, dr []uint8, sp 
 
 // sampleColour is the inner run of affineSepRow for a colour separator:
 // every source point of the run has its four neighbours inside.
-func (f *sepFixed) sampleColour(col []uint8, g []uint32, gr, ir, dr []uint8, sp []uint8, ss int, sx, sy, stepX, stepY int64) {
+func (f *sepFixed) sampleColour(g []uint32, gr, ir, dr []uint8, sp []uint8, ss int, sx, sy, stepX, stepY int64) {
 	ka, kb, off := f.ka, f.kb, f.off
 	ir = ir[:len(gr)]
 	dr = dr[:len(gr)]
 	g = g[:3*len(gr)]
-	col = col[:4*len(gr)]
 	for x := range gr {
 		i := int(sy>>32)*ss + 4*int(sx>>32)
 		ax := int32(((sx & (fixOne - 1)) + 1<<23) >> 24)
@@ -72,8 +72,6 @@ func (f *sepFixed) sampleColour(col []uint8, g []uint32, gr, ir, dr []uint8, sp 
 		r, gg, b := bilerp8(c0, c1, 0, ax, ay), bilerp8(c0, c1, 1, ax, ay), bilerp8(c0, c1, 2, ax, ay)
 		sx += stepX
 		sy += stepY
-		o := col[4*x : 4*x+4 : 4*x+4]
-		o[0], o[1], o[2], o[3] = uint8(r), uint8(gg), uint8(b), 255
 		k := g[3*x : 3*x+3 : 3*x+3]
 		rr := min(255, (r*k[0]+128)>>8)
 		gn := min(255, (gg*k[1]+128)>>8)
@@ -87,11 +85,10 @@ func (f *sepFixed) sampleColour(col []uint8, g []uint32, gr, ir, dr []uint8, sp 
 
 // sampleGrey is sampleColour for a grey separator (no grid map: the
 // structural split fills it).
-func (f *sepFixed) sampleGrey(col []uint8, g []uint32, gr, ir []uint8, sp []uint8, ss int, sx, sy, stepX, stepY int64) {
+func (f *sepFixed) sampleGrey(g []uint32, gr, ir []uint8, sp []uint8, ss int, sx, sy, stepX, stepY int64) {
 	loG, spanG := f.loG, f.spanG
 	ir = ir[:len(gr)]
 	g = g[:3*len(gr)]
-	col = col[:4*len(gr)]
 	for x := range gr {
 		i := int(sy>>32)*ss + 4*int(sx>>32)
 		ax := int32(((sx & (fixOne - 1)) + 1<<23) >> 24)
@@ -101,8 +98,6 @@ func (f *sepFixed) sampleGrey(col []uint8, g []uint32, gr, ir []uint8, sp []uint
 		r, gg, b := bilerp8(c0, c1, 0, ax, ay), bilerp8(c0, c1, 1, ax, ay), bilerp8(c0, c1, 2, ax, ay)
 		sx += stepX
 		sy += stepY
-		o := col[4*x : 4*x+4 : 4*x+4]
-		o[0], o[1], o[2], o[3] = uint8(r), uint8(gg), uint8(b), 255
 		k := g[3*x : 3*x+3 : 3*x+3]
 		rr := min(255, (r*k[0]+128)>>8)
 		gn := min(255, (gg*k[1]+128)>>8)

@@ -111,7 +111,7 @@ func meshHomography(m *Mesh) (Homography, bool) {
 // warning.
 func registerPhoto(p *Page, src *image.NRGBA, pre, toSrc Homography, bgw *background, fullToWork Homography, sep *separator, f int, wInk *image.Gray) {
 	// The sheet on the coarse page: the paper mask of its background.
-	cw, ch := p.Color.Rect.Dx(), p.Color.Rect.Dy()
+	cw, ch := p.Ink.Rect.Dx(), p.Ink.Rect.Dy()
 	cb := max(8, min(cw, ch)/f/24) * f
 	cbg := bgw.resample(Mul(fullToWork, toSrc), cw, ch, cb)
 	var onSheet func(u, v float64) bool
@@ -157,7 +157,7 @@ func registerPhoto(p *Page, src *image.NRGBA, pre, toSrc Homography, bgw *backgr
 	if !ok {
 		return
 	}
-	p.Color = color
+	p.Color, p.colour = color, nil
 	p.Mesh = full
 	p.ToSource = h
 	p.QuarterTurns = (p.QuarterTurns + q2) & 3

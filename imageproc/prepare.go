@@ -26,12 +26,15 @@ type Options struct {
 }
 
 // Page is an upright, rectified ECG page with ink and grid separated. All
-// images share the geometry of Color.
+// images share the geometry of Ink.
 type Page struct {
-	Color *image.NRGBA // upright, rectified page (original colours)
-	Ink   *image.Gray  // trace-ink strength 0..255 (255 = certainly ink); grid and paper removed
-	Grid  *image.Gray  // grid-line strength 0..255
-	Gray  *image.Gray  // luminance after background normalisation (255 = paper)
+	// Color is the upright, rectified page in its original colours when
+	// Prepare had it at no extra cost (an input needing no geometric
+	// correction, a photo); otherwise nil until Upright makes it.
+	Color *image.NRGBA
+	Ink   *image.Gray // trace-ink strength 0..255 (255 = certainly ink); grid and paper removed
+	Grid  *image.Gray // grid-line strength 0..255
+	Gray  *image.Gray // luminance after background normalisation (255 = paper)
 	// RotationDeg is the skew that was removed, degrees, counter-clockwise
 	// positive as seen on the input (after the quarter turns).
 	RotationDeg float64
@@ -55,6 +58,30 @@ type Page struct {
 	// page: equal when an anisotropic input was resampled to square pixels.
 	DPIX, DPIY float64
 	Warnings   []string
+
+	// colour remakes Color on demand: the input and the map from upright
+	// px to its pixels (nil once Color is set).
+	colour *colourSource
+}
+
+// colourSource is what Page.Upright resamples Color from.
+type colourSource struct {
+	src   *source
+	toSrc Homography
+}
+
+// Upright returns the upright, rectified page in its original colours
+// (the geometry of Ink), resampling it from the input on the first call
+// when Prepare did not keep it (the bytes it would have written: the
+// input's colours sampled bilinearly through the page's deskew and
+// quarter turns). Only pictures for people need it, so Prepare does not
+// spend a page-sized image on it. Not safe for concurrent first calls.
+func (p *Page) Upright() *image.NRGBA {
+	if p.Color == nil && p.colour != nil && p.Ink != nil {
+		p.Color = uprightColour(p.colour.src, p.colour.toSrc, p.Ink.Rect.Dx(), p.Ink.Rect.Dy())
+		p.colour = nil
+	}
+	return p.Color
 }
 
 // ErrBlank reports a page without any marks. It wraps ecg.ErrNoECG.
@@ -67,7 +94,8 @@ const workSide = 1024
 // separated ink and grid. It returns an error wrapping ecg.ErrUnreadable
 // for empty or oversized images and ErrBlank (ecg.ErrNoECG) for pages
 // without marks. img is not modified; Page.Color may share its memory when
-// no geometric correction is needed and img is an *image.NRGBA.
+// no geometric correction is needed and img is an *image.NRGBA, and
+// Page.Upright reads img (not a copy) when it makes Color later.
 func Prepare(img image.Image, opt *Options) (*Page, error) {
 	var o Options
 	if opt != nil {
@@ -190,6 +218,9 @@ func Prepare(img image.Image, opt *Options) (*Page, error) {
 	bg := bgw.resample(Mul(fullToWork, toSrc), OW, OH, ub*f)
 	// One pass: resample (or convert) each row and separate it.
 	p.Color, p.Gray, p.Ink, p.Grid = sep.upright(src, toSrc, OW, OH, bg)
+	if p.Color == nil {
+		p.colour = &colourSource{src: src, toSrc: toSrc}
+	}
 	if m := paperMask(bg); m != nil {
 		// A photo: blank out the table around the sheet.
 		applyMask(m, ub*f, p.Ink, p.Grid)
