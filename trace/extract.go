@@ -249,11 +249,24 @@ func Extract(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse, opt *Op
 	for ri, jobs := range pj {
 		lr, r := lay.Rows[ri], rows[ri]
 		var rowPanels []traced
+		xe := r.traceX0
 		for ci, c := range lr.Cells {
 			j := jobs[ci]
 			p := Panel{Lead: c.Lead, Negated: c.Negated, Row: ri, Col: ci, Bounds: j.bounds, T0: c.T0S, T1: c.T1S}
+			w := (c.T1S - c.T0S) * cal.SpeedMMPerS.V * pxX
+			xe0, xe1 := xe, xe+w
+			xe = xe1
 			if !j.bounds.Empty() {
-				p.Path = j.pr.points
+				// Column boundaries inside the row: the separator tick and
+				// the other lead's ends meet this panel's trace there.
+				var bnd []float64
+				if ci > 0 {
+					bnd = append(bnd, xe0)
+				}
+				if ci+1 < len(lr.Cells) {
+					bnd = append(bnd, xe1)
+				}
+				p.Path = trimAtBoundaries(j.pr.points, bnd, xe0, xe1, boundaryZonePen*j.pr.penPx, math.Max(boundaryFitMM*pxX, 3), 1*pxX)
 				cov := 0.0
 				if j.pr.cols > 0 {
 					cov = float64(j.pr.onInk) / float64(j.pr.cols)
