@@ -303,6 +303,20 @@ func Extract(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse, opt *Op
 		}
 		all = append(all, rowPanels...)
 	}
+	// Pass 3: limb leads printed at the same time are held to the
+	// Einthoven/Goldberger identities (limb_guide.go). Not on pages whose
+	// limb leads may still be renamed to the Cabrera order below.
+	if !detected || lay.Name != "3x4" && lay.Name != "3x4+1" && lay.Name != "3x4+3" {
+		ps, vs, xs := make([]*Panel, len(all)), make([][]float64, len(all)), make([]float64, len(all))
+		for i := range all {
+			p := &all[i].p
+			ps[i], vs[i], xs[i] = p, all[i].vals, rows[p.Row].traceX0
+			for _, c := range lay.Rows[p.Row].Cells[:p.Col] {
+				xs[i] += (c.T1S - c.T0S) * cal.SpeedMMPerS.V * pxX
+			}
+		}
+		res.Warnings = append(res.Warnings, guideLimb(ink, cal, o.SampleRate, ps, vs, xs, defaultLimbGuide)...)
+	}
 
 	build := func(names func(row, col int) (ecg.Lead, bool)) (rec ecg.Record, qual map[ecg.Lead]float64, warn []string) {
 		rec = ecg.Record{Meta: ecg.Metadata{SpeedMMPerS: cal.SpeedMMPerS.V, GainMMPerMV: cal.GainMMPerMV.V}}

@@ -133,7 +133,7 @@ func TestOverlapFloor(t *testing.T) {
 	}{
 		{accuracy.Case{Condition: "overlap", Layout: "3x4", Seed: 2}, 16},
 		{accuracy.Case{Condition: "overlap", Layout: "3x4", Seed: 3}, 14},
-		{accuracy.Case{Condition: "overlap", Layout: "6x2", Seed: 2}, 10},
+		{accuracy.Case{Condition: "overlap", Layout: "6x2", Seed: 2}, 13},
 	} {
 		t.Run(tc.c.Name(), func(t *testing.T) { checkPageFloor(t, tc.c, tc.floor) })
 	}
@@ -198,6 +198,44 @@ func TestRealRecords(t *testing.T) {
 			if sc.Median < s.floor {
 				t.Errorf("median SNR %.1f dB < %.0f dB", sc.Median, s.floor)
 			}
+		})
+	}
+}
+
+// TestLimbIdentityFloors digitises pages on which limb leads printed at
+// the same time lost their QRS complexes to merged strokes, and asserts
+// per-lead floors (PhysioNet/CinC Challenge 2024 SNR, standards.md §7,
+// lenient variant). On the clean 12 × 1 page of seed 2, aVR's deep S wave
+// runs into aVL's tall R wave: aVR read 8.1 dB and aVL 6.7 dB while I, II,
+// III and aVF read 28–30 dB; re-read where they break the Einthoven and
+// Goldberger identities the other limb leads agree on (guideLimb), 29.1
+// and 27.6 dB. On the overlap 6 × 2 page of seed 2 (20 mm/mV), aVR and
+// aVL went from 2.9 and 1.9 dB to 18.8 and 18.4 dB.
+func TestLimbIdentityFloors(t *testing.T) {
+	if testing.Short() {
+		t.Skip("renders full pages")
+	}
+	for _, tc := range []struct {
+		c     accuracy.Case
+		floor map[ecg.Lead]float64
+	}{
+		{accuracy.Case{Condition: "clean", Layout: "12x1", Seed: 2}, map[ecg.Lead]float64{ecg.LeadAVR: 25, ecg.LeadAVL: 24, ecg.LeadI: 26}},
+		{accuracy.Case{Condition: "overlap", Layout: "6x2", Seed: 2}, map[ecg.Lead]float64{ecg.LeadAVR: 16, ecg.LeadAVL: 16, ecg.LeadI: 17}},
+	} {
+		t.Run(tc.c.Name(), func(t *testing.T) {
+			cs := scoreCaseWith(t, tc.c, "", true)
+			if cs.err != nil {
+				t.Fatalf("digitise: %v", cs.err)
+			}
+			if cs.found != cs.printed || cs.swaps != 0 {
+				t.Errorf("found %d of %d leads, %d swaps", cs.found, cs.printed, cs.swaps)
+			}
+			for l, f := range tc.floor {
+				if v := cs.lenient.PerLead[l]; !(v >= f) {
+					t.Errorf("%v: %.1f dB < %g dB", l, v, f)
+				}
+			}
+			t.Logf("%s: %s", cs.name, fmtLeads(cs.lenient.PerLead))
 		})
 	}
 }

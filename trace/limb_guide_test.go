@@ -1,0 +1,138 @@
+package trace
+
+import (
+	"image"
+	"math"
+	"slices"
+	"strings"
+	"testing"
+
+	"tracelift/ecg"
+	"tracelift/grid"
+)
+
+// limbPage builds six simultaneous limb-lead panels (I, II, III, aVR,
+// aVL, aVF as on the first column of a 6 × 2 page: 10 px/mm, 25 mm/s,
+// 10 mm/mV, rows 15 mm apart), their true samples (III, aVR, aVL and aVF
+// derived from I and II by Einthoven's and Goldberger's laws,
+// standards.md §1.3) and an ink map with every trace drawn; skip, when
+// not nil, leaves that lead's ink out over the samples it marks.
+func limbPage(t *testing.T, skip func(l ecg.Lead, k int) bool) (*image.Gray, grid.Calibration, []*Panel, [][]float64, []float64) {
+	t.Helper()
+	const fs, n = 500.0, 1000
+	cal := grid.Calibration{
+		PxPerMMX: grid.Value{V: 10}, PxPerMMY: grid.Value{V: 10},
+		SpeedMMPerS: grid.Value{V: 25}, GainMMPerMV: grid.Value{V: 10},
+	}
+	// Invented beats: a 1.4 mV R wave in I and a 0.9 mV one in II 10 ms
+	// later, with slow waves between.
+	lI, lII := make([]float64, n), make([]float64, n)
+	for k := range n {
+		tt := float64(k) / fs
+		lI[k], lII[k] = 0.1*math.Sin(2*math.Pi*tt), 0.15*math.Cos(2*math.Pi*1.3*tt)
+		for _, r := range []float64{0.4, 1.2} {
+			lI[k] += 1.4 * math.Exp(-0.5*math.Pow((tt-r)/0.012, 2))
+			lII[k] += 0.9*math.Exp(-0.5*math.Pow((tt-r-0.01)/0.012, 2)) - 0.3*math.Exp(-0.5*math.Pow((tt-r-0.04)/0.01, 2))
+		}
+	}
+	ink := image.NewGray(image.Rect(0, 0, 700, 1200))
+	var panels []*Panel
+	var vals [][]float64
+	var xs []float64
+	for r, l := range ecg.LimbLeads {
+		a, b, _ := ecg.FrontalCoefficients(l)
+		v := make([]float64, n)
+		for k := range v {
+			v[k] = a*lI[k] + b*lII[k]
+		}
+		zero := 250 + 150*float64(r)
+		panels = append(panels, &Panel{Lead: l, Row: r, T0: 0, T1: 2, ZeroY: zero, Quality: 1})
+		vals = append(vals, v)
+		xs = append(xs, 50)
+		// The trace: per sample a vertical segment to the next sample's
+		// level (250 px/s: two samples per column), pen 3 px.
+		for k := 0; k+1 < n; k++ {
+			if skip != nil && skip(l, k) {
+				continue
+			}
+			x := int(math.Round(50 + float64(k)/fs*250))
+			y0, y1 := zero-v[k]*100, zero-v[k+1]*100
+			for y := int(math.Min(y0, y1)) - 1; y <= int(math.Max(y0, y1))+1; y++ {
+				ink.Pix[y*ink.Stride+x] = 255
+			}
+		}
+	}
+	return ink, cal, panels, vals, xs
+}
+
+// TestGuideLimbRestoresBrokenLead: aVL loses its R wave at 1.2 s (read
+// flat, as when its stroke merged with a neighbour's and the path stayed
+// on the baseline). The other five leads agree on the Einthoven and
+// Goldberger identities, the ink is there, so the stretch is re-read at
+// the consensus; the other leads and aVL's first beat are not touched.
+func TestGuideLimbRestoresBrokenLead(t *testing.T) {
+	ink, cal, panels, vals, xs := limbPage(t, nil)
+	truth := slices.Clone(vals[4])
+	others := make([][]float64, len(vals))
+	for i := range vals {
+		others[i] = slices.Clone(vals[i])
+	}
+	for k := 580; k < 640; k++ { // 1.16–1.28 s
+		vals[4][k] = 0
+	}
+	warn := guideLimb(ink, cal, 500, panels, vals, xs, defaultLimbGuide)
+	if len(warn) != 1 || !strings.Contains(warn[0], "aVL") {
+		t.Fatalf("warnings %q, want one naming aVL", warn)
+	}
+	worst := 0.0
+	for k := 560; k < 660; k++ {
+		worst = math.Max(worst, math.Abs(vals[4][k]-truth[k]))
+	}
+	// 0.02 mV: the leads' medians are removed and restored, exact here
+	// up to the median of a changed lead.
+	if worst > 0.02 {
+		t.Errorf("aVL after re-reading departs %.3f mV from the truth (before: 0.8 mV)", worst)
+	}
+	for i := range vals {
+		if i == 4 {
+			continue
+		}
+		if !slices.Equal(vals[i], others[i]) {
+			t.Errorf("lead %v changed", panels[i].Lead)
+		}
+	}
+}
+
+// TestGuideLimbNeedsInk: the same broken stretch, but the page has no
+// ink where the consensus would put aVL's R wave; the lead is left as
+// read (the identities guide the reading, they do not replace the page).
+func TestGuideLimbNeedsInk(t *testing.T) {
+	ink, cal, panels, vals, xs := limbPage(t, func(l ecg.Lead, k int) bool { return l == ecg.LeadAVL && k >= 560 && k < 660 })
+	for k := 580; k < 640; k++ {
+		vals[4][k] = 0
+	}
+	before := slices.Clone(vals[4])
+	if warn := guideLimb(ink, cal, 500, panels, vals, xs, defaultLimbGuide); len(warn) != 0 {
+		t.Errorf("warnings %q, want none", warn)
+	}
+	if !slices.Equal(vals[4], before) {
+		t.Error("aVL changed without ink under the consensus")
+	}
+}
+
+// TestGuideLimbConsistentUnchanged: six consistent leads are left alone.
+func TestGuideLimbConsistentUnchanged(t *testing.T) {
+	ink, cal, panels, vals, xs := limbPage(t, nil)
+	before := make([][]float64, len(vals))
+	for i := range vals {
+		before[i] = slices.Clone(vals[i])
+	}
+	if warn := guideLimb(ink, cal, 500, panels, vals, xs, defaultLimbGuide); len(warn) != 0 {
+		t.Errorf("warnings %q, want none", warn)
+	}
+	for i := range vals {
+		if !slices.Equal(vals[i], before[i]) {
+			t.Errorf("lead %v changed", panels[i].Lead)
+		}
+	}
+}
