@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"image"
 	"image/jpeg"
+	"math/rand/v2"
 	"testing"
 )
 
@@ -119,4 +120,28 @@ func turnNRGBA(m *image.NRGBA, q int) *image.NRGBA {
 		}
 	}
 	return d
+}
+
+// TestDownscaleYCbCrExact: the work copy of a 4:2:0 or 4:2:2 Y′CbCr input,
+// converted straight into the block sums, has the bytes of the box means
+// of the converted input (odd widths, partial blocks, random pixels, so
+// that every channel clips somewhere).
+func TestDownscaleYCbCrExact(t *testing.T) {
+	rng := rand.New(rand.NewPCG(21, 21))
+	for _, r := range []image.YCbCrSubsampleRatio{image.YCbCrSubsampleRatio420, image.YCbCrSubsampleRatio422} {
+		for _, sz := range [][2]int{{37, 23}, {64, 40}, {101, 9}} {
+			m := image.NewYCbCr(image.Rect(0, 0, sz[0], sz[1]), r)
+			for _, p := range [][]uint8{m.Y, m.Cb, m.Cr} {
+				for i := range p {
+					p[i] = uint8(rng.IntN(256))
+				}
+			}
+			for _, f := range []int{2, 3, 4, 6} {
+				got, want := downscaleSource(newSource(m), f), downscale(toNRGBA(m), f)
+				if !bytes.Equal(got.Pix, want.Pix) || got.Rect != want.Rect {
+					t.Errorf("%v %d×%d f=%d: work copy differs from the box means of the converted input", r, sz[0], sz[1], f)
+				}
+			}
+		}
+	}
 }

@@ -216,7 +216,8 @@ func rowInput(src *source, win *rowWindow, sy0, sy1 int64) (sp []uint8, ss, lo i
 }
 
 // downscaleSource is downscale for any source: rows are converted one at
-// a time (the same bytes as downscaling the converted input).
+// a time (the same bytes as downscaling the converted input); 4:2:0 and
+// 4:2:2 Y′CbCr rows are converted straight into the block sums.
 func downscaleSource(src *source, f int) *image.NRGBA {
 	if src.rgb != nil {
 		return downscale(src.rgb, f)
@@ -237,6 +238,10 @@ func downscaleSource(src *source, f int) *image.NRGBA {
 			clear(acc)
 			clear(cnt)
 			for sy := oy * f; sy < min(sh, oy*f+f); sy++ {
+				if src.ycc != nil && src.hs == 1 && f%2 == 0 {
+					accumulateYCbCrRow(acc, cnt, src.ycc, sy, f, w)
+					continue
+				}
 				accumulateRow(acc, cnt, src.row(buf, sy), f, w, sw)
 			}
 			finishRow(dst.Pix[oy*dst.Stride:oy*dst.Stride+4*w], acc, cnt)
