@@ -17,7 +17,7 @@ import (
 // derived from I and II by Einthoven's and Goldberger's laws,
 // standards.md §1.3) and an ink map with every trace drawn; skip, when
 // not nil, leaves that lead's ink out over the samples it marks.
-func limbPage(t *testing.T, skip func(l ecg.Lead, k int) bool) (*image.Gray, grid.Calibration, []*Panel, [][]float64, []float64) {
+func limbPage(t testing.TB, skip func(l ecg.Lead, k int) bool) (*image.Gray, grid.Calibration, []*Panel, [][]float64, []float64) {
 	t.Helper()
 	const fs, n = 500.0, 1000
 	cal := grid.Calibration{
@@ -134,5 +134,20 @@ func TestGuideLimbConsistentUnchanged(t *testing.T) {
 		if !slices.Equal(vals[i], before[i]) {
 			t.Errorf("lead %v changed", panels[i].Lead)
 		}
+	}
+}
+
+// BenchmarkGuideLimb times guideLimb on six 2 s limb-lead panels at
+// 500 Hz with one broken stretch (a 10 s page costs five times this).
+func BenchmarkGuideLimb(b *testing.B) {
+	ink, cal, panels, vals, xs := limbPage(b, nil)
+	orig := slices.Clone(vals[4])
+	for k := 580; k < 640; k++ {
+		orig[k] = 0
+	}
+	b.ReportAllocs()
+	for b.Loop() {
+		copy(vals[4], orig)
+		guideLimb(ink, cal, 500, panels, vals, xs, defaultLimbGuide)
 	}
 }
