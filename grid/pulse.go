@@ -33,23 +33,10 @@ func findPulses(ink, gray *image.Gray, ppmX, ppmY float64) []Pulse {
 	}
 	minRun = max(minRun, 6)
 	// Vertical runs per column, merged into strokes across columns.
+	colRuns := verticalRuns(ink, on, minRun, maxRun)
 	var open, done []stroke
 	for x := 0; x < w; x++ {
-		var runs [][2]int
-		y := 0
-		for y < h {
-			if ink.Pix[y*ink.Stride+x] < on {
-				y++
-				continue
-			}
-			y0 := y
-			for y < h && ink.Pix[y*ink.Stride+x] >= on {
-				y++
-			}
-			if l := y - y0; l >= minRun && l <= maxRun {
-				runs = append(runs, [2]int{y0, y - 1})
-			}
-		}
+		runs := colRuns[x]
 		var next []stroke
 		used := make([]bool, len(runs))
 		for _, s := range open {
@@ -158,6 +145,43 @@ func findPulses(ink, gray *image.Gray, ppmX, ppmY float64) []Pulse {
 		}
 	}
 	return consistent(atRowEnds(out, ink))
+}
+
+// verticalRuns returns, per column of ink, its runs of pixels ≥ on
+// whose length lies in [minRun, maxRun], as [first, last] rows in
+// increasing order. The map is read row by row (a column-wise scan of a
+// page-sized map missed the cache at every pixel), each column's open run
+// kept in start (−1: none).
+func verticalRuns(ink *image.Gray, on uint8, minRun, maxRun int) [][][2]int {
+	w, h := ink.Rect.Dx(), ink.Rect.Dy()
+	runs := make([][][2]int, w)
+	start := make([]int32, w)
+	for x := range start {
+		start[x] = -1
+	}
+	end := func(x, y int) {
+		if l := y - int(start[x]); l >= minRun && l <= maxRun {
+			runs[x] = append(runs[x], [2]int{int(start[x]), y - 1})
+		}
+		start[x] = -1
+	}
+	for y := 0; y < h; y++ {
+		row := ink.Pix[y*ink.Stride : y*ink.Stride+w]
+		for x, v := range row {
+			switch {
+			case v >= on && start[x] < 0:
+				start[x] = int32(y)
+			case v < on && start[x] >= 0:
+				end(x, y)
+			}
+		}
+	}
+	for x := range start {
+		if start[x] >= 0 {
+			end(x, h)
+		}
+	}
+	return runs
 }
 
 // atRowEnds keeps the pulses printed where calibration pulses go: at the
