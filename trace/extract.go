@@ -303,21 +303,6 @@ func Extract(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse, opt *Op
 		}
 		all = append(all, rowPanels...)
 	}
-	// Pass 3: limb leads printed at the same time are held to the
-	// Einthoven/Goldberger identities (limb_guide.go). Not on pages whose
-	// limb leads may still be renamed to the Cabrera order below.
-	if !detected || lay.Name != "3x4" && lay.Name != "3x4+1" && lay.Name != "3x4+3" {
-		ps, vs, xs := make([]*Panel, len(all)), make([][]float64, len(all)), make([]float64, len(all))
-		for i := range all {
-			p := &all[i].p
-			ps[i], vs[i], xs[i] = p, all[i].vals, rows[p.Row].traceX0
-			for _, c := range lay.Rows[p.Row].Cells[:p.Col] {
-				xs[i] += (c.T1S - c.T0S) * cal.SpeedMMPerS.V * pxX
-			}
-		}
-		res.Warnings = append(res.Warnings, guideLimb(ink, cal, o.SampleRate, ps, vs, xs, defaultLimbGuide)...)
-	}
-
 	build := func(names func(row, col int) (ecg.Lead, bool)) (rec ecg.Record, qual map[ecg.Lead]float64, warn []string) {
 		rec = ecg.Record{Meta: ecg.Metadata{SpeedMMPerS: cal.SpeedMMPerS.V, GainMMPerMV: cal.GainMMPerMV.V}}
 		qual = map[ecg.Lead]float64{}
@@ -391,6 +376,7 @@ func Extract(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse, opt *Op
 	}
 	rec, qual, dupWarn := build(layoutNames(lay))
 	limb, limbOK := ecg.CheckLimb(&rec)
+	lay0 := lay // the names the panels were sampled under
 	if detected && lay.Name == "3x4" || detected && lay.Name == "3x4+1" || detected && lay.Name == "3x4+3" {
 		// The Cabrera order is indistinguishable from the standard one
 		// without labels; keep the assignment with the smaller
@@ -412,6 +398,39 @@ func Extract(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse, opt *Op
 				all[i].p.Lead, all[i].p.Negated = c.Lead, c.Negated
 			}
 			res.Warnings = append(res.Warnings, "limb leads assigned in the Cabrera order (smaller Einthoven/Goldberger residual)")
+		}
+	}
+	// Pass 3: limb leads printed at the same time are held to the
+	// Einthoven/Goldberger identities under the names finally chosen
+	// (limb_guide.go); the record is rebuilt when a lead was re-read.
+	{
+		ps, vs, xs := make([]*Panel, len(all)), make([][]float64, len(all)), make([]float64, len(all))
+		flip := make([]bool, len(all))
+		for i := range all {
+			p := &all[i].p
+			ps[i], vs[i], xs[i] = p, all[i].vals, rows[p.Row].traceX0
+			for _, c := range lay.Rows[p.Row].Cells[:p.Col] {
+				xs[i] += (c.T1S - c.T0S) * cal.SpeedMMPerS.V * pxX
+			}
+			// vals are upright under the names sampled with (lay0).
+			if flip[i] = lay0.Rows[p.Row].Cells[p.Col].Negated != p.Negated; flip[i] && vs[i] != nil {
+				vs[i] = make([]float64, len(all[i].vals))
+				for k, v := range all[i].vals {
+					vs[i][k] = -v
+				}
+			}
+		}
+		if w := guideLimb(ink, cal, o.SampleRate, ps, vs, xs, defaultLimbGuide); len(w) > 0 {
+			for i := range all {
+				if flip[i] && vs[i] != nil {
+					for k, v := range vs[i] {
+						all[i].vals[k] = -v
+					}
+				}
+			}
+			res.Warnings = append(res.Warnings, w...)
+			rec, qual, dupWarn = build(layoutNames(lay))
+			limb, limbOK = ecg.CheckLimb(&rec)
 		}
 	}
 	res.Warnings = append(res.Warnings, dupWarn...)

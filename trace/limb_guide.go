@@ -32,6 +32,8 @@ type limbGuideParams struct {
 	fitTol    float64 // the consensus pair's mean error over the window (its largest per sample left out) must stay below fitTol·tol
 	badRatio  float64 // a lead is re-read only if its RMS departure from the others' consensus is badRatio times the second best lead's
 	agreeRel  float64 // a lead agrees with the consensus within max(2·tol, agreeRel·|prediction|)
+	minConsS  float64 // a lead takes part only with a consensus over this long, s
+	minLeads  int     // leads taking part needed
 	maxGapS   float64 // off samples closer than this join one stretch, s
 	minStretS float64 // shorter stretches are left alone, s
 }
@@ -42,7 +44,7 @@ type limbGuideParams struct {
 // consensus fit may reach 3 mm on average: at 2 mm, overlap 6x2 seed 3
 // kept aVR and aVL at 2.4 and 0.5 dB (8.9 and 7.9 dB at 3 mm; the other
 // conditions unchanged).
-var defaultLimbGuide = limbGuideParams{tolMM: 1, offMM: 1, minTolMV: 0.05, windowS: 0.010, padS: 0.004, inkTolMM: 0.35, minInk: 0.85, minKnown: 0.7, agreeRel: 0.1, fitTol: 3, badRatio: 2, maxGapS: 0.010, minStretS: 0.006}
+var defaultLimbGuide = limbGuideParams{tolMM: 1, offMM: 1, minTolMV: 0.05, windowS: 0.010, padS: 0.004, inkTolMM: 0.35, minInk: 0.85, minKnown: 0.7, agreeRel: 0.1, fitTol: 3, badRatio: 2, minConsS: 0.5, minLeads: 5, maxGapS: 0.010, minStretS: 0.006}
 
 // guideLimb checks the limb-lead samples of simultaneous panels against
 // the Einthoven/Goldberger identities and re-reads the leads that break
@@ -247,6 +249,7 @@ func guideLimb(ink *image.Gray, cal grid.Calibration, fs float64, panels []*Pane
 	// where complexes cross rows) and more than tol/2; three at most, so
 	// that a pair and one more lead remain to agree on the consensus.
 	var dev [nl]float64
+	var valid []int // leads with a consensus over at least minConsS
 	for l := range nl {
 		consensus(l, 0, false)
 		s, m := 0.0, 0
@@ -257,18 +260,23 @@ func guideLimb(ink *image.Gray, cal grid.Calibration, fs float64, panels []*Pane
 				m++
 			}
 		}
-		if m > 0 {
+		if float64(m) >= p.minConsS*fs {
 			dev[l] = math.Sqrt(s / float64(m))
+			valid = append(valid, l)
 		}
 	}
-	ds := append([]float64(nil), dev[:]...)
-	sort.Float64s(ds)
-	med := ds[1]
+	// Five leads at least: with four (the second column of a 3 × 4 page
+	// and the rhythm strip's II) a lead printed in another row, read a
+	// fraction of a pixel later or earlier on a steep stroke, was taken
+	// for the broken one (clean 3x4+3 seed 2: II 29.6 → 28.2 dB).
+	if len(valid) < p.minLeads {
+		return nil
+	}
+	sort.SliceStable(valid, func(x, y int) bool { return dev[valid[x]] > dev[valid[y]] })
+	ref := dev[valid[len(valid)-2]]
 	var badMask uint
-	byDev := []int{0, 1, 2, 3, 4, 5}
-	sort.SliceStable(byDev, func(x, y int) bool { return dev[byDev[x]] > dev[byDev[y]] })
-	for _, l := range byDev[:nl-3] {
-		if dev[l] > p.badRatio*med && dev[l] > tol/2 {
+	for _, l := range valid[:len(valid)-3] {
+		if dev[l] > p.badRatio*ref && dev[l] > tol/2 {
 			badMask |= 1 << l
 		}
 	}
