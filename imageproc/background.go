@@ -116,7 +116,20 @@ func (bg *background) blockGainsInto(sc *gainScratch, y int, scale float64) {
 // gainRow fills dst (3 per pixel) with 255/background for row y of a
 // w-pixel-wide image (the gain itself is interpolated between blocks).
 func (bg *background) gainRow(dst []float32, y, w int) {
-	col := bg.blockGains(y, 255)
+	bg.gainRowCols(dst, y, bg.columns(w))
+}
+
+// gainCols holds, per pixel column, the two blocks gainRow interpolates
+// between and the weight of the second: they depend on x alone, so a
+// page's rows share them.
+type gainCols struct {
+	x0, x1 []int32
+	ax     []float64
+}
+
+// columns returns the interpolation columns of gainRow for w pixels.
+func (bg *background) columns(w int) *gainCols {
+	gc := &gainCols{x0: make([]int32, w), x1: make([]int32, w), ax: make([]float64, w)}
 	inv := 1 / bg.cell
 	for x := 0; x < w; x++ {
 		fx := (float64(x)+0.5)*inv - 0.5
@@ -127,11 +140,23 @@ func (bg *background) gainRow(dst []float32, y, w int) {
 		if x0 >= bg.nx-1 {
 			x0, fx = bg.nx-1, float64(bg.nx-1)
 		}
-		x1 := min(x0+1, bg.nx-1)
-		ax := fx - float64(x0)
-		for c := 0; c < 3; c++ {
-			dst[3*x+c] = float32((1-ax)*col[c][x0] + ax*col[c][x1])
-		}
+		gc.x0[x], gc.x1[x], gc.ax[x] = int32(x0), int32(min(x0+1, bg.nx-1)), fx-float64(x0)
+	}
+	return gc
+}
+
+// gainRowCols is gainRow with the columns precomputed (the same values).
+func (bg *background) gainRowCols(dst []float32, y int, gc *gainCols) {
+	col := bg.blockGains(y, 255)
+	w := len(gc.ax)
+	dst = dst[:3*w]
+	c0, c1, c2 := col[0], col[1], col[2]
+	for x, ax := range gc.ax {
+		x0, x1 := gc.x0[x], gc.x1[x]
+		d := dst[3*x : 3*x+3 : 3*x+3]
+		d[0] = float32((1-ax)*c0[x0] + ax*c0[x1])
+		d[1] = float32((1-ax)*c1[x0] + ax*c1[x1])
+		d[2] = float32((1-ax)*c2[x0] + ax*c2[x1])
 	}
 }
 
@@ -213,8 +238,9 @@ func normalise(m *image.NRGBA, bg *background) *image.NRGBA {
 	w, h := m.Rect.Dx(), m.Rect.Dy()
 	dst := image.NewNRGBA(m.Rect)
 	g := make([]float32, 3*w)
+	gc := bg.columns(w)
 	for y := 0; y < h; y++ {
-		bg.gainRow(g, y, w)
+		bg.gainRowCols(g, y, gc)
 		s := m.Pix[y*m.Stride : y*m.Stride+4*w]
 		d := dst.Pix[y*dst.Stride : y*dst.Stride+4*w]
 		for x := 0; x < w; x++ {

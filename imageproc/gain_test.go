@@ -164,3 +164,46 @@ func TestYCbCrFastPathExact(t *testing.T) {
 		}
 	}
 }
+
+// TestGainRowColumnsExact: gainRow with its per-column interpolation
+// weights computed once per page gives the bits of the per-pixel
+// formula (block coordinate, clamping at the margins, linear weights).
+func TestGainRowColumnsExact(t *testing.T) {
+	rng := rand.New(rand.NewPCG(17, 17))
+	for _, c := range []struct {
+		nx, ny int
+		cell   float64
+		w      int
+	}{{1, 1, 64, 50}, {5, 4, 24, 117}, {7, 5, 37.5, 260}, {36, 26, 24.4, 877}} {
+		bg := &background{nx: c.nx, ny: c.ny, cell: c.cell}
+		for ch := range bg.v {
+			bg.v[ch] = make([]float64, c.nx*c.ny)
+			for i := range bg.v[ch] {
+				bg.v[ch][i] = 24 + 231*rng.Float64()
+			}
+		}
+		got := make([]float32, 3*c.w)
+		for y := 0; y < int(float64(c.ny)*c.cell); y += 7 {
+			bg.gainRow(got, y, c.w)
+			col := bg.blockGains(y, 255)
+			inv := 1 / c.cell
+			for x := 0; x < c.w; x++ {
+				fx := (float64(x)+0.5)*inv - 0.5
+				x0 := int(fx)
+				if fx < 0 {
+					x0, fx = 0, 0
+				}
+				if x0 >= c.nx-1 {
+					x0, fx = c.nx-1, float64(c.nx-1)
+				}
+				x1 := min(x0+1, c.nx-1)
+				ax := fx - float64(x0)
+				for ch := 0; ch < 3; ch++ {
+					if want := float32((1-ax)*col[ch][x0] + ax*col[ch][x1]); got[3*x+ch] != want {
+						t.Fatalf("nx=%d w=%d y=%d x=%d ch=%d: %v, want %v", c.nx, c.w, y, x, ch, got[3*x+ch], want)
+					}
+				}
+			}
+		}
+	}
+}

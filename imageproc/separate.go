@@ -37,20 +37,27 @@ func analyseColour(m *image.NRGBA, mask []bool, block int) *separator {
 	var hist [bins]float64
 	var sum [bins][3]float64
 	total, chrom := 0, 0
+	// Each pixel's hue bin (−1: not chromatic), for spread: masked-out
+	// pixels included, as spread counts them before applying the mask.
+	hb := make([]int8, w*h)
 	for y := 0; y < h; y++ {
 		row := m.Pix[y*m.Stride : y*m.Stride+4*w]
 		for i := 0; i < len(row); i += 4 {
+			r, g, b := float64(row[i]), float64(row[i+1]), float64(row[i+2])
+			mx, mn := max(r, g, b), min(r, g, b)
+			k := -1
+			if mx-mn >= 28 && mx >= 70 {
+				k = int(hue(r, g, b)/360*bins) % bins
+			}
+			hb[y*w+i/4] = int8(k)
 			if mask != nil && !mask[(y/block)*nbx+i/4/block] {
 				continue
 			}
-			r, g, b := float64(row[i]), float64(row[i+1]), float64(row[i+2])
 			total++
-			mx, mn := max(r, g, b), min(r, g, b)
-			if mx-mn < 28 || mx < 70 {
+			if k < 0 {
 				continue
 			}
 			chrom++
-			k := int(hue(r, g, b)/360*bins) % bins
 			hist[k]++
 			sum[k][0] += r
 			sum[k][1] += g
@@ -74,7 +81,7 @@ func analyseColour(m *image.NRGBA, mask []bool, block int) *separator {
 	}
 	// A printed grid covers the whole sheet: its colour must appear in
 	// most blocks, not only along an edge, a shadow or a header.
-	if !spread(m, mask, block, bk, bins) {
+	if !spread(hb, w, h, mask, block, bk, bins) {
 		return s
 	}
 	var c [3]float64
@@ -188,21 +195,17 @@ func sat8(v int32) uint8 {
 }
 
 // spread reports whether chromatic pixels of hue bin bk (±1) occur in at
-// least half of the (paper) blocks.
-func spread(m *image.NRGBA, mask []bool, block, bk, bins int) bool {
-	w, h := m.Rect.Dx(), m.Rect.Dy()
+// least half of the (paper) blocks of a w×h page whose pixels' hue bins
+// are hb (−1: not chromatic).
+func spread(hb []int8, w, h int, mask []bool, block, bk, bins int) bool {
 	nbx, nby := (w+block-1)/block, (h+block-1)/block
 	cnt := make([]int, nbx*nby)
 	for y := 0; y < h; y++ {
-		row := m.Pix[y*m.Stride : y*m.Stride+4*w]
-		for x := 0; x < w; x++ {
-			r, g, b := float64(row[4*x]), float64(row[4*x+1]), float64(row[4*x+2])
-			mx, mn := max(r, g, b), min(r, g, b)
-			if mx-mn < 28 || mx < 70 {
+		for x, k := range hb[y*w : y*w+w] {
+			if k < 0 {
 				continue
 			}
-			k := int(hue(r, g, b)/360*float64(bins)) % bins
-			if d := (k - bk + bins) % bins; d <= 1 || d == bins-1 {
+			if d := (int(k) - bk + bins) % bins; d <= 1 || d == bins-1 {
 				cnt[(y/block)*nbx+x/block]++
 			}
 		}
