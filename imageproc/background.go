@@ -220,15 +220,19 @@ func (bg *background) gainRowFixedInto(dst []uint32, sc *gainScratch, y, w int) 
 			v[c] = int64(math.Round((col[c][x0] + ax*(col[c][x1]-col[c][x0]) + 0.5) * (1 << 32)))
 			dv[c] = int64(math.Round((col[c][x1] - col[c][x0]) * inv * (1 << 32)))
 		}
-		for ; x < end; x++ {
-			d := dst[3*x : 3*x+3 : 3*x+3]
-			d[0] = uint32(v[0] >> 32)
-			d[1] = uint32(v[1] >> 32)
-			d[2] = uint32(v[2] >> 32)
-			v[0] += dv[0]
-			v[1] += dv[1]
-			v[2] += dv[2]
+		// Scalars rather than the arrays: the loop keeps them in registers.
+		v0, v1, v2 := v[0], v[1], v[2]
+		seg := dst[3*x : 3*end]
+		for i := 0; i+2 < len(seg); i += 3 {
+			d := seg[i : i+3 : i+3]
+			d[0] = uint32(v0 >> 32)
+			d[1] = uint32(v1 >> 32)
+			d[2] = uint32(v2 >> 32)
+			v0 += dv[0]
+			v1 += dv[1]
+			v2 += dv[2]
 		}
+		x = end
 	}
 }
 
