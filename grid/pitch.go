@@ -86,11 +86,19 @@ func measureAxis(g *image.Gray, alongX bool) (axisFit, bool) {
 func profile(g *image.Gray, alongX bool) []float64 {
 	w, h := g.Rect.Dx(), g.Rect.Dy()
 	if alongX {
-		p := make([]float64, w)
+		// Integer column sums (exact, as the float sums of integers
+		// below 2^53 are), converted once.
+		acc := make([]uint64, w)
 		for y := 0; y < h; y++ {
-			for x, v := range g.Pix[y*g.Stride : y*g.Stride+w] {
-				p[x] += float64(v)
+			row := g.Pix[y*g.Stride : y*g.Stride+w]
+			acc := acc[:len(row)]
+			for x, v := range row {
+				acc[x] += uint64(v)
 			}
+		}
+		p := make([]float64, w)
+		for x, v := range acc {
+			p[x] = float64(v)
 		}
 		return p
 	}
