@@ -60,8 +60,13 @@
 //     between them), kept in Page.Mesh; Page.SourcePoint maps upright px
 //     to input px through it;
 //   - one bilinear resampling of the full-resolution page through the
-//     composed homography (upright px → input px), kept in Page.ToSource.
+//     composed homography (upright px → input px), kept in Page.ToSource,
+//     separated into the ink, grid and luminance maps in the same loop.
+//     The upright colour page itself is not kept (only pictures for
+//     people read it): Page.Upright resamples it on demand, with the same
+//     bytes.
 //
 // Estimation runs on downscaled copies (at most about 1024 px on the long
-// side); only the final resampling and separation touch every pixel.
+// side); only the work copy's block means and the final resampling and
+// separation touch every pixel.
 package imageproc
