@@ -89,9 +89,12 @@ func applyMask(mask []bool, block int, maps ...*image.Gray) {
 		nx := (w + block - 1) / block
 		for y := 0; y < h; y++ {
 			row := m.Pix[y*m.Stride : y*m.Stride+w]
-			for x := range row {
-				if !mask[(y/block)*nx+x/block] {
-					row[x] = 0
+			// Whole blocks at a time (a division per pixel cost more
+			// than the rest of the pass).
+			mrow := mask[(y/block)*nx : (y/block)*nx+nx]
+			for bx, keep := range mrow {
+				if !keep {
+					clear(row[bx*block : min(w, bx*block+block)])
 				}
 			}
 		}
