@@ -185,7 +185,7 @@ func TestRealRecords(t *testing.T) {
 				t.Fatalf("digitise: %v", err)
 			}
 			if d := os.Getenv("TRACELIFT_TRACE_OVERLAY"); d != "" {
-				drawOverlay(filepath.Join(d, s.name+".png"), pg.Color, res)
+				drawOverlay(filepath.Join(d, s.name+".png"), pg.Upright(), res)
 			}
 			sc := trace.SNR(printed, res.Record, trace.Lenient)
 			var v []float64

@@ -93,7 +93,7 @@ func scoreCaseWith(t testing.TB, c accuracy.Case, overlay string, withDPI bool) 
 		}
 	}
 	if overlay != "" && pg != nil {
-		drawOverlay(filepath.Join(overlay, c.Name()+".png"), pg.Color, res)
+		drawOverlay(filepath.Join(overlay, c.Name()+".png"), pg.Upright(), res)
 	}
 	return cs
 }
