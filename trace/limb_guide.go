@@ -21,21 +21,27 @@ import (
 
 // limbGuideParams tunes guideLimb.
 type limbGuideParams struct {
-	tolMM     float64 // disagreement within which leads agree, mm of trace
-	offMM     float64 // disagreement from which a sample counts as off, mm of trace
-	minTolMV  float64 // smallest tolerance, mV
-	windowS   float64 // half-width of the window over which a pair's fit is judged, s
-	padS      float64 // stretches widened by this much on each side, s
-	inkTolMM  float64 // the predicted point must lie within this of ink, mm
-	minInk    float64 // fraction of a stretch's predicted samples that must lie on ink
-	minKnown  float64 // fraction of a stretch's samples that must have a consensus
-	fitTol    float64 // the consensus pair's mean error over the window (its largest per sample left out) must stay below fitTol·tol
-	badRatio  float64 // a lead is re-read only if its RMS departure from the others' consensus is badRatio times the second best lead's
-	agreeRel  float64 // a lead agrees with the consensus within max(2·tol, agreeRel·|prediction|)
-	minConsS  float64 // a lead takes part only with a consensus over this long, s
-	minLeads  int     // leads taking part needed
-	maxGapS   float64 // off samples closer than this join one stretch, s
-	minStretS float64 // shorter stretches are left alone, s
+	tolMM    float64 // disagreement within which leads agree, mm of trace
+	offMM    float64 // disagreement from which a sample counts as off, mm of trace
+	minTolMV float64 // smallest tolerance, mV
+	windowS  float64 // half-width of the window over which a pair's fit is judged, s
+	padS     float64 // stretches widened by this much on each side, s
+	inkTolMM float64 // the predicted point must lie within this of ink, mm
+	minInk   float64 // fraction of a stretch's predicted samples that must lie on ink
+	minKnown float64 // fraction of a stretch's samples that must have a consensus
+	fitTol   float64 // the consensus pair's mean error over the window (its largest per sample left out) must stay below fitTol·tol
+	badRatio float64 // a lead is re-read only if its RMS departure from the others' consensus is badRatio times the second best lead's
+	agreeRel float64 // a lead agrees with the consensus within max(2·tol, agreeRel·|prediction|)
+	minConsS float64 // a lead takes part only with a consensus over this long, s
+	minLeads int     // leads taking part needed for the fine check (offMM)
+	// With fewer leads (at least grossLeads: the second column of a 3 × 4
+	// page with the rhythm strip's II) only gross breaks are acted on: a
+	// departure of more than grossMV sustained over grossS.
+	grossLeads int
+	grossMV    float64 // mV
+	grossS     float64 // s
+	maxGapS    float64 // off samples closer than this join one stretch, s
+	minStretS  float64 // shorter stretches are left alone, s
 }
 
 // defaultLimbGuide: the tolerance is a millimetre of trace (a pen's width
@@ -44,7 +50,8 @@ type limbGuideParams struct {
 // consensus fit may reach 3 mm on average: at 2 mm, overlap 6x2 seed 3
 // kept aVR and aVL at 2.4 and 0.5 dB (8.9 and 7.9 dB at 3 mm; the other
 // conditions unchanged).
-var defaultLimbGuide = limbGuideParams{tolMM: 1, offMM: 1, minTolMV: 0.05, windowS: 0.010, padS: 0.004, inkTolMM: 0.35, minInk: 0.85, minKnown: 0.7, agreeRel: 0.1, fitTol: 3, badRatio: 2, minConsS: 0.5, minLeads: 5, maxGapS: 0.010, minStretS: 0.006}
+var defaultLimbGuide = limbGuideParams{tolMM: 1, offMM: 1, minTolMV: 0.05, windowS: 0.010, padS: 0.004, inkTolMM: 0.35, minInk: 0.85, minKnown: 0.7, agreeRel: 0.1, fitTol: 3, badRatio: 2, minConsS: 0.5, minLeads: 5, maxGapS: 0.010, minStretS: 0.006,
+	grossLeads: 4, grossMV: 0.3, grossS: 0.02}
 
 // guideLimb checks the limb-lead samples of simultaneous panels against
 // the Einthoven/Goldberger identities and re-reads the leads that break
@@ -265,11 +272,18 @@ func guideLimb(ink *image.Gray, cal grid.Calibration, fs float64, panels []*Pane
 			valid = append(valid, l)
 		}
 	}
-	// Five leads at least: with four (the second column of a 3 × 4 page
-	// and the rhythm strip's II) a lead printed in another row, read a
-	// fraction of a pixel later or earlier on a steep stroke, was taken
-	// for the broken one (clean 3x4+3 seed 2: II 29.6 → 28.2 dB).
-	if len(valid) < p.minLeads {
+	// Five leads for the fine check: with four (the second column of a
+	// 3 × 4 page and the rhythm strip's II) a lead printed in another row,
+	// read a fraction of a pixel later or earlier on a steep stroke, was
+	// taken for the broken one (clean 3x4+3 seed 2: II 29.6 → 28.2 dB).
+	// With four, only gross breaks are re-read: a departure of more than
+	// grossMV (0.3 mV: 3 mm at 10 mm/mV, far beyond a sub-pixel slip)
+	// held for grossS (20 ms), i.e. a stroke taken from another row.
+	// AVR, aVL, aVF and II carry two independent constraints, so one
+	// broken lead among them is identified: each enters the constraints
+	// with different coefficients (aVR + aVL + aVF = 0, aVF = 1.5·II + aVR).
+	gross := len(valid) < p.minLeads
+	if gross && (p.grossLeads <= 0 || len(valid) < p.grossLeads) {
 		return nil
 	}
 	sort.SliceStable(valid, func(x, y int) bool { return dev[valid[x]] > dev[valid[y]] })
@@ -282,6 +296,26 @@ func guideLimb(ink *image.Gray, cal grid.Calibration, fs float64, panels []*Pane
 	}
 	offS := make([]bool, n)
 	var warns []string
+	offTh := p.offMM / cal.GainMMPerMV.V
+	if gross {
+		offTh = math.Max(offTh, p.grossMV)
+	}
+	grossLen := max(1, int(math.Round(p.grossS*fs)))
+	// isGross reports whether lead l departs from pred by more than
+	// grossMV over grossLen samples in a row within [s0, s1].
+	isGross := func(l, s0, s1 int) bool {
+		run := 0
+		for k := s0; k <= s1; k++ {
+			if !math.IsNaN(pred[k]) && !math.IsNaN(a[l][k]) && math.Abs(pred[k]-a[l][k]) > p.grossMV {
+				if run++; run >= grossLen {
+					return true
+				}
+			} else {
+				run = 0
+			}
+		}
+		return false
+	}
 	maxGap := int(math.Round(p.maxGapS * fs))
 	pad := int(math.Round(p.padS * fs))
 	minLen := int(math.Round(p.minStretS * fs))
@@ -293,7 +327,7 @@ func guideLimb(ink *image.Gray, cal grid.Calibration, fs float64, panels []*Pane
 		consensus(l, badMask, true)
 		any := false
 		for i := range n {
-			offS[i] = !math.IsNaN(pred[i]) && math.Abs(pred[i]-a[l][i]) > p.offMM/cal.GainMMPerMV.V
+			offS[i] = !math.IsNaN(pred[i]) && math.Abs(pred[i]-a[l][i]) > offTh
 			any = any || offS[i]
 		}
 		if !any {
@@ -322,6 +356,9 @@ func guideLimb(ink *image.Gray, cal grid.Calibration, fs float64, panels []*Pane
 			s0, s1 := max(0, i-pad), min(n-1, e+pad)
 			i = e + 1
 			if s1-s0+1 < minLen {
+				continue
+			}
+			if gross && !isGross(l, s0, s1) {
 				continue
 			}
 			// The stretch is re-read only where the consensus is known

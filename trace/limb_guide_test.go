@@ -137,6 +137,93 @@ func TestGuideLimbConsistentUnchanged(t *testing.T) {
 	}
 }
 
+// secondColumn keeps, of limbPage's six panels, the four a 3 × 4 page
+// with a rhythm strip prints at the same time in its second column: aVR,
+// aVL, aVF and the rhythm strip's II.
+func secondColumn(panels []*Panel, vals [][]float64, xs []float64) ([]*Panel, [][]float64, []float64) {
+	var p []*Panel
+	var v [][]float64
+	var x []float64
+	for i, pn := range panels {
+		switch pn.Lead {
+		case ecg.LeadII, ecg.LeadAVR, ecg.LeadAVL, ecg.LeadAVF:
+			p, v, x = append(p, pn), append(v, vals[i]), append(x, xs[i])
+		}
+	}
+	return p, v, x
+}
+
+// TestGuideLimbFourLeadsGross: the second column of a 3 × 4 page with
+// the rhythm II holds four limb leads, two independent constraints
+// (aVR + aVL + aVF = 0; aVF = 1.5·II + aVR, from Goldberger's and
+// Einthoven's laws, standards.md §1.3), enough to name one lead that
+// breaks them. aVL loses its 0.95 mV R wave at 1.2 s (read flat, as when
+// its path took another row's stroke); it is re-read at the value the
+// other three agree on, and they are left alone.
+func TestGuideLimbFourLeadsGross(t *testing.T) {
+	ink, cal, panels6, vals6, xs6 := limbPage(t, nil)
+	panels, vals, xs := secondColumn(panels6, vals6, xs6)
+	const iAVL = 2 // II, aVR, aVL, aVF
+	if panels[iAVL].Lead != ecg.LeadAVL {
+		t.Fatalf("panel %d is %v", iAVL, panels[iAVL].Lead)
+	}
+	truth := slices.Clone(vals[iAVL])
+	others := make([][]float64, len(vals))
+	for i := range vals {
+		others[i] = slices.Clone(vals[i])
+	}
+	for k := 580; k < 640; k++ { // 1.16–1.28 s
+		vals[iAVL][k] = 0
+	}
+	warn := guideLimb(ink, cal, 500, panels, vals, xs, defaultLimbGuide)
+	if len(warn) != 1 || !strings.Contains(warn[0], "aVL") {
+		t.Fatalf("warnings %q, want one naming aVL", warn)
+	}
+	worst := 0.0
+	for k := 560; k < 660; k++ {
+		worst = math.Max(worst, math.Abs(vals[iAVL][k]-truth[k]))
+	}
+	// The stretch departing by more than 0.3 mV is found, then widened
+	// while aVL departs by more than a millimetre of trace, so the whole
+	// lost wave is re-read (exact here up to the medians removed).
+	if worst > 0.02 {
+		t.Errorf("aVL after re-reading departs %.3f mV from the truth (before: 0.95 mV)", worst)
+	}
+	for i := range vals {
+		if i != iAVL && !slices.Equal(vals[i], others[i]) {
+			t.Errorf("lead %v changed", panels[i].Lead)
+		}
+	}
+}
+
+// TestGuideLimbFourLeadsSlipUnchanged: with only four limb leads a small
+// disagreement is not acted on: aVL read one sample (2 ms) late, so that
+// it departs by up to ≈ 0.1 mV on its steep R-wave strokes (a fraction of
+// a pixel at 10 px/mm), and II read 0.08 mV high over its R wave, are
+// both left as read.
+func TestGuideLimbFourLeadsSlipUnchanged(t *testing.T) {
+	ink, cal, panels6, vals6, xs6 := limbPage(t, nil)
+	panels, vals, xs := secondColumn(panels6, vals6, xs6)
+	for k := len(vals[2]) - 1; k > 0; k-- {
+		vals[2][k] = vals[2][k-1]
+	}
+	for k := 590; k < 615; k++ {
+		vals[0][k] += 0.08
+	}
+	before := make([][]float64, len(vals))
+	for i := range vals {
+		before[i] = slices.Clone(vals[i])
+	}
+	if warn := guideLimb(ink, cal, 500, panels, vals, xs, defaultLimbGuide); len(warn) != 0 {
+		t.Errorf("warnings %q, want none", warn)
+	}
+	for i := range vals {
+		if !slices.Equal(vals[i], before[i]) {
+			t.Errorf("lead %v changed", panels[i].Lead)
+		}
+	}
+}
+
 // BenchmarkGuideLimb times guideLimb on six 2 s limb-lead panels at
 // 500 Hz with one broken stretch (a 10 s page costs five times this).
 func BenchmarkGuideLimb(b *testing.B) {
