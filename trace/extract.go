@@ -246,6 +246,9 @@ func Extract(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse, opt *Op
 	// Pass 2: rows whose paths reached a neighbouring row's trace are
 	// followed again with that trace and what lies beyond it removed.
 	separateRows(ink, pj, &cr, cal.PxPerMMY.V, cal.GainMMPerMV.V*cal.PxPerMMY.V)
+	// Neighbouring rows' strokes that cross twice (a lens) are exchanged
+	// between the crossings.
+	untangleCrossings(ink, pj, cal.PxPerMMY.V, cal.GainMMPerMV.V*cal.PxPerMMY.V)
 	for ri, jobs := range pj {
 		lr, r := lay.Rows[ri], rows[ri]
 		var rowPanels []traced
