@@ -73,3 +73,26 @@ func TestUntangleCrossingStrokes(t *testing.T) {
 		})
 	}
 }
+
+// TestLensAtPanelEdge: a lens less than lensEdgeMM inside the panels'
+// common columns is left alone (the separator tick and the previous
+// lead's ends meet the paths at a column boundary); the same lens further
+// inside is found.
+func TestLensAtPanelEdge(t *testing.T) {
+	const b0, b1 = 200.0, 400.0
+	m := image.NewGray(image.Rect(0, 0, 300, 700))
+	stroke(m, []Point{{0, b0}, {94, b0}, {103, 450}, {111, b0}, {300, b0}}, 1.5)
+	stroke(m, []Point{{0, b1}, {96, b1}, {105, 150}, {114, b1}, {300, b1}}, 1.5)
+	pj := twoRowJobs(m, b0, b1)
+	var cr columnRuns
+	separateRows(m, pj, &cr, 10, 100)
+	a, b := pj[0][0].pr.points, pj[1][0].pr.points
+	in := findLenses(m, a, b, 0, 300, 10)
+	if len(in) != 1 {
+		t.Fatalf("lenses %v inside the panels, want one", in)
+	}
+	// Common columns starting 5 px (0.5 mm) before the lens's first end.
+	if got := findLenses(m, a, b, int(in[0][0])-6, 300, 10); len(got) != 0 {
+		t.Errorf("lens at %v, 0.5 mm from the panel edge, was exchanged", got)
+	}
+}
