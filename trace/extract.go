@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"image"
 	"math"
+	"slices"
 	"sort"
 
 	"tracelift/ecg"
@@ -423,7 +424,14 @@ func Extract(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse, opt *Op
 				}
 			}
 		}
-		if w := guideLimb(ink, cal, o.SampleRate, ps, vs, xs, defaultLimbGuide); len(w) > 0 {
+		// Then the self-check (selfcheck.go) withholds what another row's
+		// path also runs on, past half-way to that row, unless re-read.
+		keep := make([][]float64, len(vs))
+		for i, v := range vs {
+			keep[i] = slices.Clone(v)
+		}
+		w := guideLimb(ink, cal, o.SampleRate, ps, vs, xs, defaultLimbGuide)
+		if w = append(w, withholdShared(cal, o.SampleRate, ps, vs, keep, xs, defaultSelfCheck)...); len(w) > 0 {
 			for i := range all {
 				if flip[i] && vs[i] != nil {
 					for k, v := range vs[i] {
@@ -432,7 +440,12 @@ func Extract(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse, opt *Op
 				}
 			}
 			res.Warnings = append(res.Warnings, w...)
-			rec, qual, dupWarn = build(layoutNames(lay))
+			// vals are upright under lay0's signs and the panels now carry
+			// lay's: the names say lay0's sign so that build turns a panel
+			// exactly when lay0 and lay differ (as it did before).
+			rec, qual, dupWarn = build(func(row, col int) (ecg.Lead, bool) {
+				return lay.Rows[row].Cells[col].Lead, lay0.Rows[row].Cells[col].Negated
+			})
 			limb, limbOK = ecg.CheckLimb(&rec)
 		}
 	}
