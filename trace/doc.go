@@ -91,6 +91,26 @@
 //   - Self-check: panel quality = ink coverage of the path / (1 + mean jump
 //     in mm); the Einthoven/Goldberger residual flags limb leads far above
 //     the others.
+//   - Limb identities (limb_guide.go): limb leads printed at the same time
+//     are projections of one frontal heart vector (Einthoven: III = II − I;
+//     Goldberger: aVR = −(I+II)/2, aVL = I − II/2, aVF = II − I/2;
+//     standards.md §1.3). Where one lead breaks them while the others
+//     agree, its stretch is re-read at the value they predict, if the page
+//     has ink there. With five or six simultaneous limb leads (6 × 2,
+//     12 × 1) a departure of 1 mm of trace counts; with four (the second
+//     column of a 3 × 4 page plus the rhythm strip's II: aVR + aVL + aVF =
+//     0 and aVF = 1.5·II + aVR, two independent constraints, so one broken
+//     lead is identified) only gross breaks, more than 0.3 mV for 20 ms (a
+//     stroke taken from another row, never a sub-pixel slip on a steep
+//     stroke).
+//   - Withheld stretches (selfcheck.go): where a lead's path runs, past
+//     half-way to another row's 0 mV line, on the ink that
+//     row's path also runs on (within 0.5 mm), and the lead's other beats
+//     do not show the same excursion (same sign, half its size, in at
+//     least half of the panel's beats; a lead's own complexes repeat beat
+//     to beat), the stretch is returned as NaN with a warning ("lead V2:
+//     40 ms withheld where row 3's strokes cross it"); the lead stays
+//     found. Stretches re-read by the limb identities are kept.
 //   - SNR: the PhysioNet/CinC Challenge 2024 definition (see SNR).
 //
 // # Known limits
