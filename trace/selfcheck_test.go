@@ -101,3 +101,16 @@ func TestWithholdSharedNotShared(t *testing.T) {
 		t.Errorf("warnings %q, want none", warn)
 	}
 }
+
+// BenchmarkWithholdShared times withholdShared on two 2 s panels at
+// 250 Hz with one captured beat (a 3 × 4 + 3 page has 15 panels of 2.5 or
+// 10 s).
+func BenchmarkWithholdShared(b *testing.B) {
+	cal, panels, vals, xs := sharedPage(0.8)
+	orig := append([]float64(nil), vals[0]...)
+	b.ReportAllocs()
+	for b.Loop() {
+		copy(vals[0], orig)
+		withholdShared(cal, 250, panels, vals, nil, xs, defaultSelfCheck)
+	}
+}
