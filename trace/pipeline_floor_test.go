@@ -222,20 +222,6 @@ func TestLimbIdentityFloors(t *testing.T) {
 		{accuracy.Case{Condition: "clean", Layout: "12x1", Seed: 2}, map[ecg.Lead]float64{ecg.LeadAVR: 25, ecg.LeadAVL: 24, ecg.LeadI: 26}},
 		{accuracy.Case{Condition: "overlap", Layout: "6x2", Seed: 2}, map[ecg.Lead]float64{ecg.LeadAVR: 16, ecg.LeadAVL: 16, ecg.LeadI: 17}},
 	} {
-		t.Run(tc.c.Name(), func(t *testing.T) {
-			cs := scoreCaseWith(t, tc.c, "", true)
-			if cs.err != nil {
-				t.Fatalf("digitise: %v", cs.err)
-			}
-			if cs.found != cs.printed || cs.swaps != 0 {
-				t.Errorf("found %d of %d leads, %d swaps", cs.found, cs.printed, cs.swaps)
-			}
-			for l, f := range tc.floor {
-				if v := cs.lenient.PerLead[l]; !(v >= f) {
-					t.Errorf("%v: %.1f dB < %g dB", l, v, f)
-				}
-			}
-			t.Logf("%s: %s", cs.name, fmtLeads(cs.lenient.PerLead))
-		})
+		t.Run(tc.c.Name(), func(t *testing.T) { requireLeadFloors(t, tc.c, tc.floor) })
 	}
 }

@@ -167,6 +167,27 @@ func TestCorpusTable(t *testing.T) {
 	t.Logf("\n| condition | median dB | p10 dB | strict median dB | leads found | swaps | errors |\n%s", strings.Join(lines, "\n"))
 }
 
+// requireLeadFloors digitises corpus page c (given its file's resolution,
+// as the pipeline passes it from a PNG) and requires every printed lead
+// found, no lead swapped (accuracy.SwappedWith) and each lead of floors at
+// or above its floor, dB (aligned SNR, standards.md §7).
+func requireLeadFloors(t *testing.T, c accuracy.Case, floors map[ecg.Lead]float64) {
+	t.Helper()
+	cs := scoreCaseWith(t, c, "", true)
+	if cs.err != nil {
+		t.Fatalf("digitise: %v", cs.err)
+	}
+	if cs.found != cs.printed || cs.swaps != 0 {
+		t.Errorf("found %d of %d leads, %d swaps", cs.found, cs.printed, cs.swaps)
+	}
+	for l, f := range floors {
+		if v := cs.lenient.PerLead[l]; !(v >= f) {
+			t.Errorf("%v: %.1f dB < %g dB", l, v, f)
+		}
+	}
+	t.Logf("%s: %s", cs.name, fmtLeads(cs.lenient.PerLead))
+}
+
 func fmtLeads(m map[ecg.Lead]float64) string {
 	var b strings.Builder
 	for _, l := range ecg.Standard12 {

@@ -28,20 +28,6 @@ func TestUntangleCrossingPages(t *testing.T) {
 		{accuracy.Case{Condition: "overlap", Layout: "3x4+3", Seed: 1}, map[ecg.Lead]float64{ecg.LeadV1: 5, ecg.LeadV5: 3.5}},
 		{accuracy.Case{Condition: "overlap", Layout: "6x2", Seed: 1}, map[ecg.Lead]float64{ecg.LeadAVR: 7}},
 	} {
-		t.Run(tc.c.Name(), func(t *testing.T) {
-			cs := scoreCaseWith(t, tc.c, "", true)
-			if cs.err != nil {
-				t.Fatalf("digitise: %v", cs.err)
-			}
-			if cs.found != cs.printed || cs.swaps != 0 {
-				t.Errorf("found %d of %d leads, %d swaps", cs.found, cs.printed, cs.swaps)
-			}
-			for l, f := range tc.floors {
-				if v := cs.lenient.PerLead[l]; v < f {
-					t.Errorf("%v: SNR %.1f dB < %g dB", l, v, f)
-				}
-			}
-			t.Logf("%s: %s", cs.name, fmtLeads(cs.lenient.PerLead))
-		})
+		t.Run(tc.c.Name(), func(t *testing.T) { requireLeadFloors(t, tc.c, tc.floors) })
 	}
 }
