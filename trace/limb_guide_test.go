@@ -123,18 +123,7 @@ func TestGuideLimbNeedsInk(t *testing.T) {
 // TestGuideLimbConsistentUnchanged: six consistent leads are left alone.
 func TestGuideLimbConsistentUnchanged(t *testing.T) {
 	ink, cal, panels, vals, xs := limbPage(t, nil)
-	before := make([][]float64, len(vals))
-	for i := range vals {
-		before[i] = slices.Clone(vals[i])
-	}
-	if warn := guideLimb(ink, cal, 500, panels, vals, xs, defaultLimbGuide); len(warn) != 0 {
-		t.Errorf("warnings %q, want none", warn)
-	}
-	for i := range vals {
-		if !slices.Equal(vals[i], before[i]) {
-			t.Errorf("lead %v changed", panels[i].Lead)
-		}
-	}
+	requireGuideLimbUnchanged(t, ink, cal, panels, vals, xs)
 }
 
 // secondColumn keeps, of limbPage's six panels, the four a 3 × 4 page
@@ -210,18 +199,7 @@ func TestGuideLimbFourLeadsSlipUnchanged(t *testing.T) {
 	for k := 590; k < 615; k++ {
 		vals[0][k] += 0.08
 	}
-	before := make([][]float64, len(vals))
-	for i := range vals {
-		before[i] = slices.Clone(vals[i])
-	}
-	if warn := guideLimb(ink, cal, 500, panels, vals, xs, defaultLimbGuide); len(warn) != 0 {
-		t.Errorf("warnings %q, want none", warn)
-	}
-	for i := range vals {
-		if !slices.Equal(vals[i], before[i]) {
-			t.Errorf("lead %v changed", panels[i].Lead)
-		}
-	}
+	requireGuideLimbUnchanged(t, ink, cal, panels, vals, xs)
 }
 
 // BenchmarkGuideLimb times guideLimb on six 2 s limb-lead panels at
@@ -236,5 +214,23 @@ func BenchmarkGuideLimb(b *testing.B) {
 	for b.Loop() {
 		copy(vals[4], orig)
 		guideLimb(ink, cal, 500, panels, vals, xs, defaultLimbGuide)
+	}
+}
+
+// requireGuideLimbUnchanged runs guideLimb and requires no warning and
+// every panel's samples unchanged.
+func requireGuideLimbUnchanged(t *testing.T, ink *image.Gray, cal grid.Calibration, panels []*Panel, vals [][]float64, xs []float64) {
+	t.Helper()
+	before := make([][]float64, len(vals))
+	for i := range vals {
+		before[i] = slices.Clone(vals[i])
+	}
+	if warn := guideLimb(ink, cal, 500, panels, vals, xs, defaultLimbGuide); len(warn) != 0 {
+		t.Errorf("warnings %q, want none", warn)
+	}
+	for i := range vals {
+		if !slices.Equal(vals[i], before[i]) {
+			t.Errorf("lead %v changed", panels[i].Lead)
+		}
 	}
 }
