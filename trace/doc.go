@@ -109,7 +109,8 @@
 //     do not show the same excursion (same sign, half its size, in at
 //     least half of the panel's beats; a lead's own complexes repeat beat
 //     to beat), the stretch is returned as NaN with a warning ("lead V2:
-//     40 ms withheld where row 3's strokes cross it"); the lead stays
+//     40 ms withheld where the strokes of row 3 (from the top) cross
+//     it"); the lead stays
 //     found. Stretches re-read by the limb identities are kept.
 //   - SNR: the PhysioNet/CinC Challenge 2024 definition (see SNR).
 //

@@ -146,7 +146,7 @@ func withholdShared(cal grid.Calibration, fs float64, panels []*Panel, vals, kee
 			}
 		}
 		if wh > 0 {
-			warns = append(warns, fmt.Sprintf("lead %v: %.0f ms withheld where row %d's strokes cross it", pn.Lead, 1000*float64(wh)/fs, other+1))
+			warns = append(warns, fmt.Sprintf("lead %v: %.0f ms withheld where the strokes of row %d (from the top) cross it", pn.Lead, 1000*float64(wh)/fs, other+1))
 		}
 	}
 	return warns
