@@ -504,6 +504,17 @@ func pathPoints(cr *columnRuns, states []state, path []int32, pen, penLo, pxPerM
 				pts = append(pts, Point{x, float64(pc+nc) / 2})
 				continue
 			}
+			// A spike a pen's width can draw spreads over the columns
+			// beside it; one only a column or two wide, standing on the
+			// trace, is a ruled line left in the ink map (the major grid
+			// lines of grey scans) merged with the trace: keep the
+			// trace's level. (Bounding the spike by the runs beside it
+			// instead scored lower on the gray corpus: 21.6 against
+			// 21.7 dB median.)
+			if lineNotStroke(cr, c, ru, pen) {
+				pts = append(pts, Point{x, float64(pc+nc) / 2})
+				continue
+			}
 			// A whole spike inside one column: both ends, nearer first.
 			if absf(pc-s.top) < absf(pc-s.bot) {
 				pts = append(pts, Point{x - 0.25, top}, Point{x + 0.25, bot})
@@ -610,4 +621,32 @@ func absf(v float32) float32 {
 		return -v
 	}
 	return v
+}
+
+// lineNotStroke reports whether the run ru of column c is a thin ruled
+// line rather than a pen stroke: taller than 3 mm-equivalents of pen
+// (15 pen widths), on a page whose pen is at least 3 px wide, while
+// neither neighbouring column 2 px away holds ink over half of its
+// height. A stroke drawn by a pen w px wide covers the columns within
+// w/2 of its centre over nearly the same height (a steep QRS stroke
+// only slants, it does not thin).
+func lineNotStroke(cr *columnRuns, c int, ru run, pen float64) bool {
+	h := float64(ru.bot - ru.top + 1)
+	if pen < 3 || h < 15*pen {
+		return false
+	}
+	cover := func(k int) float64 {
+		if k < 0 || k >= cr.width() {
+			return 0
+		}
+		n := 0
+		for _, o := range cr.col(k) {
+			lo, hi := max(o.top, ru.top), min(o.bot, ru.bot)
+			if hi >= lo {
+				n += int(hi - lo + 1)
+			}
+		}
+		return float64(n)
+	}
+	return cover(c-2) < 0.5*h && cover(c+2) < 0.5*h
 }

@@ -306,3 +306,33 @@ func TestFollowSteepPeakBesideJitter(t *testing.T) {
 		t.Errorf("apex at y = %.1f px, drawn at %.0f (pen median %.0f px)", got, apex, pr.penPx)
 	}
 }
+
+// TestFollowRuledLineOnTrace: a major grid line left in the ink map (a
+// grey scan's structural split keeps its stretch between the grid's
+// border and the trace) stands on a flat trace; it is one column wide
+// with fragments in the next, so no pen could have drawn it, and the path
+// keeps the trace's level there instead of climbing it (on the grey
+// 3x4+3 page of seed 3 such lines made every QRS of the top row a 20 mm
+// spike: aVR 2.1 dB, I 4.8 dB). A pen-wide spike keeps its apex
+// (TestFollowSteepPeaks).
+func TestFollowRuledLineOnTrace(t *testing.T) {
+	m := image.NewGray(image.Rect(0, 0, 200, 140))
+	stroke(m, []Point{{0, 110}, {200, 110}}, 2)
+	for y := 5; y <= 110; y++ {
+		m.Pix[y*m.Stride+80] = 200
+		if y >= 60 && (y >= 95 || y%7 != 0) {
+			m.Pix[y*m.Stride+81] = 200 // the line's broken second column
+		}
+	}
+	pr := followMask(m, 110)
+	for _, x := range []float64{78, 79, 82, 83} {
+		if y, ok := yAt(pr.points, x); !ok || math.Abs(y-110) > 1.5 {
+			t.Errorf("x %g: y %.2f, want 110 ± 1.5", x, y)
+		}
+	}
+	// Beside the line, column 81 holds ink from 95 px down to the trace,
+	// which pulls the level there by a few px; never up the line.
+	if top := minY(pr.points, 70, 90); top < 100 {
+		t.Errorf("the path climbs the ruled line to y %.1f", top)
+	}
+}
