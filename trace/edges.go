@@ -1,6 +1,11 @@
 package trace
 
-import "math"
+import (
+	"math"
+	"slices"
+
+	"gonum.org/v1/gonum/stat"
+)
 
 // Where two columns of a 3 × 4 page meet, the printer draws a short
 // vertical separator tick, one lead's trace stops and the next one's
@@ -27,28 +32,18 @@ const boundaryZonePen = 0.4
 // enough that a steep QRS stroke is still straight over it).
 const boundaryFitMM = 0.25
 
-// trimAtBoundaries returns pts (a panel's path, sorted by x) with the
-// stretch within zone px of a column boundary at its left edge (a boundary
-// within near px of x0) and at its right edge (within near px of x1)
+// trimAtBoundaries returns pts (a panel's path from x0 to x1 px, sorted
+// by x) with the stretch within zone px of x0 (when left: another column
+// ends there) and of x1 (when right: another column starts there)
 // replaced by the straight continuation of the path's points over the fit
 // px beside the zone. The replacement points are one pixel apart and reach
-// x0 and x1. pts is returned unchanged where no boundary lies at an edge
-// or too few points lie beside a zone to fit a slope.
-func trimAtBoundaries(pts []Point, bounds []float64, x0, x1, zone, fit, near float64) []Point {
+// x0 and x1. An edge is left as it is where too few points lie beside its
+// zone to fit a slope.
+func trimAtBoundaries(pts []Point, x0, x1 float64, left, right bool, zone, fit float64) []Point {
 	if len(pts) < 2 || zone <= 0 {
 		return pts
 	}
-	tickAt := func(x float64) (float64, bool) {
-		best, ok := 0.0, false
-		for _, t := range bounds {
-			if math.Abs(t-x) <= near && (!ok || math.Abs(t-x) < math.Abs(best-x)) {
-				best, ok = t, true
-			}
-		}
-		return best, ok
-	}
-	if t, ok := tickAt(x1); ok {
-		cut := t - zone
+	if cut := x1 - zone; right {
 		if a, b, ok := lineFit(pts, cut-fit, cut); ok {
 			k := len(pts)
 			for k > 0 && pts[k-1].X > cut {
@@ -61,8 +56,7 @@ func trimAtBoundaries(pts []Point, bounds []float64, x0, x1, zone, fit, near flo
 			pts = out
 		}
 	}
-	if t, ok := tickAt(x0); ok {
-		cut := t + zone
+	if cut := x0 + zone; left {
 		if a, b, ok := lineFit(pts, cut, cut+fit); ok {
 			k := 0
 			for k < len(pts) && pts[k].X < cut {
@@ -78,28 +72,19 @@ func trimAtBoundaries(pts []Point, bounds []float64, x0, x1, zone, fit, near flo
 	return pts
 }
 
-// lineFit fits y = a + b·x by least squares to the points with x in
-// [lo, hi]; ok is false with fewer than three points or no spread in x.
+// lineFit fits y = a + b·x by least squares (gonum's stat.LinearRegression)
+// to the points with x in [lo, hi]; ok is false with fewer than three
+// points or no spread in x.
 func lineFit(pts []Point, lo, hi float64) (a, b float64, ok bool) {
-	var n, sx, sy, sxx, sxy float64
+	var xs, ys []float64
 	for _, p := range pts {
-		if p.X < lo || p.X > hi {
-			continue
+		if p.X >= lo && p.X <= hi {
+			xs, ys = append(xs, p.X), append(ys, p.Y)
 		}
-		n++
-		sx += p.X
-		sy += p.Y
-		sxx += p.X * p.X
-		sxy += p.X * p.Y
 	}
-	if n < 3 {
+	if len(xs) < 3 || slices.Min(xs) == slices.Max(xs) {
 		return 0, 0, false
 	}
-	d := n*sxx - sx*sx
-	if d <= 1e-9 {
-		return 0, 0, false
-	}
-	b = (n*sxy - sx*sy) / d
-	a = (sy - b*sx) / n
+	a, b = stat.LinearRegression(xs, ys, nil, false)
 	return a, b, true
 }

@@ -19,7 +19,7 @@ func TestTrimAtBoundaries(t *testing.T) {
 		}
 		pts = append(pts, Point{x, y})
 	}
-	out := trimAtBoundaries(pts, []float64{0, 40}, 0, 40, 2, 3, 5)
+	out := trimAtBoundaries(pts, 0, 40, true, true, 2, 3)
 	if out[0].X != 0 || out[len(out)-1].X != 40 {
 		t.Fatalf("path spans %g–%g px, want 0–40", out[0].X, out[len(out)-1].X)
 	}
@@ -34,12 +34,12 @@ func TestTrimAtBoundaries(t *testing.T) {
 		}
 	}
 
-	same := trimAtBoundaries(pts, []float64{200}, 0, 40, 2, 3, 5)
+	same := trimAtBoundaries(pts, 0, 40, false, false, 2, 3)
 	if len(same) != len(pts) || same[0] != pts[0] || same[len(same)-1] != pts[len(pts)-1] {
-		t.Error("a boundary far from both edges changed the path")
+		t.Error("the path changed without a boundary at either edge")
 	}
 	// Only the left edge is a boundary: the right end keeps its stroke.
-	left := trimAtBoundaries(pts, []float64{0}, 0, 40, 2, 3, 5)
+	left := trimAtBoundaries(pts, 0, 40, true, false, 2, 3)
 	if got := left[len(left)-1]; got != pts[len(pts)-1] {
 		t.Errorf("right end %v changed to %v without a boundary there", pts[len(pts)-1], got)
 	}
@@ -48,7 +48,7 @@ func TestTrimAtBoundaries(t *testing.T) {
 	}
 	// Too few points beside the zone to fit a slope: unchanged.
 	short := []Point{{0, 1}, {1, 2}, {2, 3}}
-	if got := trimAtBoundaries(short, []float64{0}, 0, 2, 2, 3, 5); len(got) != 3 || got[0] != short[0] {
+	if got := trimAtBoundaries(short, 0, 2, true, false, 2, 3); len(got) != 3 || got[0] != short[0] {
 		t.Errorf("a three-point path was changed: %v", got)
 	}
 }

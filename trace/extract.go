@@ -263,14 +263,7 @@ func Extract(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse, opt *Op
 			if !j.bounds.Empty() {
 				// Column boundaries inside the row: the separator tick and
 				// the other lead's ends meet this panel's trace there.
-				var bnd []float64
-				if ci > 0 {
-					bnd = append(bnd, xe0)
-				}
-				if ci+1 < len(lr.Cells) {
-					bnd = append(bnd, xe1)
-				}
-				p.Path = trimAtBoundaries(j.pr.points, bnd, xe0, xe1, boundaryZonePen*j.pr.penPx, math.Max(boundaryFitMM*pxX, 3), 1*pxX)
+				p.Path = trimAtBoundaries(j.pr.points, xe0, xe1, ci > 0, ci+1 < len(lr.Cells), boundaryZonePen*j.pr.penPx, math.Max(boundaryFitMM*pxX, 3))
 				cov := 0.0
 				if j.pr.cols > 0 {
 					cov = float64(j.pr.onInk) / float64(j.pr.cols)
