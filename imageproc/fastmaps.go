@@ -216,8 +216,9 @@ func rowInput(src *source, win *rowWindow, sy0, sy1 int64) (sp []uint8, ss, lo i
 }
 
 // downscaleSource is downscale for any source: rows are converted one at
-// a time (the same bytes as downscaling the converted input); 4:2:0 and
-// 4:2:2 Y′CbCr rows are converted straight into the block sums.
+// a time (the same bytes as downscaling the converted input), except that
+// 4:2:0 and 4:2:2 Y′CbCr input with an even f is converted once per
+// chroma sample (downscaleYCbCr, table-driven: the same bytes).
 func downscaleSource(src *source, f int) *image.NRGBA {
 	if src.rgb != nil {
 		return downscale(src.rgb, f)
@@ -225,11 +226,14 @@ func downscaleSource(src *source, f int) *image.NRGBA {
 	if f < 1 {
 		f = 1
 	}
+	if src.ycc != nil && src.hs == 1 && f%2 == 0 {
+		return downscaleYCbCr(src.ycc, f)
+	}
 	sw, sh := src.w, src.h
 	w, h := (sw+f-1)/f, (sh+f-1)/f
 	dst := image.NewNRGBA(image.Rect(0, 0, w, h))
 	// Bands of work rows among GOMAXPROCS workers (a Y′CbCr page is
-	// converted here).
+	// converted here, row by row).
 	rowBands(h, func(o0, o1 int) {
 		acc := make([]uint32, 4*w)
 		cnt := make([]uint32, w)
@@ -238,10 +242,6 @@ func downscaleSource(src *source, f int) *image.NRGBA {
 			clear(acc)
 			clear(cnt)
 			for sy := oy * f; sy < min(sh, oy*f+f); sy++ {
-				if src.ycc != nil && src.hs == 1 && f%2 == 0 {
-					accumulateYCbCrRow(acc, cnt, src.ycc, sy, f, w)
-					continue
-				}
 				accumulateRow(acc, cnt, src.row(buf, sy), f, w, sw)
 			}
 			finishRow(dst.Pix[oy*dst.Stride:oy*dst.Stride+4*w], acc, cnt)

@@ -163,44 +163,6 @@ func clipTo8(v int32) uint32 {
 	return uint32(min(max(v>>16, 0), 255))
 }
 
-// accumulateYCbCrRow is accumulateRow for row y of a 4:2:0 or 4:2:2
-// Y′CbCr input (hs = 1) and an even block width f: each pixel pair is
-// converted as ycbcrRow converts it and added to its block's sums
-// directly, without writing the converted row.
-func accumulateYCbCrRow(acc, cnt []uint32, m *image.YCbCr, y, f, w int) {
-	sw := m.Rect.Dx()
-	yr := m.Y[y*m.YStride : y*m.YStride+sw]
-	c0 := m.COffset(0, y)
-	cw := (sw-1)>>1 + 1
-	cbr := m.Cb[c0 : c0+cw]
-	crr := m.Cr[c0 : c0+cw]
-	for ox := 0; ox < w; ox++ {
-		x0, x1 := ox*f, min(sw, ox*f+f)
-		var r, g, b uint32
-		x := x0
-		for ; x+1 < x1; x += 2 {
-			kr, kg, kb := chromaTerms(cbr[x>>1], crr[x>>1])
-			p := yr[x : x+2 : x+2]
-			y0, y1 := int32(p[0])*0x10101, int32(p[1])*0x10101
-			r += clipTo8(y0+kr) + clipTo8(y1+kr)
-			g += clipTo8(y0+kg) + clipTo8(y1+kg)
-			b += clipTo8(y0+kb) + clipTo8(y1+kb)
-		}
-		if x < x1 {
-			kr, kg, kb := chromaTerms(cbr[x>>1], crr[x>>1])
-			y0 := int32(yr[x]) * 0x10101
-			r += clipTo8(y0 + kr)
-			g += clipTo8(y0 + kg)
-			b += clipTo8(y0 + kb)
-		}
-		a := acc[4*ox : 4*ox+3 : 4*ox+3]
-		a[0] += r
-		a[1] += g
-		a[2] += b
-		cnt[ox] += uint32(x1 - x0)
-	}
-}
-
 // affineRow fills d (4 bytes per pixel, one dst row) by sampling the
 // source bilinearly along a line: the source point starts at (sx, sy)
 // and advances by (stepX, stepY) per pixel, all in 32.32 fixed point.

@@ -5,10 +5,13 @@ import (
 	"math"
 )
 
-// points is a weighted sample of bright pixels of a line-strength map.
+// points is a weighted sample of bright pixels of a line-strength map,
+// in row-major order (x, y, w) and again in column-major order (xt, yt,
+// wt).
 type points struct {
-	x, y, w []float32
-	span    int // w+h of the map: bound on |projection|
+	x, y, w    []float32
+	xt, yt, wt []float32
+	span       int // w+h of the map: bound on |projection|
 }
 
 // collectPoints samples the pixels of m stronger than thr (weight = value
@@ -44,7 +47,28 @@ func collectPoints(m *image.Gray, thr uint8, limit int) *points {
 			p.w = append(p.w, float32(v-thr))
 		}
 	}
+	p.transpose(w)
 	return p
+}
+
+// transpose fills xt, yt, wt with the points in column-major order (by x,
+// then y: a counting sort of the row-major points on x, which keeps each
+// column's points in row order); w is the map's width.
+func (p *points) transpose(w int) {
+	start := make([]int, w+1)
+	for _, x := range p.x {
+		start[int(x)+1]++
+	}
+	for i := 1; i <= w; i++ {
+		start[i] += start[i-1]
+	}
+	n := len(p.x)
+	p.xt, p.yt, p.wt = make([]float32, n), make([]float32, n), make([]float32, n)
+	for i, x := range p.x {
+		k := start[int(x)]
+		start[int(x)]++
+		p.xt[k], p.yt[k], p.wt[k] = x, p.y[i], p.w[i]
+	}
 }
 
 // family selects which line family a projection favours.
@@ -59,6 +83,14 @@ const (
 // sharpness returns Σ bin² of the projection profiles of p for lines
 // turned θ radians counter-clockwise (as seen on the image, y down), for
 // the chosen families. Each point is split linearly between two bins.
+// The points of one line of a family fall in the same bins, so each
+// family's projection visits them in the order that leaves them apart
+// (rows of points across the vertical lines, columns across the
+// horizontal ones): consecutive additions to one bin wait for each other,
+// and that made the horizontal projection up to twice as slow as the
+// vertical one. The sums are those of the row-major order up to the
+// order of floating-point additions (angles equal to 1e-12° on corpus
+// pages).
 func (p *points) sharpness(theta float64, fam family, buf []float64) float64 {
 	n := 2*p.span + 4
 	if cap(buf) < n {
@@ -68,13 +100,14 @@ func (p *points) sharpness(theta float64, fam family, buf []float64) float64 {
 	c, s := float32(math.Cos(theta)), float32(math.Sin(theta))
 	off := float32(p.span + 1)
 	total := 0.0
-	project := func(a, b float32) {
+	project := func(a, b float32, xs, ys, ws []float32) {
 		clear(buf)
-		for i := range p.x {
-			v := a*p.x[i] + b*p.y[i] + off
+		ys, ws = ys[:len(xs)], ws[:len(xs)]
+		for i, x := range xs {
+			v := a*x + b*ys[i] + off
 			k := int(v)
 			f := v - float32(k)
-			wt := float64(p.w[i])
+			wt := float64(ws[i])
 			buf[k] += wt * float64(1-f)
 			buf[k+1] += wt * float64(f)
 		}
@@ -83,10 +116,10 @@ func (p *points) sharpness(theta float64, fam family, buf []float64) float64 {
 		}
 	}
 	if fam&horizontal != 0 {
-		project(s, c) // y cosθ + x sinθ is constant along a line
+		project(s, c, p.xt, p.yt, p.wt) // y cosθ + x sinθ is constant along a line
 	}
 	if fam&vertical != 0 {
-		project(c, -s) // x cosθ − y sinθ
+		project(c, -s, p.x, p.y, p.w) // x cosθ − y sinθ
 	}
 	return total
 }

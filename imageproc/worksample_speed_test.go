@@ -1,0 +1,96 @@
+package imageproc
+
+import (
+	"bytes"
+	"image"
+	"image/color"
+	"image/jpeg"
+	"sync"
+	"testing"
+
+	"tracelift/internal/cputime"
+	"tracelift/render"
+)
+
+// a4JPEG returns corpus page 0 (seed 7) of the "scan" condition, a
+// 300-dpi A4 colour scan, stored as a quality-90 JPEG and decoded
+// (4:2:0 Y′CbCr, as image/jpeg writes colour).
+var a4JPEG = sync.OnceValues(func() (*image.YCbCr, error) {
+	pg, err := render.CorpusPage(7, "scan", 0)
+	if err != nil {
+		return nil, err
+	}
+	var buf bytes.Buffer
+	if err := jpeg.Encode(&buf, pg.Image, &jpeg.Options{Quality: 90}); err != nil {
+		return nil, err
+	}
+	img, err := jpeg.Decode(&buf)
+	if err != nil {
+		return nil, err
+	}
+	return img.(*image.YCbCr), nil
+})
+
+// BenchmarkWorkCopyA4JPEG times the work copy (downscaleSource at the
+// factor Prepare uses, 4) of a decoded 300-dpi A4 JPEG; CPU time per call
+// beside the wall time.
+func BenchmarkWorkCopyA4JPEG(b *testing.B) {
+	m, err := a4JPEG()
+	if err != nil {
+		b.Fatal(err)
+	}
+	src := newSource(m)
+	f := (max(src.w, src.h) + workSide - 1) / workSide
+	b.ReportAllocs()
+	b.ResetTimer()
+	cpuDone := cputime.Report(b)
+	for b.Loop() {
+		downscaleSource(src, f)
+	}
+	cpuDone()
+}
+
+// TestWorkCopyA4PageExact: on a real page (a 300-dpi A4 scan stored as
+// JPEG, where a pink grid on near-white paper makes the red channel clip
+// at random) the table-driven work copy has the bytes of the box means of
+// the page converted pixel by pixel by image/color (the JFIF equations,
+// ITU-T T.871 §7). TestDownscaleYCbCrExact covers odd sizes, partial
+// blocks and random pixels.
+func TestWorkCopyA4PageExact(t *testing.T) {
+	if testing.Short() {
+		t.Skip("renders an A4 page")
+	}
+	m, err := a4JPEG()
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, f := range []int{2, 4} {
+		got, want := downscaleSource(newSource(m), f), downscale(toNRGBA(m), f)
+		if !bytes.Equal(got.Pix, want.Pix) {
+			t.Errorf("f=%d: work copy differs from the box means of the converted page", f)
+		}
+	}
+}
+
+// TestYCCTables: every (chroma, luma) pair's red and blue table entries
+// and the green rule (Y′ + q + carry, clamped) equal image/color's
+// conversion.
+func TestYCCTables(t *testing.T) {
+	tb := newYCCTables()
+	for cb := 0; cb < 256; cb++ {
+		for cr := 0; cr < 256; cr++ {
+			_, kg, _ := chromaTerms(uint8(cb), uint8(cr))
+			q := kg>>16 + greenOff
+			thr := (65536 - kg&0xffff + 256) / 257
+			for y := 0; y < 256; y++ {
+				r, g, b := color.YCbCrToRGB(uint8(y), uint8(cb), uint8(cr))
+				v := int32(y)
+				gg := tb.clampG[(v+q+1+(v-thr)>>31)&1023]
+				if tb.red[cr<<8|y] != r || gg != g || tb.blue[cb<<8|y] != b {
+					t.Fatalf("Y′CbCr (%d,%d,%d): tables give (%d,%d,%d), image/color (%d,%d,%d)",
+						y, cb, cr, tb.red[cr<<8|y], gg, tb.blue[cb<<8|y], r, g, b)
+				}
+			}
+		}
+	}
+}
