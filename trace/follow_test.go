@@ -336,3 +336,36 @@ func TestFollowRuledLineOnTrace(t *testing.T) {
 		t.Errorf("the path climbs the ruled line to y %.1f", top)
 	}
 }
+
+// gaussWave is a 200 px trace at y = base with a Gaussian wave of height h
+// px (upwards) centred at x = xc, σ = sigma px, sampled every 0.25 px.
+func gaussWave(base, h, xc, sigma float64) []Point {
+	var pts []Point
+	for x := 0.0; x <= 200; x += 0.25 {
+		d := (x - xc) / sigma
+		pts = append(pts, Point{x, base - h*math.Exp(-d*d/2)})
+	}
+	return pts
+}
+
+// TestFollowDeepSThroughNeighbourR: a deep S wave goes down 49 mm while
+// the next row's R wave, 52 mm lower, rises 36 mm in the same columns (an
+// aVR over an aVL at 20 mm/mV): the strokes merge into single runs from
+// the S wave's flanks down to the R wave's base. A pen going down keeps
+// going down through the merged runs to its trough; the path must not
+// turn back at the R wave's apex.
+func TestFollowDeepSThroughNeighbourR(t *testing.T) {
+	m := image.NewGray(image.Rect(0, 0, 200, 900))
+	const base, trough = 300.0, 790.0
+	stroke(m, gaussWave(base, base-trough, 95, 2.8), 2.5)
+	stroke(m, gaussWave(820, 360, 95.3, 2.5), 2.5)
+	pr := followMask(m, base)
+	if y := maxY(pr.points, 85, 105); y < trough-20 {
+		t.Errorf("S wave read down to y = %.0f px, drawn to %.0f px (%.1f of %.1f mm)", y, trough, (y-base)/10, (trough-base)/10)
+	}
+	for _, x := range []float64{40, 150} {
+		if y, ok := yAt(pr.points, x); !ok || math.Abs(y-base) > 1 {
+			t.Errorf("x = %.0f: y = %.1f, want the trace at %.0f", x, y, base)
+		}
+	}
+}
