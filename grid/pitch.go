@@ -89,13 +89,7 @@ func profile(g *image.Gray, alongX bool) []float64 {
 		// Integer column sums (exact, as the float sums of integers
 		// below 2^53 are), converted once.
 		acc := make([]uint64, w)
-		for y := 0; y < h; y++ {
-			row := g.Pix[y*g.Stride : y*g.Stride+w]
-			acc := acc[:len(row)]
-			for x, v := range row {
-				acc[x] += uint64(v)
-			}
-		}
+		columnSums(acc, g)
 		p := make([]float64, w)
 		for x, v := range acc {
 			p[x] = float64(v)
@@ -104,11 +98,7 @@ func profile(g *image.Gray, alongX bool) []float64 {
 	}
 	p := make([]float64, h)
 	for y := 0; y < h; y++ {
-		s := 0
-		for _, v := range g.Pix[y*g.Stride : y*g.Stride+w] {
-			s += int(v)
-		}
-		p[y] = float64(s)
+		p[y] = float64(rowSum(g.Pix[y*g.Stride : y*g.Stride+w]))
 	}
 	return p
 }

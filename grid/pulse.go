@@ -1,6 +1,7 @@
 package grid
 
 import (
+	"encoding/binary"
 	"image"
 	"math"
 	"slices"
@@ -159,20 +160,38 @@ func verticalRuns(ink *image.Gray, on uint8, minRun, maxRun int) [][][2]int {
 	for x := range start {
 		start[x] = -1
 	}
+	// Runs open per group of 8 columns: a group with none open whose 8
+	// pixels are all below on (one word test) is passed over.
+	open := make([]int32, (w+7)/8)
 	end := func(x, y int) {
 		if l := y - int(start[x]); l >= minRun && l <= maxRun {
 			runs[x] = append(runs[x], [2]int{int(start[x]), y - 1})
 		}
 		start[x] = -1
+		open[x>>3]--
 	}
+	full := w / 8 // whole groups, passed over when they can be
+	if on < 1 || on > 128 {
+		full = 0
+	}
+	k := atLeastAddend(on)
 	for y := 0; y < h; y++ {
 		row := ink.Pix[y*ink.Stride : y*ink.Stride+w]
-		for x, v := range row {
-			switch {
-			case v >= on && start[x] < 0:
-				start[x] = int32(y)
-			case v < on && start[x] >= 0:
-				end(x, y)
+		for x0 := 0; x0 < w; x0 += 8 {
+			if g := x0 >> 3; g < full && open[g] == 0 {
+				if !anyAtLeast(binary.LittleEndian.Uint64(row[x0:]), k) {
+					continue
+				}
+			}
+			for x := x0; x < min(w, x0+8); x++ {
+				v := row[x]
+				switch {
+				case v >= on && start[x] < 0:
+					start[x] = int32(y)
+					open[x>>3]++
+				case v < on && start[x] >= 0:
+					end(x, y)
+				}
 			}
 		}
 	}
@@ -189,15 +208,8 @@ func verticalRuns(ink *image.Gray, on uint8, minRun, maxRun int) [][][2]int {
 // right tenth) — common practice; flat-topped complexes elsewhere that
 // look like a pulse are dropped.
 func atRowEnds(ps []Pulse, ink *image.Gray) []Pulse {
-	w, h := ink.Rect.Dx(), ink.Rect.Dy()
-	cols := make([]int, w)
-	for y := 0; y < h; y += 2 {
-		for x, v := range ink.Pix[y*ink.Stride : y*ink.Stride+w] {
-			if v >= 128 {
-				cols[x]++
-			}
-		}
-	}
+	w := ink.Rect.Dx()
+	cols := inkColumns(ink)
 	lo, hi := 0, w-1
 	for lo < w-1 && cols[lo] == 0 {
 		lo++
@@ -213,6 +225,42 @@ func atRowEnds(ps []Pulse, ink *image.Gray) []Pulse {
 		}
 	}
 	return out
+}
+
+// inkColumns returns, per column of ink, how many of its even rows hold
+// a pixel ≥ 128: the top bits of eight pixels at a time, added in byte
+// lanes and emptied every 255 rows counted.
+func inkColumns(ink *image.Gray) []int {
+	w, h := ink.Rect.Dx(), ink.Rect.Dy()
+	cols := make([]int, w)
+	nw := w / 8
+	acc := make([]uint64, nw)
+	flush := func() {
+		for i, a := range acc {
+			for k := range 8 {
+				cols[8*i+k] += int(a >> (8 * k) & 0xff)
+			}
+			acc[i] = 0
+		}
+	}
+	n := 0
+	for y := 0; y < h; y += 2 {
+		row := ink.Pix[y*ink.Stride : y*ink.Stride+w]
+		for i := range acc {
+			acc[i] += binary.LittleEndian.Uint64(row[8*i:]) >> 7 & bytes1
+		}
+		for x := 8 * nw; x < w; x++ {
+			if row[x] >= 128 {
+				cols[x]++
+			}
+		}
+		if n++; n == 255 {
+			flush()
+			n = 0
+		}
+	}
+	flush()
+	return cols
 }
 
 // topThickness returns how many rows from y down are inked at the middle
