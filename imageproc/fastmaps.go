@@ -68,19 +68,28 @@ func (f *sepFixed) row(row []uint8, g []uint32, gr, ir, dr []uint8) {
 // upright makes the w×h upright page's maps in one pass over its rows:
 // each row is sampled from the input through toSrc (upright px → input
 // px; a plain copy or conversion when toSrc is the identity) and
-// separated: an affine sample of NRGBA input is separated in the same
-// loop (affineSepRow), other rows while they are still in cache. No map
-// is read back from memory, and 8-bit RGBA or grey input is never copied
-// as a whole. The upright colour page col is returned only where it
-// costs nothing more (the input itself, or a projective warp made first
-// for photos); otherwise it is nil and Page.Upright resamples it on
-// demand (uprightColour, the same bytes): only overlays read it, and
-// writing it cost a 35 MB image per A4 page. Rows are independent, so
-// they are shared among GOMAXPROCS workers; the result does not depend
-// on their number.
-func (s *separator) upright(src *source, toSrc Homography, w, h int, bg *background) (col *image.NRGBA, gray, ink, grd *image.Gray) {
+// separated. Given bgSrc (the background in input px), a deskewed colour
+// page is separated first, row by row in the input's frame with bgSrc's
+// gains, and its two maps are sampled (upright_pairs.go); other
+// affine samples
+// of NRGBA input are separated in the sampling loop (affineSepRow), other
+// rows while they are still in cache. No map is read back from memory,
+// and 8-bit RGBA or grey input is never copied as a whole. The upright
+// colour page col is returned only where it costs nothing more (the
+// input itself, or a projective warp made first for photos); otherwise it
+// is nil and Page.Upright resamples it on demand (uprightColour, the same
+// bytes): only overlays read it, and writing it cost a 35 MB image per A4
+// page. gray is nil for a colour separator unless needGray (photos
+// register their lattice on it): nothing else reads the luminance of a
+// colour page. Rows are independent, so they are shared among GOMAXPROCS
+// workers; the result does not depend on their number.
+func (s *separator) upright(src *source, toSrc Homography, w, h int, bg, bgSrc *background, needGray bool) (col *image.NRGBA, gray, ink, grd *image.Gray) {
 	r := image.Rect(0, 0, w, h)
-	gray, ink, grd = image.NewGray(r), image.NewGray(r), image.NewGray(r)
+	ink, grd = image.NewGray(r), image.NewGray(r)
+	keepGray := !s.colour || needGray
+	if keepGray {
+		gray = image.NewGray(r)
+	}
 	f := s.fixed()
 	hm, affine := affineMap(toSrc)
 	ident := toSrc == identity && w == src.w && h == src.h
@@ -92,12 +101,29 @@ func (s *separator) upright(src *source, toSrc Homography, w, h int, bg *backgro
 		warpNRGBA(col, src.nrgba(), toSrc)
 	}
 	stepX, stepY := toFix32(hm[0]), toFix32(hm[3])
+	if pspan := windowSpan(hm, w, src.h); bgSrc != nil && s.colour && !needGray && affine && !ident && col == nil && pspan > 0 {
+		paper := f.paperPair()
+		rowBands(h, func(y0, y1 int) {
+			win := newWindow(newPairSource(src, &f, bgSrc).filler(), 2*src.w, src.h, 2*pspan+8)
+			for y := y0; y < y1; y++ {
+				sx, sy := rowStart(hm, y)
+				sp, ss, lo := win.cover(int(min(sy, sy+int64(w-1)*stepY)>>32), int(max(sy, sy+int64(w-1)*stepY)>>32)+1)
+				samplePairRow(ink.Pix[y*ink.Stride:y*ink.Stride+w], grd.Pix[y*grd.Stride:y*grd.Stride+w],
+					sp, ss, src.w, src.h, lo, sx, sy, stepX, stepY, paper)
+			}
+		})
+		return nil, gray, ink, grd
+	}
 	span := yccSpan(src, hm, affine && !ident, w)
 	band := func(y0, y1 int) {
 		g := make([]uint32, 3*w)
 		buf := make([]uint8, 4*w) // one colour row, when col is not kept
+		var grow []uint8          // the luminance row nobody keeps
+		if !keepGray {
+			grow = make([]uint8, w)
+		}
 		var sc gainScratch
-		var win *rowWindow
+		var win *rowWindow[uint8]
 		if span > 0 {
 			win = newRowWindow(src, 2*span+8)
 		}
@@ -105,6 +131,10 @@ func (s *separator) upright(src *source, toSrc Homography, w, h int, bg *backgro
 			var row []uint8
 			if col != nil {
 				row = col.Pix[y*col.Stride : y*col.Stride+4*w]
+			}
+			gr := grow
+			if keepGray {
+				gr = gray.Pix[y*gray.Stride : y*gray.Stride+w]
 			}
 			bg.gainRowFixedInto(g, &sc, y, w)
 			switch {
@@ -116,7 +146,7 @@ func (s *separator) upright(src *source, toSrc Homography, w, h int, bg *backgro
 				// Sampled and separated in one loop.
 				sx, sy := rowStart(hm, y)
 				sp, ss, lo := rowInput(src, win, sy, sy+int64(w-1)*stepY)
-				f.affineSepRow(buf, g, gray.Pix[y*gray.Stride:y*gray.Stride+w], ink.Pix[y*ink.Stride:y*ink.Stride+w],
+				f.affineSepRow(buf, g, gr, ink.Pix[y*ink.Stride:y*ink.Stride+w],
 					grd.Pix[y*grd.Stride:y*grd.Stride+w], sp, ss, src.w, src.h, lo, sx, sy, stepX, stepY)
 				continue
 			default:
@@ -124,8 +154,7 @@ func (s *separator) upright(src *source, toSrc Homography, w, h int, bg *backgro
 				row = buf
 				src.affineRow(row, sx, sy, stepX, stepY)
 			}
-			f.row(row, g, gray.Pix[y*gray.Stride:y*gray.Stride+w],
-				ink.Pix[y*ink.Stride:y*ink.Stride+w], grd.Pix[y*grd.Stride:y*grd.Stride+w])
+			f.row(row, g, gr, ink.Pix[y*ink.Stride:y*ink.Stride+w], grd.Pix[y*grd.Stride:y*grd.Stride+w])
 		}
 	}
 	rowBands(h, band)
@@ -146,7 +175,7 @@ func uprightColour(src *source, toSrc Homography, w, h int) *image.NRGBA {
 	stepX, stepY := toFix32(hm[0]), toFix32(hm[3])
 	span := yccSpan(src, hm, !ident, w)
 	rowBands(h, func(y0, y1 int) {
-		var win *rowWindow
+		var win *rowWindow[uint8]
 		if span > 0 {
 			win = newRowWindow(src, 2*span+8)
 		}
@@ -208,7 +237,7 @@ func rowStart(hm Homography, y int) (sx, sy int64) {
 // rowInput returns the input pixels a row whose source points run from y
 // sy0 to sy1 (32.32) reads: the window covering those rows and the row
 // below, or the whole NRGBA input (win nil).
-func rowInput(src *source, win *rowWindow, sy0, sy1 int64) (sp []uint8, ss, lo int) {
+func rowInput(src *source, win *rowWindow[uint8], sy0, sy1 int64) (sp []uint8, ss, lo int) {
 	if win == nil {
 		return src.rgb.Pix, src.rgb.Stride, 0
 	}

@@ -265,29 +265,40 @@ func affineRowGray(d []uint8, src *image.Gray, sx, sy, stepX, stepY int64) {
 	}
 }
 
-// rowWindow holds consecutive input rows, converted to NRGBA, for a band
-// of upright rows that sample them in order: rows [lo, lo+n) of the input
-// at buf[(y−lo)·4w]. It slides down as the rows ask for lower input rows
+// rowWindow holds consecutive input rows, converted to NRGBA bytes or
+// separated into pairs of linear map values (pairSource), for a band of
+// upright rows that sample them in order: rows [lo, lo+n) of the input at
+// buf[(y−lo)·rs]. It slides down as the rows ask for lower input rows
 // (rows no longer needed are dropped by moving the kept ones to the
-// front), so each input row is converted once per band.
-type rowWindow struct {
-	src   *source
-	buf   []uint8
+// front), so each input row is made once per band.
+type rowWindow[T uint8 | int16] struct {
+	fill  func(d []T, y int) // makes input row y in d (rs values)
+	buf   []T
+	rs, h int // values per row, input rows
 	lo, n int
 	k     int // capacity in rows
 }
 
-func newRowWindow(src *source, k int) *rowWindow {
-	k = min(k, src.h)
-	return &rowWindow{src: src, buf: make([]uint8, k*4*src.w), k: k}
+// newRowWindow is a window of k converted NRGBA rows of src.
+func newRowWindow(src *source, k int) *rowWindow[uint8] {
+	return newWindow(func(d []uint8, y int) {
+		if r := src.row(d, y); &r[0] != &d[0] {
+			copy(d, r)
+		}
+	}, 4*src.w, src.h, k)
+}
+
+func newWindow[T uint8 | int16](fill func(d []T, y int), rs, h, k int) *rowWindow[T] {
+	k = min(k, h)
+	return &rowWindow[T]{fill: fill, buf: make([]T, k*rs), rs: rs, h: h, k: k}
 }
 
 // cover makes the window hold the input rows [r0, r1] (clipped to the
-// input; r1 − r0 < k) and returns its pixels, stride and first row, as
-// affineSepRow reads them.
-func (wd *rowWindow) cover(r0, r1 int) (sp []uint8, ss, lo int) {
-	rs := 4 * wd.src.w
-	r0, r1 = max(r0, 0), min(r1, wd.src.h-1)
+// input; r1 − r0 < k) and returns its values, stride and first row, as
+// affineSepRow and samplePairRow read them.
+func (wd *rowWindow[T]) cover(r0, r1 int) (sp []T, ss, lo int) {
+	rs := wd.rs
+	r0, r1 = max(r0, 0), min(r1, wd.h-1)
 	switch {
 	case r1 < r0:
 		// Nothing of the input under this row.
@@ -299,7 +310,7 @@ func (wd *rowWindow) cover(r0, r1 int) (sp []uint8, ss, lo int) {
 		wd.lo, wd.n = r0, wd.n-d
 	}
 	for ; wd.lo+wd.n <= r1; wd.n++ {
-		wd.src.row(wd.buf[wd.n*rs:(wd.n+1)*rs], wd.lo+wd.n)
+		wd.fill(wd.buf[wd.n*rs:(wd.n+1)*rs], wd.lo+wd.n)
 	}
 	return wd.buf, rs, wd.lo
 }

@@ -34,7 +34,10 @@ type Page struct {
 	Color *image.NRGBA
 	Ink   *image.Gray // trace-ink strength 0..255 (255 = certainly ink); grid and paper removed
 	Grid  *image.Gray // grid-line strength 0..255
-	Gray  *image.Gray // luminance after background normalisation (255 = paper)
+	// Gray is the luminance after background normalisation (255 =
+	// paper) of grey and 1-bit pages and of photos; nil on other colour
+	// pages, whose calibration and tracing read only Ink and Grid.
+	Gray *image.Gray
 	// RotationDeg is the skew that was removed, degrees, counter-clockwise
 	// positive as seen on the input (after the quarter turns).
 	RotationDeg float64
@@ -217,7 +220,14 @@ func Prepare(img image.Image, opt *Options) (*Page, error) {
 	fullToWork := Homography{1 / s, 0, -(s - 1) / (2 * s), 0, 1 / s, -(s - 1) / (2 * s), 0, 0, 1}
 	bg := bgw.resample(Mul(fullToWork, toSrc), OW, OH, ub*f)
 	// One pass: resample (or convert) each row and separate it.
-	p.Color, p.Gray, p.Ink, p.Grid = sep.upright(src, toSrc, OW, OH, bg)
+	// The background at the input's pixels, for inputs separated before
+	// they are resampled (upright_pairs.go).
+	photo := p.Rectified || (mask != nil && !o.NoRectify && !o.NoDeskew)
+	var bgSrc *background
+	if !photo {
+		bgSrc = bgw.resample(fullToWork, src.w, src.h, ub*f)
+	}
+	p.Color, p.Gray, p.Ink, p.Grid = sep.upright(src, toSrc, OW, OH, bg, bgSrc, photo)
 	if p.Color == nil {
 		p.colour = &colourSource{src: src, toSrc: toSrc}
 	}
@@ -232,7 +242,7 @@ func Prepare(img image.Image, opt *Options) (*Page, error) {
 			p.Warnings = append(p.Warnings, "no grid lines found; calibration must come from pulses, metadata or options")
 		}
 	}
-	if p.Rectified || (mask != nil && !o.NoRectify && !o.NoDeskew) {
+	if photo {
 		// A photo: register the page to its grid lattice (photo.go).
 		registerPhoto(p, src.nrgba(), pre, toSrc, bgw, fullToWork, sep, f, wInk)
 	}
