@@ -238,33 +238,41 @@ func (bg *background) gainRowFixedInto(dst []uint32, sc *gainScratch, y, w int) 
 
 // normalise returns a copy of m with each channel divided by bg (clamped
 // to 255): paper becomes white whatever its tint and lighting.
+//
+// Each pixel's gains are gainRow's, computed in the same loop (no gain
+// row written and read back), and the clamp has no branches: paper near
+// white sits at the clamp at random, which defeated the branch predictor.
 func normalise(m *image.NRGBA, bg *background) *image.NRGBA {
 	w, h := m.Rect.Dx(), m.Rect.Dy()
 	dst := image.NewNRGBA(m.Rect)
-	g := make([]float32, 3*w)
 	gc := bg.columns(w)
+	x0s, x1s, axs := gc.x0[:w], gc.x1[:w], gc.ax[:w]
 	for y := 0; y < h; y++ {
-		bg.gainRowCols(g, y, gc)
+		col := bg.blockGains(y, 255)
+		c0, c1, c2 := col[0], col[1], col[2]
 		s := m.Pix[y*m.Stride : y*m.Stride+4*w]
 		d := dst.Pix[y*dst.Stride : y*dst.Stride+4*w]
-		for x := 0; x < w; x++ {
-			for c := 0; c < 3; c++ {
-				d[4*x+c] = clamp8(float32(s[4*x+c]) * g[3*x+c])
-			}
-			d[4*x+3] = 255
+		for x, ax := range axs {
+			i0, i1 := x0s[x], x1s[x]
+			// gainRowCols' expressions, rounded to float32 as it stores them.
+			g0 := float32((1-ax)*c0[i0] + ax*c0[i1])
+			g1 := float32((1-ax)*c1[i0] + ax*c1[i1])
+			g2 := float32((1-ax)*c2[i0] + ax*c2[i1])
+			p := s[4*x : 4*x+3 : 4*x+3]
+			o := d[4*x : 4*x+4 : 4*x+4]
+			o[0] = clamp8(float32(p[0]) * g0)
+			o[1] = clamp8(float32(p[1]) * g1)
+			o[2] = clamp8(float32(p[2]) * g2)
+			o[3] = 255
 		}
 	}
 	return dst
 }
 
+// clamp8 rounds v to the nearest level within 0..255 (v ≥ 255 gives 255,
+// v ≤ 0 gives 0). v is not NaN.
 func clamp8(v float32) uint8 {
-	if v >= 255 {
-		return 255
-	}
-	if v <= 0 {
-		return 0
-	}
-	return uint8(v + 0.5)
+	return uint8(min(max(v, 0), 255) + 0.5)
 }
 
 // resample returns the background of a w×h image whose pixels map to

@@ -13,13 +13,7 @@ import (
 // ink of at least upLevel (orientUpColour on colour pages).
 func orientation(ink *image.Gray, upLevel uint8) int {
 	w, h := ink.Rect.Dx(), ink.Rect.Dy()
-	rows, cols := make([]float64, h), make([]float64, w)
-	for y := 0; y < h; y++ {
-		for x, v := range ink.Pix[y*ink.Stride : y*ink.Stride+w] {
-			rows[y] += float64(v)
-			cols[x] += float64(v)
-		}
-	}
+	rows, cols := inkProfiles(ink)
 	// Between rows of traces lie empty rows; columns are rarely empty.
 	score := 2 * (emptyFraction(rows) - emptyFraction(cols))
 	if w >= h {
@@ -63,9 +57,11 @@ func upwardSkew(ink *image.Gray) float64 {
 		x0, x1 := half*w/2, (half+1)*w/2
 		prof := make([]float64, h)
 		for y := 0; y < h; y++ {
+			s := uint64(0) // exact, as the float sum was
 			for _, v := range ink.Pix[y*ink.Stride+x0 : y*ink.Stride+x1] {
-				prof[y] += float64(v)
+				s += uint64(v)
 			}
+			prof[y] = float64(s)
 		}
 		peaks := profilePeaks(prof, max(4, h/25))
 		for i, b := range peaks {
@@ -126,14 +122,7 @@ func profilePeaks(prof []float64, sep int) []int {
 // orientationScores exposes the two cues for tests: the log ratio of row
 // to column band contrast and the upward skew.
 func orientationScores(ink *image.Gray) (band, up float64) {
-	w, h := ink.Rect.Dx(), ink.Rect.Dy()
-	rows, cols := make([]float64, h), make([]float64, w)
-	for y := 0; y < h; y++ {
-		for x, v := range ink.Pix[y*ink.Stride : y*ink.Stride+w] {
-			rows[y] += float64(v)
-			cols[x] += float64(v)
-		}
-	}
+	rows, cols := inkProfiles(ink)
 	return emptyFraction(rows) - emptyFraction(cols), upwardSkew(ink)
 }
 
@@ -237,4 +226,25 @@ func orientationInk(wInk *image.Gray, toWork Homography, cw, ch int) *image.Gray
 		}
 	}
 	return ci
+}
+
+// inkProfiles returns the ink's row and column sums, added as integers
+// and converted once (the float sums of these integers, all below 2^53,
+// are exact, so the values are those of adding floats).
+func inkProfiles(ink *image.Gray) (rows, cols []float64) {
+	w, h := ink.Rect.Dx(), ink.Rect.Dy()
+	rows, cols = make([]float64, h), make([]float64, w)
+	icols := make([]uint64, w)
+	for y := 0; y < h; y++ {
+		s := uint64(0)
+		for x, v := range ink.Pix[y*ink.Stride : y*ink.Stride+w] {
+			s += uint64(v)
+			icols[x] += uint64(v)
+		}
+		rows[y] = float64(s)
+	}
+	for x, v := range icols {
+		cols[x] = float64(v)
+	}
+	return rows, cols
 }
