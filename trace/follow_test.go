@@ -337,6 +337,31 @@ func TestFollowRuledLineOnTrace(t *testing.T) {
 	}
 }
 
+// TestFollowOwnApexBesideNeighbourStroke: a narrow R wave rises 60 mm
+// from the trace while the next row's R wave, printed in the same columns
+// a pixel later, rises from 59 mm below into this row, its apex 18 mm
+// above this row's baseline (a 3 × 4 page at 20 mm/mV with R waves of
+// 3–4 mV). In those columns the neighbour's stroke is the tallest run and
+// holds this row's baseline; the path must still climb its own stroke to
+// its apex, not pass through the neighbour's (maxInkRewardMM: with the
+// ink reward paid for the full 60 mm of the neighbour's runs it read
+// 10 mm of the 60).
+func TestFollowOwnApexBesideNeighbourStroke(t *testing.T) {
+	m := image.NewGray(image.Rect(0, 0, 200, 1300))
+	const base, apex = 650.0, 50.0
+	stroke(m, gaussWave(base, base-apex, 95, 2.2), 2)
+	stroke(m, gaussWave(1240, 1240-(base-180), 96, 2.2), 2)
+	pr := followMask(m, base)
+	if y := minY(pr.points, 88, 104); y > apex+20 {
+		t.Errorf("apex read at y = %.0f px, drawn at %.0f px (%.1f of %.1f mm)", y, apex, (base-y)/10, (base-apex)/10)
+	}
+	for _, x := range []float64{40, 150} {
+		if y, ok := yAt(pr.points, x); !ok || math.Abs(y-base) > 1 {
+			t.Errorf("x = %.0f: y = %.1f, want the trace at %.0f", x, y, base)
+		}
+	}
+}
+
 // gaussWave is a 200 px trace at y = base with a Gaussian wave of height h
 // px (upwards) centred at x = xc, σ = sigma px, sampled every 0.25 px.
 func gaussWave(base, h, xc, sigma float64) []Point {
