@@ -216,7 +216,7 @@ const orientUpColour = 180
 func orientationInk(wInk *image.Gray, toWork Homography, cw, ch int) *image.Gray {
 	ci := image.NewGray(image.Rect(0, 0, cw, ch))
 	if toWork != identity {
-		warpGray(ci, wInk, toWork, 0)
+		warpGrayAffine(ci, wInk, toWork)
 	} else {
 		copy(ci.Pix, wInk.Pix)
 	}
@@ -247,4 +247,39 @@ func inkProfiles(ink *image.Gray) (rows, cols []float64) {
 		cols[x] = float64(v)
 	}
 	return rows, cols
+}
+
+// warpGrayAffine is warpGray(dst, src, toSrc, 0), the same bytes, with
+// the projective division left out when toSrc is affine (its last row 0
+// 0 1: the divisor is exactly 1, and dividing by 1 changes nothing).
+func warpGrayAffine(dst, src *image.Gray, toSrc Homography) {
+	if toSrc[6] != 0 || toSrc[7] != 0 || toSrc[8] != 1 {
+		warpGray(dst, src, toSrc, 0)
+		return
+	}
+	h := toSrc
+	dw, dh := dst.Rect.Dx(), dst.Rect.Dy()
+	sw, sh := src.Rect.Dx(), src.Rect.Dy()
+	maxX, maxY := float64(sw-1), float64(sh-1)
+	for y := 0; y < dh; y++ {
+		d := dst.Pix[y*dst.Stride : y*dst.Stride+dw]
+		fy := float64(y)
+		by, ey := h[1]*fy, h[4]*fy
+		for x := range d {
+			fx := float64(x)
+			// Apply's sums, in its order.
+			sx, sy := h[0]*fx+by+h[2], h[3]*fx+ey+h[5]
+			if !(sx >= 0 && sy >= 0 && sx <= maxX && sy <= maxY) {
+				d[x] = 0
+				continue
+			}
+			x0, y0 := int(sx), int(sy)
+			ax, ay := sx-float64(x0), sy-float64(y0)
+			x1, y1 := min(x0+1, sw-1), min(y0+1, sh-1)
+			r0 := src.Pix[y0*src.Stride:]
+			r1 := src.Pix[y1*src.Stride:]
+			v := (1-ay)*((1-ax)*float64(r0[x0])+ax*float64(r0[x1])) + ay*((1-ax)*float64(r1[x0])+ax*float64(r1[x1]))
+			d[x] = uint8(v + 0.5)
+		}
+	}
 }
