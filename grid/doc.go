@@ -27,6 +27,13 @@
 //     image metadata, else the pulse height assuming 10 mm/mV and square
 //     pixels, each with a warning; with none of these Detect returns
 //     ErrNoGrid (an ecg.ErrNoECG).
+//   - speed: the full-page passes (profiles, the pulse search's vertical
+//     runs, the row-end ink counts) read eight pixels as one 64-bit word
+//     and add them in 8- or 16-bit lanes, emptied before they overflow;
+//     a word with no byte at or above a threshold (≤ 128) is recognised
+//     by adding 128 − threshold to its low seven bits (SIMD within a
+//     register, common practice). The sums are the exact integers of the
+//     pixel-by-pixel loops (colsum_test.go).
 //
 // Evaluate scores a page against the truth geometry of a rendered page
 // (render.Truth's paper-to-image homography): skew left, px/mm error,
