@@ -125,3 +125,70 @@ func BenchmarkUprightA4JPEG(b *testing.B) {
 		})
 	}
 }
+
+// BenchmarkPairKernels times the pair path's two kernels on rows of the
+// JPEG-decoded A4 scan of BenchmarkUprightA4JPEG: "fill" separates one
+// input row from the Y′CbCr planes (fillYCbCr), "sample" samples one
+// upright row turned 0.7° from a window of separated rows (samplePairRow).
+// CPU time per row; divide by ≈ 3800 for the cost per pixel.
+func BenchmarkPairKernels(b *testing.B) {
+	pg, err := render.CorpusPage(7, "scan", 0)
+	if err != nil {
+		b.Fatal(err)
+	}
+	var buf bytes.Buffer
+	if err := jpeg.Encode(&buf, pg.Image, &jpeg.Options{Quality: 90}); err != nil {
+		b.Fatal(err)
+	}
+	img, err := jpeg.Decode(&buf)
+	if err != nil {
+		b.Fatal(err)
+	}
+	src := newSource(img)
+	f := max(1, (max(src.w, src.h)+workSide-1)/workSide)
+	work := downscaleSource(src, f)
+	bgw := estimateBackground(work, blockSize(work), 1)
+	sep := analyseColour(normalise(work, bgw), paperMask(bgw), blockSize(work))
+	s := float64(f)
+	fullToWork := Homography{1 / s, 0, -(s - 1) / (2 * s), 0, 1 / s, -(s - 1) / (2 * s), 0, 0, 1}
+	bgSrc := bgw.resample(fullToWork, src.w, src.h, 29*f)
+	fx := sep.fixed()
+	ps := newPairSource(src, &fx, bgSrc)
+	y0 := src.h / 2
+	b.Run("fill", func(b *testing.B) {
+		d := make([]int16, 2*src.w)
+		cpuDone := cputime.Report(b)
+		y := y0
+		for b.Loop() {
+			ps.fillYCbCr(d, y)
+			y = y0 + (y-y0+1)%64
+		}
+		cpuDone()
+	})
+	b.Run("sample", func(b *testing.B) {
+		hm, w, _ := rotation(0.7*math.Pi/180, src.w, src.h)
+		span := windowSpan(hm, w, src.h)
+		win := newWindow(ps.filler(), 2*src.w, src.h, span+72)
+		stepX, stepY := toFix32(hm[0]), toFix32(hm[3])
+		a, c := make([]uint8, w), make([]uint8, w)
+		paper := fx.paperPair()
+		rows := make([][3]int64, 64)
+		for k := range rows {
+			sx, sy := rowStart(hm, src.h/2+k)
+			rows[k] = [3]int64{sx, sy, 0}
+		}
+		r0, r1 := math.MaxInt, 0
+		for _, r := range rows {
+			r0 = min(r0, int(min(r[1], r[1]+int64(w-1)*stepY)>>32))
+			r1 = max(r1, int(max(r[1], r[1]+int64(w-1)*stepY)>>32)+1)
+		}
+		sp, ss, lo := win.cover(r0, r1)
+		cpuDone := cputime.Report(b)
+		k := 0
+		for b.Loop() {
+			samplePairRow(a, c, sp, ss, src.w, src.h, lo, rows[k][0], rows[k][1], stepX, stepY, paper)
+			k = (k + 1) % 64
+		}
+		cpuDone()
+	})
+}
