@@ -130,7 +130,7 @@ func samplePairRow(a, b []uint8, sp []int16, ss, sw, sh, lo int, sx, sy, stepX, 
 		for k, o := range [2][]uint8{a, b} {
 			t0 := pick(x0, y0, k)<<8 + ax*(pick(x0+1, y0, k)-pick(x0, y0, k))
 			t1 := pick(x0, y0+1, k)<<8 + ax*(pick(x0+1, y0+1, k)-pick(x0, y0+1, k))
-			o[x] = sat8((t0<<8+ay*(t1-t0)+32768)>>16)
+			o[x] = sat8((t0<<8 + ay*(t1-t0) + 32768) >> 16)
 		}
 	}
 	for x := 0; x < xa; x++ {
@@ -160,10 +160,10 @@ func samplePairs(a, b []uint8, sp []int16, ss int, sx, sy, stepX, stepY int64) {
 		c1 := sp[i+ss : i+ss+4 : i+ss+4]
 		t0 := int32(c0[0])<<8 + ax*(int32(c0[2])-int32(c0[0]))
 		t1 := int32(c1[0])<<8 + ax*(int32(c1[2])-int32(c1[0]))
-		a[x] = clip8((t0<<8+ay*(t1-t0)+32768)>>16)
+		a[x] = clip8((t0<<8 + ay*(t1-t0) + 32768) >> 16)
 		u0 := int32(c0[1])<<8 + ax*(int32(c0[3])-int32(c0[1]))
 		u1 := int32(c1[1])<<8 + ax*(int32(c1[3])-int32(c1[1]))
-		b[x] = clip8((u0<<8+ay*(u1-u0)+32768)>>16)
+		b[x] = clip8((u0<<8 + ay*(u1-u0) + 32768) >> 16)
 	}
 }
 
