@@ -1,6 +1,7 @@
 package trace
 
 import (
+	"encoding/binary"
 	"image"
 	"math"
 	"slices"
@@ -32,12 +33,17 @@ type columnRuns struct {
 	runs []run
 	off  []int32 // runs of column c are runs[off[c]:off[c+1]]
 	// scratch
-	open  []int32
-	acc   []run
-	count []int32
+	open   []int32
+	openIn []int32 // open runs per eight columns
+	acc    []run
+	count  []int32
 }
 
-// scan collects the ink runs of ink inside r, reusing buffers.
+// scan collects the ink runs of ink inside r, reusing buffers. Most of
+// an ink map is empty: eight columns are skipped at once where none of
+// them holds an open run and the word of their pixels has no byte at or
+// above inkThreshold (the test of "Bit Twiddling Hacks", S. E. Anderson,
+// Stanford, "determine if a word has a byte greater than n"; from memory).
 func (cr *columnRuns) scan(ink *image.Gray, r image.Rectangle) {
 	r = r.Intersect(ink.Rect)
 	w := r.Dx()
@@ -48,24 +54,39 @@ func (cr *columnRuns) scan(ink *image.Gray, r image.Rectangle) {
 	for i := range cr.open[:w] {
 		cr.open[i] = -1
 	}
+	cr.openIn = grow(cr.openIn, (w+7)/8)
+	clear(cr.openIn[:(w+7)/8])
+	const lo7 = 0x0101010101010101 * (127 - (inkThreshold - 1)) // bytes ≥ inkThreshold reach 128
+	const hi = 0x8080808080808080
 	cols := make([]int32, 0, 256)
 	for y := r.Min.Y; y < r.Max.Y; y++ {
-		row := ink.Pix[(y-ink.Rect.Min.Y)*ink.Stride+(r.Min.X-ink.Rect.Min.X):]
-		for i := 0; i < w; i++ {
-			v := row[i]
-			if v >= inkThreshold {
-				if cr.open[i] < 0 {
-					cr.open[i] = int32(y)
-					cr.acc[i] = run{top: int32(y)}
+		o := (y-ink.Rect.Min.Y)*ink.Stride + (r.Min.X - ink.Rect.Min.X)
+		row := ink.Pix[o : o+w]
+		for i0 := 0; i0 < w; i0 += 8 {
+			i1 := min(w, i0+8)
+			if i1-i0 == 8 && cr.openIn[i0>>3] == 0 {
+				if v := binary.LittleEndian.Uint64(row[i0:i1]); (v+lo7|v)&hi == 0 {
+					continue
 				}
-				a := &cr.acc[i]
-				a.bot = int32(y)
-				a.w += float32(v)
-				a.wy += float32(v) * float32(y)
-			} else if cr.open[i] >= 0 {
-				cr.open[i] = -1
-				cr.runs = append(cr.runs, cr.acc[i])
-				cols = append(cols, int32(i))
+			}
+			for i := i0; i < i1; i++ {
+				v := row[i]
+				if v >= inkThreshold {
+					if cr.open[i] < 0 {
+						cr.open[i] = int32(y)
+						cr.openIn[i>>3]++
+						cr.acc[i] = run{top: int32(y)}
+					}
+					a := &cr.acc[i]
+					a.bot = int32(y)
+					a.w += float32(v)
+					a.wy += float32(v) * float32(y)
+				} else if cr.open[i] >= 0 {
+					cr.open[i] = -1
+					cr.openIn[i>>3]--
+					cr.runs = append(cr.runs, cr.acc[i])
+					cols = append(cols, int32(i))
+				}
 			}
 		}
 	}
