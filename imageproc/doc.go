@@ -60,11 +60,15 @@
 //     between them), kept in Page.Mesh; Page.SourcePoint maps upright px
 //     to input px through it;
 //   - one bilinear resampling of the full-resolution page through the
-//     composed homography (upright px → input px), kept in Page.ToSource,
-//     separated into the ink, grid and luminance maps in the same loop.
-//     The upright colour page itself is not kept (only pictures for
-//     people read it): Page.Upright resamples it on demand, with the same
-//     bytes.
+//     composed homography (upright px → input px), kept in Page.ToSource.
+//     A deskewed colour page is separated first, row by row in the
+//     input's frame, into the linear parts of its ink and grid maps
+//     (JPEG rows straight from the Y′CbCr planes), which are resampled
+//     and clipped in the upright frame; grey pages and photos are
+//     resampled first and separated in the same loop, keeping the
+//     luminance their structural split and lattice read. The upright
+//     colour page itself is not kept (only pictures for people read it):
+//     Page.Upright resamples it on demand, with the same bytes.
 //
 // Estimation runs on downscaled copies (at most about 1024 px on the long
 // side); only the work copy's block means and the final resampling and
