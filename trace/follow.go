@@ -214,6 +214,29 @@ func strokeTravel(states []state, q *state, out, travW float32) float32 {
 // 10 and 15 mm scored lower (12.5, 12.2, 12.8 dB), 25–40 mm gained less.
 const maxInkRewardMM = 20
 
+// Where the overlap pages' QRS error comes from, and what did not help
+// (overlap corpus, 21 pages, trace following on cached front-end maps;
+// medians before each change 12.9 dB). Of the squared amplitude the paths
+// missed at QRS apexes, 85 % was at apexes beyond the Pass-1 band (12 × 1:
+// 1.5 row pitches ≈ 1.3 mV; 3 × 4 column 4: the 3 mV reach, R waves of
+// 3.7–4 mV), 9 % where the ink between path and apex is broken and 6 %
+// where a run reaches the apex but the path stopped inside it.
+//   - Reach 3.5–4.5 mV instead of 3 (the pen width still measured on the
+//     3 mV band; measured on the wider one, the bounds of pathPoints moved
+//     and 3x4 seed 3 II, V3, V6 lost 5–7 dB): 3x4 seed 1 V4 3.4 → 13.5 dB,
+//     V5 13.5 → 15.3, but 3x4+1 V4–V6 lost 1.5–5 dB (their bands already
+//     pass the row above's baseline); median 12.7–12.2 dB.
+//   - Re-following a panel whose path runs along its band's reach-capped
+//     edge in a band 0.5–1 mV taller, spliced in around those columns:
+//     6 up, 6 down, median 12.7 dB, one more swap.
+//   - No ink reward for a run the path enters more than 0.5–2 mm from both
+//     ends (a stroke passed through): 3x4 seed 3 V4 3.0 → 13.2 dB, but the
+//     row below then ran through its neighbour's strokes (6x2 V3 −6 dB);
+//     54 up, 28 down, median 12.9 dB.
+//   - basePerMM 0.006 or 0.015 and inkReward 0.04–0.07 with the travel
+//     reward: 0.1–0.7 dB lower; the pen width from the runs within half a
+//     row pitch of the baseline: 11.9 dB.
+
 // farThinCost is followParams.farCost.
 const farThinCost = 0.2
 
