@@ -208,6 +208,10 @@ func Extract(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse, opt *Op
 		if ri == len(rows)-1 {
 			down = math.Max(down, reach)
 		}
+		// The pen width is measured on that band; the path may reach
+		// further where the neighbouring row is far (reachPast).
+		penUp, penDown := up, down
+		up, down = reachPast(rows, ri, up, down, cal.GainMMPerMV.V*cal.PxPerMMY.V)
 		spanPx := lr.RowSeconds() * cal.SpeedMMPerS.V * pxX
 		measured := float64(r.x1) - r.traceX0
 		if spanPx > 0 && math.Abs(measured-spanPx) > 0.12*spanPx && measured > 0 {
@@ -234,7 +238,7 @@ func Extract(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse, opt *Op
 			x0, x1 := int(math.Round(xc)), int(math.Round(xc+w))
 			xc += w
 			bounds := image.Rect(x0, int(r.baseY-up), x1, int(r.baseY+down)).Intersect(ink.Rect)
-			j := panelJob{bounds: bounds, base: base, upLim: upLim, downLim: downLim, maxLen: maxExcursionS * cal.SpeedMMPerS.V * pxX}
+			j := panelJob{bounds: bounds, base: base, upLim: upLim, downLim: downLim, maxLen: maxExcursionS * cal.SpeedMMPerS.V * pxX, penY0: int(r.baseY - penUp), penY1: int(r.baseY + penDown)}
 			if !bounds.Empty() {
 				cr.scan(ink, bounds)
 				j.follow(&cr, cal.PxPerMMY.V)

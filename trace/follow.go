@@ -153,6 +153,9 @@ type followParams struct {
 	// or farDown px below the baseline costs farCost more per column: it is
 	// a neighbouring row's trace (0 or +Inf: no limit).
 	farUp, farDown, farCost float64
+	// penY0 and penY1 bound the rows, px, whose runs give the pen width
+	// (runs cut to [penY0, penY1)); penY1 ≤ penY0: all rows.
+	penY0, penY1 int
 }
 
 // defaultFollow gives the path finder's parameters. The gap cost is
@@ -221,11 +224,12 @@ const maxInkRewardMM = 20
 // 1.5 row pitches ≈ 1.3 mV; 3 × 4 column 4: the 3 mV reach, R waves of
 // 3.7–4 mV), 9 % where the ink between path and apex is broken and 6 %
 // where a run reaches the apex but the path stopped inside it.
-//   - Reach 3.5–4.5 mV instead of 3 (the pen width still measured on the
-//     3 mV band; measured on the wider one, the bounds of pathPoints moved
-//     and 3x4 seed 3 II, V3, V6 lost 5–7 dB): 3x4 seed 1 V4 3.4 → 13.5 dB,
-//     V5 13.5 → 15.3, but 3x4+1 V4–V6 lost 1.5–5 dB (their bands already
-//     pass the row above's baseline); median 12.7–12.2 dB.
+//   - Reach 3.5–4.5 mV instead of 3 everywhere (the pen width still
+//     measured on the 3 mV band; measured on the wider one, the bounds of
+//     pathPoints moved and 3x4 seed 3 II, V3, V6 lost 5–7 dB): 3x4 seed 1
+//     V4 3.4 → 13.5 dB, V5 13.5 → 15.3, but 3x4+1 V4–V6 lost 1.5–5 dB
+//     (their bands already pass the row above's baseline); median
+//     12.7–12.2 dB. Kept: reachPast, up to 0.6 mV past the neighbour.
 //   - Re-following a panel whose path runs along its band's reach-capped
 //     edge in a band 0.5–1 mV taller, spliced in around those columns:
 //     6 up, 6 down, median 12.7 dB, one more swap.
@@ -275,6 +279,9 @@ func follow(cr *columnRuns, p followParams) pathResult {
 		return res
 	}
 	pen := penWidth(cr)
+	if p.penY1 > p.penY0 {
+		pen = penWidthIn(cr, p.penY0, p.penY1)
+	}
 	res.penPx = pen
 	jumpW := 1 / p.pxPerMM // cost per px of jump
 	thinFar := 1.6*pen + 1
@@ -746,4 +753,30 @@ func lineNotStroke(cr *columnRuns, c int, ru run, pen float64) bool {
 		return float64(n)
 	}
 	return cover(c-2) < 0.5*h && cover(c+2) < 0.5*h
+}
+
+// penWidthIn is penWidth over the runs of cr cut to the rows [y0, y1), as
+// scanning only those rows would give them.
+func penWidthIn(cr *columnRuns, y0, y1 int) float64 {
+	var hist [64]int
+	n := 0
+	for _, r := range cr.runs {
+		t, b := max(int(r.top), y0), min(int(r.bot), y1-1)
+		if t > b {
+			continue
+		}
+		hist[min(b-t+1, len(hist)-1)]++
+		n++
+	}
+	if n == 0 {
+		return 1
+	}
+	k, acc := n/2, 0
+	for h, c := range hist {
+		acc += c
+		if acc > k {
+			return float64(max(h, 1))
+		}
+	}
+	return 1
 }

@@ -17,6 +17,9 @@ type panelJob struct {
 	// re-following with a neighbour's ink removed.
 	runs []run
 	off  []int32
+	// penY0, penY1: the rows, px, whose runs the pen width is measured on
+	// (penY1 ≤ penY0: the whole band).
+	penY0, penY1 int
 }
 
 // keepRuns keeps a copy of the runs of cr (scanned from the job's band).
@@ -30,6 +33,7 @@ func (j *panelJob) keepRuns(cr *columnRuns) {
 func (j *panelJob) follow(cr *columnRuns, pxY float64) {
 	fp := defaultFollow(pxY, j.base)
 	fp.farUp, fp.farDown = j.upLim, j.downLim
+	fp.penY0, fp.penY1 = j.penY0, j.penY1
 	j.pr = follow(cr, fp)
 	j.pr.points, j.pr.onInk = dropExcursions(j.pr.points, j.pr.onInk, j.base, j.upLim, j.downLim, j.maxLen)
 }
