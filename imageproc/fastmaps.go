@@ -246,8 +246,8 @@ func rowInput(src *source, win *rowWindow[uint8], sy0, sy1 int64) (sp []uint8, s
 
 // downscaleSource is downscale for any source: rows are converted one at
 // a time (the same bytes as downscaling the converted input), except that
-// 4:2:0 and 4:2:2 Y′CbCr input with an even f is converted once per
-// chroma sample (downscaleYCbCr, table-driven: the same bytes).
+// 4:2:0 and 4:2:2 Y′CbCr input is converted from tables, a chroma
+// sample's terms shared by its pixels (downscaleYCbCr: the same bytes).
 func downscaleSource(src *source, f int) *image.NRGBA {
 	if src.rgb != nil {
 		return downscale(src.rgb, f)
@@ -255,7 +255,7 @@ func downscaleSource(src *source, f int) *image.NRGBA {
 	if f < 1 {
 		f = 1
 	}
-	if src.ycc != nil && src.hs == 1 && f%2 == 0 {
+	if src.ycc != nil && src.hs == 1 {
 		return downscaleYCbCr(src.ycc, f)
 	}
 	sw, sh := src.w, src.h

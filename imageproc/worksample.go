@@ -36,10 +36,14 @@ func downscaleYCbCr(m *image.YCbCr, f int) *image.NRGBA {
 			end := min(sh, oy*f+f)
 			for y := oy * f; y < end; {
 				rows := 1
-				if pairs && y+1 < end {
+				if pairs && y%2 == 0 && y+1 < end {
 					rows = 2
 				}
-				t.accumulate(acc, cnt, m, y, rows, f)
+				if f%2 == 0 {
+					t.accumulate(acc, cnt, m, y, rows, f)
+				} else {
+					t.accumulateOdd(acc, cnt, m, y, rows, f)
+				}
 				y += rows
 			}
 			finishRow(dst.Pix[oy*dst.Stride:oy*dst.Stride+4*w], acc, cnt)
@@ -180,4 +184,42 @@ func (t *yccTables) blocks4(acc, cnt []uint32, ya, yb, cbr, crr []uint8) int {
 		cnt[ox] += 8
 	}
 	return n
+}
+
+// accumulateOdd is accumulate for an odd block width f, whose blocks
+// start on odd columns too (a chroma sample may straddle two blocks):
+// column by column, the chroma terms computed once for the column's one
+// or two rows.
+func (t *yccTables) accumulateOdd(acc, cnt []uint32, m *image.YCbCr, y, rows, f int) {
+	sw := m.Rect.Dx()
+	ya := m.Y[y*m.YStride : y*m.YStride+sw]
+	yb := m.Y[(y+rows-1)*m.YStride : (y+rows-1)*m.YStride+sw]
+	c0 := m.COffset(0, y)
+	cbr, crr := m.Cb[c0:c0+(sw+1)/2], m.Cr[c0:c0+(sw+1)/2]
+	for ox := range cnt {
+		x0, x1 := ox*f, min(sw, ox*f+f)
+		var sr, sg, sb uint32
+		for x := x0; x < x1; x++ {
+			cb, cr := cbr[x>>1], crr[x>>1]
+			cbj, crj := uint16(cb)<<8, uint16(cr)<<8
+			_, kg, _ := chromaTerms(cb, cr)
+			q := kg>>16 + greenOff + 1
+			thr := (65536 - kg&0xffff + 256) / 257
+			v := ya[x]
+			sr += uint32(t.red[crj|uint16(v)])
+			sb += uint32(t.blue[cbj|uint16(v)])
+			sg += uint32(t.clampG[(int32(v)+q+(int32(v)-thr)>>31)&1023])
+			if rows == 2 {
+				v = yb[x]
+				sr += uint32(t.red[crj|uint16(v)])
+				sb += uint32(t.blue[cbj|uint16(v)])
+				sg += uint32(t.clampG[(int32(v)+q+(int32(v)-thr)>>31)&1023])
+			}
+		}
+		d := acc[4*ox : 4*ox+3 : 4*ox+3]
+		d[0] += sr
+		d[1] += sg
+		d[2] += sb
+		cnt[ox] += uint32(rows * (x1 - x0))
+	}
 }

@@ -64,7 +64,7 @@ func TestWorkCopyA4PageExact(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	for _, f := range []int{2, 4} {
+	for _, f := range []int{2, 4, 7} {
 		got, want := downscaleSource(newSource(m), f), downscale(toNRGBA(m), f)
 		if !bytes.Equal(got.Pix, want.Pix) {
 			t.Errorf("f=%d: work copy differs from the box means of the converted page", f)
@@ -93,4 +93,22 @@ func TestYCCTables(t *testing.T) {
 			}
 		}
 	}
+}
+
+// BenchmarkWorkCopyA4JPEGOdd is BenchmarkWorkCopyA4JPEG with the block
+// width 7 that a 600-dpi A4 page gets (blocks on odd columns: the
+// column-by-column path).
+func BenchmarkWorkCopyA4JPEGOdd(b *testing.B) {
+	m, err := a4JPEG()
+	if err != nil {
+		b.Fatal(err)
+	}
+	src := newSource(m)
+	b.ReportAllocs()
+	b.ResetTimer()
+	cpuDone := cputime.Report(b)
+	for b.Loop() {
+		downscaleSource(src, 7)
+	}
+	cpuDone()
 }
