@@ -419,10 +419,12 @@ func findPulse(ink *image.Gray, r *rowInfo, cal grid.Calibration) {
 		return
 	}
 	flat := 0
+	var thick []float64 // the flat top's stroke heights: the pen width
 	for c := rise + int(pxX); c < fall-int(pxX); c++ {
 		for _, ru := range cr.col(c) {
 			if math.Abs(ru.centre()-top) < 1.5*pxY && float64(ru.bot-ru.top) < 1.5*pxY {
 				flat++
+				thick = append(thick, float64(ru.bot-ru.top+1))
 				break
 			}
 		}
@@ -436,7 +438,12 @@ func findPulse(ink *image.Gray, r *rowInfo, cal grid.Calibration) {
 		}
 		fall++
 	}
-	pen := penWidth(&cr)
+	// The pen width from the pulse's own flat top: the band's runs also
+	// hold other rows' strokes where complexes reach into it, and a
+	// width read from them (12–14 px for a 5 px pen on a page of
+	// overlapping rows) moved the trace start by 0.4 mm (16 ms).
+	sort.Float64s(thick)
+	pen := thick[len(thick)/2]
 	r.hasPulse = true
 	r.zeroY = foot - (pen-1)/2
 	r.pulseMM = (foot - top - (pen - 1)) / pxY
