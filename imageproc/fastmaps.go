@@ -247,7 +247,8 @@ func rowInput(src *source, win *rowWindow[uint8], sy0, sy1 int64) (sp []uint8, s
 // downscaleSource is downscale for any source: rows are converted one at
 // a time (the same bytes as downscaling the converted input), except that
 // 4:2:0 and 4:2:2 Y′CbCr input is converted from tables, a chroma
-// sample's terms shared by its pixels (downscaleYCbCr: the same bytes).
+// sample's terms shared by its pixels (downscaleYCbCr), and grey input is
+// averaged as one channel (downscaleGrayNRGBA): the same bytes.
 func downscaleSource(src *source, f int) *image.NRGBA {
 	if src.rgb != nil {
 		return downscale(src.rgb, f)
@@ -257,6 +258,9 @@ func downscaleSource(src *source, f int) *image.NRGBA {
 	}
 	if src.ycc != nil && src.hs == 1 {
 		return downscaleYCbCr(src.ycc, f)
+	}
+	if src.gray != nil {
+		return downscaleGrayNRGBA(src.gray, f)
 	}
 	sw, sh := src.w, src.h
 	w, h := (sw+f-1)/f, (sh+f-1)/f

@@ -226,3 +226,38 @@ func (t *yccTables) accumulateOdd(acc, cnt []uint32, m *image.YCbCr, y, rows, f 
 		cnt[ox] += uint32(rows * (x1 - x0))
 	}
 }
+
+// downscaleGrayNRGBA is downscaleSource for a grey input g (Rect.Min at
+// the origin): the rounded box means of the grey values as the three
+// channels, the bytes of downscaling g converted to NRGBA (each channel
+// of which is the grey value), without the 4-byte copy of each row.
+func downscaleGrayNRGBA(g *image.Gray, f int) *image.NRGBA {
+	sw, sh := g.Rect.Dx(), g.Rect.Dy()
+	w, h := (sw+f-1)/f, (sh+f-1)/f
+	dst := image.NewNRGBA(image.Rect(0, 0, w, h))
+	rowBands(h, func(o0, o1 int) {
+		acc := make([]uint32, w)
+		for oy := o0; oy < o1; oy++ {
+			clear(acc)
+			end := min(sh, oy*f+f)
+			for y := oy * f; y < end; y++ {
+				row := g.Pix[y*g.Stride : y*g.Stride+sw]
+				for ox := range acc {
+					s := uint32(0)
+					for _, v := range row[ox*f : min(sw, ox*f+f)] {
+						s += uint32(v)
+					}
+					acc[ox] += s
+				}
+			}
+			d := dst.Pix[oy*dst.Stride : oy*dst.Stride+4*w]
+			for ox, s := range acc {
+				n := uint32((min(sw, ox*f+f) - ox*f) * (end - oy*f))
+				v := uint8((s + n/2) / n)
+				o := d[4*ox : 4*ox+4 : 4*ox+4]
+				o[0], o[1], o[2], o[3] = v, v, v, 255
+			}
+		}
+	})
+	return dst
+}

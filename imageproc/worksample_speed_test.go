@@ -5,6 +5,7 @@ import (
 	"image"
 	"image/color"
 	"image/jpeg"
+	"math/rand/v2"
 	"sync"
 	"testing"
 
@@ -109,6 +110,46 @@ func BenchmarkWorkCopyA4JPEGOdd(b *testing.B) {
 	cpuDone := cputime.Report(b)
 	for b.Loop() {
 		downscaleSource(src, 7)
+	}
+	cpuDone()
+}
+
+// TestWorkCopyGreyExact: the work copy of a grey input has the bytes of
+// the box means of the input converted to NRGBA (odd sizes, partial
+// blocks, random pixels, block widths 1 to 7).
+func TestWorkCopyGreyExact(t *testing.T) {
+	rng := rand.New(rand.NewPCG(23, 23))
+	for _, sz := range [][2]int{{37, 23}, {64, 40}, {101, 9}, {5, 3}} {
+		g := image.NewGray(image.Rect(0, 0, sz[0], sz[1]))
+		for i := range g.Pix {
+			g.Pix[i] = uint8(rng.IntN(256))
+		}
+		for f := 1; f <= 7; f++ {
+			got, want := downscaleSource(newSource(g), f), downscale(toNRGBA(g), f)
+			if !bytes.Equal(got.Pix, want.Pix) || got.Rect != want.Rect {
+				t.Errorf("%d×%d f=%d: grey work copy differs from the box means of the converted input", sz[0], sz[1], f)
+			}
+		}
+	}
+}
+
+// BenchmarkWorkCopyA4Grey times the work copy of a grey 300-dpi A4 page
+// (corpus page 0 of seed 7, "gray" condition; CPU time per call).
+func BenchmarkWorkCopyA4Grey(b *testing.B) {
+	pg, err := render.CorpusPage(7, "gray", 0)
+	if err != nil {
+		b.Fatal(err)
+	}
+	src := newSource(pg.Image)
+	if src.gray == nil {
+		b.Fatalf("corpus grey page is %T", pg.Image)
+	}
+	f := (max(src.w, src.h) + workSide - 1) / workSide
+	b.ReportAllocs()
+	b.ResetTimer()
+	cpuDone := cputime.Report(b)
+	for b.Loop() {
+		downscaleSource(src, f)
 	}
 	cpuDone()
 }
