@@ -153,3 +153,55 @@ func BenchmarkWorkCopyA4Grey(b *testing.B) {
 	}
 	cpuDone()
 }
+
+// TestAccumulateRowExact: the word-at-a-time block sums of an NRGBA row
+// equal adding its bytes one by one (odd widths, partial blocks, block
+// widths up to above the lane limit, all-255 rows that fill the lanes).
+func TestAccumulateRowExact(t *testing.T) {
+	rng := rand.New(rand.NewPCG(29, 29))
+	for _, sw := range []int{1, 7, 64, 101, 1200} {
+		row := make([]uint8, 4*sw)
+		for trial := 0; trial < 2; trial++ {
+			for i := range row {
+				row[i] = 255
+				if trial == 1 {
+					row[i] = uint8(rng.IntN(256))
+				}
+			}
+			for _, f := range []int{1, 2, 3, 4, 7, 512, 513, 1100} {
+				w := (sw + f - 1) / f
+				acc, cnt := make([]uint32, 4*w), make([]uint32, w)
+				accumulateRow(acc, cnt, row, f, w, sw)
+				for ox := 0; ox < w; ox++ {
+					var want [3]uint32
+					for x := ox * f; x < min(sw, ox*f+f); x++ {
+						for c := range 3 {
+							want[c] += uint32(row[4*x+c])
+						}
+					}
+					if got := [3]uint32(acc[4*ox : 4*ox+3]); got != want || cnt[ox] != uint32(min(sw, ox*f+f)-ox*f) {
+						t.Fatalf("sw=%d f=%d block %d: sums %v count %d, want %v", sw, f, ox, got, cnt[ox], want)
+					}
+				}
+			}
+		}
+	}
+}
+
+// BenchmarkWorkCopyA4NRGBA times the work copy of the A4 scan as the
+// renderer returns it (NRGBA, as a PNG decodes; CPU time per call).
+func BenchmarkWorkCopyA4NRGBA(b *testing.B) {
+	pg, err := render.CorpusPage(7, "scan", 0)
+	if err != nil {
+		b.Fatal(err)
+	}
+	src := newSource(pg.Image)
+	f := (max(src.w, src.h) + workSide - 1) / workSide
+	b.ReportAllocs()
+	b.ResetTimer()
+	cpuDone := cputime.Report(b)
+	for b.Loop() {
+		downscaleSource(src, f)
+	}
+	cpuDone()
+}
