@@ -26,7 +26,11 @@ func BenchmarkPrepareA4(b *testing.B) {
 // BenchmarkPrepareA4JPEG is BenchmarkPrepareA4 on the same page stored as
 // a JPEG (quality 90) and decoded: Prepare reads the decoder's Y′CbCr
 // planes (4:2:0).
-func BenchmarkPrepareA4JPEG(b *testing.B) {
+func BenchmarkPrepareA4JPEG(b *testing.B) { benchPrepare(b, a4ScanJPEG(b)) }
+
+// a4ScanJPEG is BenchmarkPrepareA4's page stored as a JPEG (quality 90)
+// and decoded to Y′CbCr.
+func a4ScanJPEG(b *testing.B) image.Image {
 	pg, err := render.CorpusPage(7, "scan", 0)
 	if err != nil {
 		b.Fatal(err)
@@ -42,7 +46,7 @@ func BenchmarkPrepareA4JPEG(b *testing.B) {
 	if _, ok := img.(*image.YCbCr); !ok {
 		b.Fatalf("decoded %T", img)
 	}
-	benchPrepare(b, img)
+	return img
 }
 
 // benchPrepare times Prepare on img, reporting the CPU time per call

@@ -18,23 +18,7 @@ package imageproc
 // sp[(y−lo)·ss] (the rows the line crosses must be there).
 func (f *sepFixed) affineSepRow(col []uint8, g []uint32, gr, ir, dr []uint8, sp []uint8, ss, sw, sh, lo int, sx, sy, stepX, stepY int64) {
 	w := len(gr)
-	inside := func(sx, sy int64) bool {
-		return uint(sx>>32) < uint(sw-1) && uint(sy>>32) < uint(sh-1)
-	}
-	// [xa, xb): the run with all four neighbours inside.
-	xa := 0
-	for xa < w && !inside(sx+int64(xa)*stepX, sy+int64(xa)*stepY) {
-		xa++
-	}
-	xb := xa
-	if xa < w {
-		// The run ends where the line leaves the input; found from the
-		// far end, which is outside at most for the page's margin.
-		xb = w
-		for xb > xa && !inside(sx+int64(xb-1)*stepX, sy+int64(xb-1)*stepY) {
-			xb--
-		}
-	}
+	xa, xb := interiorRun(w, sw, sh, sx, sy, stepX, stepY)
 	if xa > 0 {
 		affineRowNRGBA(col[:4*xa], sp, ss, sw, sh, lo, sx, sy, stepX, stepY)
 		f.row(col[:4*xa], g[:3*xa], gr[:xa], ir[:xa], dr[:xa])
@@ -54,6 +38,29 @@ func (f *sepFixed) affineSepRow(col []uint8, g []uint32, gr, ir, dr []uint8, sp 
 		affineRowNRGBA(col[4*xb:4*w], sp, ss, sw, sh, lo, s0, s1, stepX, stepY)
 		f.row(col[4*xb:4*w], g[3*xb:3*w], gr[xb:w], ir[xb:w], dr[xb:w])
 	}
+}
+
+// interiorRun returns [xa, xb), the pixels of a w-pixel row whose source
+// point (starting at (sx, sy), advancing by (stepX, stepY) per pixel,
+// 32.32 fixed point) has its four bilinear neighbours inside the sw×sh
+// input. The point moves on a line, so they form one run; its end is
+// found from the far end, which is outside at most for the page's margin.
+func interiorRun(w, sw, sh int, sx, sy, stepX, stepY int64) (xa, xb int) {
+	inside := func(x int) bool {
+		px, py := sx+int64(x)*stepX, sy+int64(x)*stepY
+		return uint(px>>32) < uint(sw-1) && uint(py>>32) < uint(sh-1)
+	}
+	for xa < w && !inside(xa) {
+		xa++
+	}
+	xb = xa
+	if xa < w {
+		xb = w
+		for xb > xa && !inside(xb-1) {
+			xb--
+		}
+	}
+	return xa, xb
 }
 
 // sampleColour is the inner run of affineSepRow for a colour separator:

@@ -95,22 +95,7 @@ func (f *sepFixed) paperPair() [2]int16 {
 func samplePairRow(a, b []uint8, sp []int16, ss, sw, sh, lo int, sx, sy, stepX, stepY int64, paper [2]int16) {
 	w := len(a)
 	b = b[:w]
-	inside := func(sx, sy int64) bool {
-		return uint(sx>>32) < uint(sw-1) && uint(sy>>32) < uint(sh-1)
-	}
-	// [xa, xb): the run with all four neighbours inside (the source point
-	// moves on a line, so it is one run).
-	xa := 0
-	for xa < w && !inside(sx+int64(xa)*stepX, sy+int64(xa)*stepY) {
-		xa++
-	}
-	xb := xa
-	if xa < w {
-		xb = w
-		for xb > xa && !inside(sx+int64(xb-1)*stepX, sy+int64(xb-1)*stepY) {
-			xb--
-		}
-	}
+	xa, xb := interiorRun(w, sw, sh, sx, sy, stepX, stepY)
 	edge := func(x int) {
 		px, py := sx+int64(x)*stepX, sy+int64(x)*stepY
 		if !(px > -fixOne && py > -fixOne && px < int64(sw)<<32 && py < int64(sh)<<32) {

@@ -8,29 +8,41 @@ import (
 	"testing"
 
 	"tracelift/internal/cputime"
-	"tracelift/render"
 )
+
+// uprightSetup is what Prepare hands the upright pass for an input
+// deskewed by a given angle: the separator and backgrounds it would use.
+type uprightSetup struct {
+	src       *source
+	sep       *separator
+	toSrc     Homography
+	ow, oh    int
+	bg, bgSrc *background // upright frame, input frame
+}
+
+func setupUpright(img image.Image, deg float64) uprightSetup {
+	u := uprightSetup{src: newSource(img)}
+	f := max(1, (max(u.src.w, u.src.h)+workSide-1)/workSide)
+	work := downscaleSource(u.src, f)
+	bgw := estimateBackground(work, blockSize(work), 1)
+	u.sep = analyseColour(normalise(work, bgw), paperMask(bgw), blockSize(work))
+	u.toSrc, u.ow, u.oh = rotation(deg*math.Pi/180, u.src.w, u.src.h)
+	s := float64(f)
+	fullToWork := Homography{1 / s, 0, -(s - 1) / (2 * s), 0, 1 / s, -(s - 1) / (2 * s), 0, 0, 1}
+	ub := max(8, min(u.ow, u.oh)/f/24)
+	u.bg = bgw.resample(Mul(fullToWork, u.toSrc), u.ow, u.oh, ub*f)
+	u.bgSrc = bgw.resample(fullToWork, u.src.w, u.src.h, ub*f)
+	return u
+}
 
 // uprightBoth runs the upright pass of img deskewed by deg degrees both
 // ways — separated in the input's frame then resampled (the pair path),
-// and resampled then separated (the colour-first path) — with the
-// separator and backgrounds Prepare would use.
-func uprightBoth(t *testing.T, img image.Image, deg float64) (sep *separator, pair, ref [3]*image.Gray) {
-	t.Helper()
-	src := newSource(img)
-	f := max(1, (max(src.w, src.h)+workSide-1)/workSide)
-	work := downscaleSource(src, f)
-	bgw := estimateBackground(work, blockSize(work), 1)
-	sep = analyseColour(normalise(work, bgw), paperMask(bgw), blockSize(work))
-	toSrc, ow, oh := rotation(deg*math.Pi/180, src.w, src.h)
-	s := float64(f)
-	fullToWork := Homography{1 / s, 0, -(s - 1) / (2 * s), 0, 1 / s, -(s - 1) / (2 * s), 0, 0, 1}
-	ub := max(8, min(ow, oh)/f/24)
-	bg := bgw.resample(Mul(fullToWork, toSrc), ow, oh, ub*f)
-	bgSrc := bgw.resample(fullToWork, src.w, src.h, ub*f)
-	_, pair[0], pair[1], pair[2] = sep.upright(src, toSrc, ow, oh, bg, bgSrc, false)
-	_, ref[0], ref[1], ref[2] = sep.upright(newSource(img), toSrc, ow, oh, bg, nil, true)
-	return sep, pair, ref
+// and resampled then separated (the colour-first path).
+func uprightBoth(img image.Image, deg float64) (sep *separator, pair, ref [3]*image.Gray) {
+	u := setupUpright(img, deg)
+	_, pair[0], pair[1], pair[2] = u.sep.upright(u.src, u.toSrc, u.ow, u.oh, u.bg, u.bgSrc, false)
+	_, ref[0], ref[1], ref[2] = u.sep.upright(newSource(img), u.toSrc, u.ow, u.oh, u.bg, nil, true)
+	return u.sep, pair, ref
 }
 
 // TestPairPathNearColourPath: separating the input before resampling it
@@ -56,7 +68,7 @@ func TestPairPathNearColourPath(t *testing.T) {
 		name string
 		img  image.Image
 	}{{"NRGBA", nrgba}, {"Y′CbCr", ycc}} {
-		sep, pair, ref := uprightBoth(t, c.img, -2.7)
+		sep, pair, ref := uprightBoth(c.img, -2.7)
 		if !sep.colour {
 			t.Fatalf("%s: grey separator for a red-grid sheet", c.name)
 		}
@@ -88,38 +100,16 @@ func TestPairPathNearColourPath(t *testing.T) {
 // resamples the colours and separates each upright pixel (the path
 // photos keep). CPU time per page beside the wall time.
 func BenchmarkUprightA4JPEG(b *testing.B) {
-	pg, err := render.CorpusPage(7, "scan", 0)
-	if err != nil {
-		b.Fatal(err)
-	}
-	var buf bytes.Buffer
-	if err := jpeg.Encode(&buf, pg.Image, &jpeg.Options{Quality: 90}); err != nil {
-		b.Fatal(err)
-	}
-	img, err := jpeg.Decode(&buf)
-	if err != nil {
-		b.Fatal(err)
-	}
-	src := newSource(img)
-	f := max(1, (max(src.w, src.h)+workSide-1)/workSide)
-	work := downscaleSource(src, f)
-	bgw := estimateBackground(work, blockSize(work), 1)
-	sep := analyseColour(normalise(work, bgw), paperMask(bgw), blockSize(work))
-	toSrc, ow, oh := rotation(0.7*math.Pi/180, src.w, src.h)
-	s := float64(f)
-	fullToWork := Homography{1 / s, 0, -(s - 1) / (2 * s), 0, 1 / s, -(s - 1) / (2 * s), 0, 0, 1}
-	ub := max(8, min(ow, oh)/f/24)
-	bg := bgw.resample(Mul(fullToWork, toSrc), ow, oh, ub*f)
-	bgSrc := bgw.resample(fullToWork, src.w, src.h, ub*f)
+	u := setupUpright(a4ScanJPEG(b), 0.7)
 	for _, c := range []struct {
 		name string
 		bgs  *background
-	}{{"pairs", bgSrc}, {"colour", nil}} {
+	}{{"pairs", u.bgSrc}, {"colour", nil}} {
 		b.Run(c.name, func(b *testing.B) {
 			b.ReportAllocs()
 			cpuDone := cputime.Report(b)
 			for b.Loop() {
-				sep.upright(src, toSrc, ow, oh, bg, c.bgs, false)
+				u.sep.upright(u.src, u.toSrc, u.ow, u.oh, u.bg, c.bgs, false)
 			}
 			cpuDone()
 		})
@@ -132,28 +122,10 @@ func BenchmarkUprightA4JPEG(b *testing.B) {
 // upright row turned 0.7° from a window of separated rows (samplePairRow).
 // CPU time per row; divide by ≈ 3800 for the cost per pixel.
 func BenchmarkPairKernels(b *testing.B) {
-	pg, err := render.CorpusPage(7, "scan", 0)
-	if err != nil {
-		b.Fatal(err)
-	}
-	var buf bytes.Buffer
-	if err := jpeg.Encode(&buf, pg.Image, &jpeg.Options{Quality: 90}); err != nil {
-		b.Fatal(err)
-	}
-	img, err := jpeg.Decode(&buf)
-	if err != nil {
-		b.Fatal(err)
-	}
-	src := newSource(img)
-	f := max(1, (max(src.w, src.h)+workSide-1)/workSide)
-	work := downscaleSource(src, f)
-	bgw := estimateBackground(work, blockSize(work), 1)
-	sep := analyseColour(normalise(work, bgw), paperMask(bgw), blockSize(work))
-	s := float64(f)
-	fullToWork := Homography{1 / s, 0, -(s - 1) / (2 * s), 0, 1 / s, -(s - 1) / (2 * s), 0, 0, 1}
-	bgSrc := bgw.resample(fullToWork, src.w, src.h, 29*f)
-	fx := sep.fixed()
-	ps := newPairSource(src, &fx, bgSrc)
+	u := setupUpright(a4ScanJPEG(b), 0.7)
+	src := u.src
+	fx := u.sep.fixed()
+	ps := newPairSource(src, &fx, u.bgSrc)
 	y0 := src.h / 2
 	b.Run("fill", func(b *testing.B) {
 		d := make([]int16, 2*src.w)
@@ -166,7 +138,7 @@ func BenchmarkPairKernels(b *testing.B) {
 		cpuDone()
 	})
 	b.Run("sample", func(b *testing.B) {
-		hm, w, _ := rotation(0.7*math.Pi/180, src.w, src.h)
+		hm, w := u.toSrc, u.ow
 		span := windowSpan(hm, w, src.h)
 		win := newWindow(ps.filler(), 2*src.w, src.h, span+72)
 		stepX, stepY := toFix32(hm[0]), toFix32(hm[3])
