@@ -119,17 +119,19 @@
 // Where tall complexes of several rows cross (20 mm/mV pages, 12 × 1 on
 // A4) the strokes merge into one run per column and the path cannot tell
 // whose stroke it follows; those leads lose QRS amplitude or, on six-row
-// pages, swap strokes (the eval's overlap condition, n = 3, seed 1:
-// 12.5 dB median, p10 1.8 dB, all leads found, 8 swaps: 3x4+3 seeds 2/3
-// one/two, 12 × 1 seeds 1/2/3 one/one/three; by layout 12 × 1 3.2,
-// 3x4+3 5.7, 6x2 11.1, 3x4+1 13.3, 3x4 17.7, Cabrera 18.3 dB). On those
-// pages most swapped leads lose their QRS at every beat in the same way
-// (aVL reading −0.7 mV where its R wave is +1.3 mV), and on 3x4+3 and
+// and 12 × 1 pages, swap strokes (the eval's overlap condition, n = 3,
+// seed 1: 13.0 dB median, p10 2.3 dB, all leads found, 3 swaps: 3x4+3
+// seed 3 aVF, 12 × 1 seed 2 aVL and seed 3 aVR; by layout 12 × 1 3.4,
+// 3x4+3 6.4, 6x2 11.3, 3x4+1 13.5, 3x4 17.4, Cabrera 18.3 dB). Most of
+// the lost height is at apexes beyond the row's search band (two or three
+// row pitches away on 12 × 1 pages: a wider band was measured worse
+// overall, as the row then takes its neighbours' strokes); on 3x4+3 and
 // 12 × 1 pages three or more of the simultaneous limb leads are broken
-// at once (the second column of 3x4+3 seed 1 even breaks them
-// consistently, within 10 µV), so neither the limb identities nor the
-// beat-to-beat test of the withheld stretches can single them out. A row
-// missing at the top or bottom of the page is not detected as missing.
+// at once, so neither the limb identities nor the beat-to-beat test of
+// the withheld stretches can single them out. On synthetic pages the
+// tallest complexes of the top row can run off the sheet, where the
+// front end's paper mask drops them. A row missing at the top or bottom
+// of the page is not detected as missing.
 // Pages turned by a quarter turn are not traced (the front end turns them
 // upright). Detail finer than the pen width (high-frequency noise) is not
 // recoverable.
