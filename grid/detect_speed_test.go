@@ -1,28 +1,18 @@
 package grid
 
 import (
-	"bytes"
-	"image/jpeg"
 	"testing"
 
 	"tracelift/imageproc"
 	"tracelift/internal/cputime"
-	"tracelift/render"
+	"tracelift/internal/testpage"
 )
 
 // BenchmarkDetectA4JPEG times Detect alone on a prepared 300-dpi A4 scan
 // (corpus page 0 of seed 7, "scan", stored as a quality-90 JPEG as the
 // pipeline's end-to-end benchmark stores it); CPU time per call.
 func BenchmarkDetectA4JPEG(b *testing.B) {
-	pg, err := render.CorpusPage(7, "scan", 0)
-	if err != nil {
-		b.Fatal(err)
-	}
-	var buf bytes.Buffer
-	if err := jpeg.Encode(&buf, pg.Image, &jpeg.Options{Quality: 90}); err != nil {
-		b.Fatal(err)
-	}
-	img, err := jpeg.Decode(&buf)
+	img, err := testpage.A4ScanJPEG()
 	if err != nil {
 		b.Fatal(err)
 	}

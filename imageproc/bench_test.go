@@ -1,26 +1,23 @@
 package imageproc
 
 import (
-	"bytes"
 	"image"
-	"image/jpeg"
 	"math"
 	"math/rand/v2"
 	"testing"
 	"tracelift/internal/cputime"
-
-	"tracelift/render"
+	"tracelift/internal/testpage"
 )
 
 // BenchmarkPrepareA4 runs Prepare alone on a 300-dpi A4 page (3508×2480
 // px) of the "scan" condition (skewed colour scan). Project budget: about
 // 0.2–0.3 s per page on one core (≤ 3 × the decode time).
 func BenchmarkPrepareA4(b *testing.B) {
-	pg, err := render.CorpusPage(7, "scan", 0)
+	img, err := testpage.A4Scan()
 	if err != nil {
 		b.Fatal(err)
 	}
-	benchPrepare(b, pg.Image)
+	benchPrepare(b, img)
 }
 
 // BenchmarkPrepareA4JPEG is BenchmarkPrepareA4 on the same page stored as
@@ -29,22 +26,11 @@ func BenchmarkPrepareA4(b *testing.B) {
 func BenchmarkPrepareA4JPEG(b *testing.B) { benchPrepare(b, a4ScanJPEG(b)) }
 
 // a4ScanJPEG is BenchmarkPrepareA4's page stored as a JPEG (quality 90)
-// and decoded to Y′CbCr.
+// and decoded to Y′CbCr (testpage.A4ScanJPEG).
 func a4ScanJPEG(b *testing.B) image.Image {
-	pg, err := render.CorpusPage(7, "scan", 0)
+	img, err := testpage.A4ScanJPEG()
 	if err != nil {
 		b.Fatal(err)
-	}
-	var buf bytes.Buffer
-	if err := jpeg.Encode(&buf, pg.Image, &jpeg.Options{Quality: 90}); err != nil {
-		b.Fatal(err)
-	}
-	img, err := jpeg.Decode(&buf)
-	if err != nil {
-		b.Fatal(err)
-	}
-	if _, ok := img.(*image.YCbCr); !ok {
-		b.Fatalf("decoded %T", img)
 	}
 	return img
 }

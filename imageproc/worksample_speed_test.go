@@ -4,33 +4,17 @@ import (
 	"bytes"
 	"image"
 	"image/color"
-	"image/jpeg"
 	"math/rand/v2"
-	"sync"
 	"testing"
 
 	"tracelift/internal/cputime"
+	"tracelift/internal/testpage"
 	"tracelift/render"
 )
 
-// a4JPEG returns corpus page 0 (seed 7) of the "scan" condition, a
-// 300-dpi A4 colour scan, stored as a quality-90 JPEG and decoded
-// (4:2:0 Y′CbCr, as image/jpeg writes colour).
-var a4JPEG = sync.OnceValues(func() (*image.YCbCr, error) {
-	pg, err := render.CorpusPage(7, "scan", 0)
-	if err != nil {
-		return nil, err
-	}
-	var buf bytes.Buffer
-	if err := jpeg.Encode(&buf, pg.Image, &jpeg.Options{Quality: 90}); err != nil {
-		return nil, err
-	}
-	img, err := jpeg.Decode(&buf)
-	if err != nil {
-		return nil, err
-	}
-	return img.(*image.YCbCr), nil
-})
+// a4JPEG is testpage.A4ScanJPEG: the A4 scan stored as a quality-90 JPEG
+// and decoded.
+var a4JPEG = testpage.A4ScanJPEG
 
 // BenchmarkWorkCopyA4JPEG times the work copy (downscaleSource at the
 // factor Prepare uses, 4) of a decoded 300-dpi A4 JPEG; CPU time per call
@@ -191,11 +175,11 @@ func TestAccumulateRowExact(t *testing.T) {
 // BenchmarkWorkCopyA4NRGBA times the work copy of the A4 scan as the
 // renderer returns it (NRGBA, as a PNG decodes; CPU time per call).
 func BenchmarkWorkCopyA4NRGBA(b *testing.B) {
-	pg, err := render.CorpusPage(7, "scan", 0)
+	img, err := testpage.A4Scan()
 	if err != nil {
 		b.Fatal(err)
 	}
-	src := newSource(pg.Image)
+	src := newSource(img)
 	f := (max(src.w, src.h) + workSide - 1) / workSide
 	b.ReportAllocs()
 	b.ResetTimer()
