@@ -273,13 +273,7 @@ func warpGrayAffine(dst, src *image.Gray, toSrc Homography) {
 				d[x] = 0
 				continue
 			}
-			x0, y0 := int(sx), int(sy)
-			ax, ay := sx-float64(x0), sy-float64(y0)
-			x1, y1 := min(x0+1, sw-1), min(y0+1, sh-1)
-			r0 := src.Pix[y0*src.Stride:]
-			r1 := src.Pix[y1*src.Stride:]
-			v := (1-ay)*((1-ax)*float64(r0[x0])+ax*float64(r0[x1])) + ay*((1-ax)*float64(r1[x0])+ax*float64(r1[x1]))
-			d[x] = uint8(v + 0.5)
+			d[x] = grayAt(src, sx, sy)
 		}
 	}
 }

@@ -108,15 +108,21 @@ func warpGray(dst, src *image.Gray, toSrc Homography, fill uint8) {
 				d[x] = fill
 				continue
 			}
-			x0, y0 := int(sx), int(sy)
-			ax, ay := sx-float64(x0), sy-float64(y0)
-			x1, y1 := min(x0+1, sw-1), min(y0+1, sh-1)
-			r0 := src.Pix[y0*src.Stride:]
-			r1 := src.Pix[y1*src.Stride:]
-			v := (1-ay)*((1-ax)*float64(r0[x0])+ax*float64(r0[x1])) + ay*((1-ax)*float64(r1[x0])+ax*float64(r1[x1]))
-			d[x] = uint8(v + 0.5)
+			d[x] = grayAt(src, sx, sy)
 		}
 	}
+}
+
+// grayAt samples src bilinearly at (sx, sy), a point inside it (0 ≤ sx ≤
+// w−1, 0 ≤ sy ≤ h−1), rounded to the nearest level.
+func grayAt(src *image.Gray, sx, sy float64) uint8 {
+	x0, y0 := int(sx), int(sy)
+	ax, ay := sx-float64(x0), sy-float64(y0)
+	x1, y1 := min(x0+1, src.Rect.Dx()-1), min(y0+1, src.Rect.Dy()-1)
+	r0 := src.Pix[y0*src.Stride:]
+	r1 := src.Pix[y1*src.Stride:]
+	v := (1-ay)*((1-ax)*float64(r0[x0])+ax*float64(r0[x1])) + ay*((1-ax)*float64(r1[x0])+ax*float64(r1[x1]))
+	return uint8(v + 0.5)
 }
 
 // quarterTurn returns the homography mapping a pixel of the image turned
