@@ -119,37 +119,68 @@ func withholdShared(cal grid.Calibration, fs float64, panels []*Panel, vals, kee
 				other = o
 			}
 		}
+		var kept []float64
+		if keep != nil {
+			kept = keep[k]
+		}
 		wh := 0
-		for i := 0; i < n; {
-			if !mark[i] {
-				i++
+		for _, sp := range markedSpans(mark, gap, pad) {
+			if sp.last-sp.first+1 < minLen || consistent(v, sp.s0, sp.s1, pn, fs, p) {
 				continue
 			}
-			e := i
-			for j := i; j < n && j <= e+gap; j++ {
-				if mark[j] {
-					e = j
-				}
-			}
-			s0, s1 := max(0, i-pad), min(n-1, e+pad)
-			long := e-i+1 >= minLen
-			i = e + 1
-			if !long || consistent(v, s0, s1, pn, fs, p) {
-				continue
-			}
-			for j := s0; j <= s1; j++ {
-				if math.IsNaN(v[j]) || keep != nil && keep[k] != nil && keep[k][j] != v[j] {
-					continue
-				}
-				v[j] = math.NaN()
-				wh++
-			}
+			n, _ := withholdSpan(v, kept, sp.s0, sp.s1)
+			wh += n
 		}
 		if wh > 0 {
 			warns = append(warns, fmt.Sprintf("lead %v: %.0f ms withheld where the strokes of row %d (from the top) cross it", pn.Lead, 1000*float64(wh)/fs, other+1))
 		}
 	}
 	return warns
+}
+
+// span is a group of marked samples: the first and last marked one
+// (marks at most gap apart joined) and the group padded by pad, clipped
+// to the signal.
+type span struct{ first, last, s0, s1 int }
+
+// markedSpans groups the marked samples of mark into spans.
+func markedSpans(mark []bool, gap, pad int) []span {
+	n := len(mark)
+	var out []span
+	for i := 0; i < n; {
+		if !mark[i] {
+			i++
+			continue
+		}
+		e := i
+		for j := i; j < n && j <= e+gap; j++ {
+			if mark[j] {
+				e = j
+			}
+		}
+		out = append(out, span{i, e, max(0, i-pad), min(n-1, e+pad)})
+		i = e + 1
+	}
+	return out
+}
+
+// withholdSpan sets v[s0..s1] to NaN except where kept (the samples a
+// limb-identity re-reading wrote, nil for none) holds another value, and
+// returns how many samples it withheld and the first of them (−1 if
+// none).
+func withholdSpan(v, kept []float64, s0, s1 int) (n, first int) {
+	first = -1
+	for j := s0; j <= s1; j++ {
+		if math.IsNaN(v[j]) || kept != nil && kept[j] != v[j] {
+			continue
+		}
+		if first < 0 {
+			first = j
+		}
+		v[j] = math.NaN()
+		n++
+	}
+	return n, first
 }
 
 // consistent reports whether the lead's other beats show an excursion

@@ -115,30 +115,17 @@ func withholdBuried(ink *image.Gray, cal grid.Calibration, fs float64, panels []
 		if mark == nil {
 			continue
 		}
+		var kept []float64
+		if keep != nil {
+			kept = keep[k]
+		}
 		wh, first := 0, -1
-		for i := 0; i < n; {
-			if !mark[i] {
-				i++
-				continue
+		for _, sp := range markedSpans(mark, gap, pad) {
+			c, f := withholdSpan(v, kept, sp.s0, sp.s1)
+			if first < 0 {
+				first = f
 			}
-			e := i
-			for j := i; j < n && j <= e+gap; j++ {
-				if mark[j] {
-					e = j
-				}
-			}
-			s0, s1 := max(0, i-pad), min(n-1, e+pad)
-			i = e + 1
-			for j := s0; j <= s1; j++ {
-				if math.IsNaN(v[j]) || keep != nil && keep[k] != nil && keep[k][j] != v[j] {
-					continue
-				}
-				if first < 0 {
-					first = j
-				}
-				v[j] = math.NaN()
-				wh++
-			}
+			wh += c
 		}
 		if wh > 0 {
 			warns = append(warns, fmt.Sprintf("lead %v: %.0f ms withheld (from %.2f s) where its trace runs level through strokes of other rows merged into one mass of ink", pn.Lead, 1000*float64(wh)/fs, float64(first)/fs))
