@@ -39,11 +39,23 @@ type columnRuns struct {
 	count  []int32
 }
 
+// inkWord reports whether any of the eight bytes of b (len ≥ 8) is at or
+// above inkThreshold, testing them as one word (the test of "Bit
+// Twiddling Hacks", S. E. Anderson, Stanford, "determine if a word has a
+// byte greater than n"; from memory): adding 128 − inkThreshold to each
+// byte sets its top bit exactly when it is at least inkThreshold (a carry
+// into the next byte only turns a byte already set, or adds a false
+// positive, never hides one).
+func inkWord(b []uint8) bool {
+	const lo7 = 0x0101010101010101 * (128 - inkThreshold)
+	const hi = 0x8080808080808080
+	v := binary.LittleEndian.Uint64(b)
+	return (v+lo7|v)&hi != 0
+}
+
 // scan collects the ink runs of ink inside r, reusing buffers. Most of
 // an ink map is empty: eight columns are skipped at once where none of
-// them holds an open run and the word of their pixels has no byte at or
-// above inkThreshold (the test of "Bit Twiddling Hacks", S. E. Anderson,
-// Stanford, "determine if a word has a byte greater than n"; from memory).
+// them holds an open run and no pixel of theirs is ink (inkWord).
 func (cr *columnRuns) scan(ink *image.Gray, r image.Rectangle) {
 	r = r.Intersect(ink.Rect)
 	w := r.Dx()
@@ -56,8 +68,6 @@ func (cr *columnRuns) scan(ink *image.Gray, r image.Rectangle) {
 	}
 	cr.openIn = grow(cr.openIn, (w+7)/8)
 	clear(cr.openIn[:(w+7)/8])
-	const lo7 = 0x0101010101010101 * (127 - (inkThreshold - 1)) // bytes ≥ inkThreshold reach 128
-	const hi = 0x8080808080808080
 	cols := make([]int32, 0, 256)
 	for y := r.Min.Y; y < r.Max.Y; y++ {
 		o := (y-ink.Rect.Min.Y)*ink.Stride + (r.Min.X - ink.Rect.Min.X)
@@ -65,7 +75,7 @@ func (cr *columnRuns) scan(ink *image.Gray, r image.Rectangle) {
 		for i0 := 0; i0 < w; i0 += 8 {
 			i1 := min(w, i0+8)
 			if i1-i0 == 8 && cr.openIn[i0>>3] == 0 {
-				if v := binary.LittleEndian.Uint64(row[i0:i1]); (v+lo7|v)&hi == 0 {
+				if !inkWord(row[i0:i1]) {
 					continue
 				}
 			}

@@ -20,6 +20,10 @@ func dropRuledLines(ink *image.Gray, minLen int) *image.Gray {
 	for y := 0; y < h; y++ {
 		row := ink.Pix[y*ink.Stride : y*ink.Stride+w]
 		for x := 0; x < w; {
+			if x+8 <= w && !inkWord(row[x:x+8]) {
+				x += 8 // eight pixels of paper
+				continue
+			}
 			if row[x] < inkThreshold {
 				x++
 				continue

@@ -69,3 +69,27 @@ func TestScanSkipsEmptyWordsExactly(t *testing.T) {
 		}
 	}
 }
+
+// TestInkWord: the word test agrees with testing the eight bytes one by
+// one, for every byte value in every position among paper and ink
+// neighbours (the carries of 255s included).
+func TestInkWord(t *testing.T) {
+	for pos := 0; pos < 8; pos++ {
+		for _, fill := range []uint8{0, inkThreshold - 1, 255} {
+			for v := 0; v < 256; v++ {
+				b := make([]uint8, 8)
+				for i := range b {
+					b[i] = fill
+				}
+				b[pos] = uint8(v)
+				want := false
+				for _, c := range b {
+					want = want || c >= inkThreshold
+				}
+				if got := inkWord(b); got != want {
+					t.Fatalf("bytes %v: inkWord %v, want %v", b, got, want)
+				}
+			}
+		}
+	}
+}
