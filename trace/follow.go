@@ -39,19 +39,23 @@ type columnRuns struct {
 	count  []int32
 }
 
-// inkWord reports whether any of the eight bytes of b (len ≥ 8) is at or
-// above inkThreshold, testing them as one word (the test of "Bit
-// Twiddling Hacks", S. E. Anderson, Stanford, "determine if a word has a
-// byte greater than n"; from memory): adding 128 − inkThreshold to each
-// byte sets its top bit exactly when it is at least inkThreshold (a carry
-// into the next byte only turns a byte already set, or adds a false
-// positive, never hides one).
-func inkWord(b []uint8) bool {
+// inkBits returns the word of the eight bytes of b (len ≥ 8) with the
+// top bit of each byte set exactly where that byte is at least
+// inkThreshold (≤ 128) and every other bit clear. The low seven bits of a
+// byte plus 128 − inkThreshold reach 128 exactly when they are at least
+// inkThreshold and never carry into the next byte; bytes of 128 and more
+// keep their own top bit (after "Bit Twiddling Hacks", S. E. Anderson,
+// Stanford, "determine if a word has a byte greater than n"; from
+// memory).
+func inkBits(b []uint8) uint64 {
 	const lo7 = 0x0101010101010101 * (128 - inkThreshold)
 	const hi = 0x8080808080808080
 	v := binary.LittleEndian.Uint64(b)
-	return (v+lo7|v)&hi != 0
+	return ((v&^hi)+lo7 | v) & hi
 }
+
+// inkWord reports whether any of the eight bytes of b is ink.
+func inkWord(b []uint8) bool { return inkBits(b) != 0 }
 
 // scan collects the ink runs of ink inside r, reusing buffers. Most of
 // an ink map is empty: eight columns are skipped at once where none of

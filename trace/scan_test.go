@@ -2,6 +2,7 @@ package trace
 
 import (
 	"image"
+	"math/bits"
 	"math/rand/v2"
 	"reflect"
 	"testing"
@@ -70,9 +71,9 @@ func TestScanSkipsEmptyWordsExactly(t *testing.T) {
 	}
 }
 
-// TestInkWord: the word test agrees with testing the eight bytes one by
-// one, for every byte value in every position among paper and ink
-// neighbours (the carries of 255s included).
+// TestInkWord: the word test and the count of its bits agree with
+// testing the eight bytes one by one, for every byte value in every
+// position among paper and ink neighbours (255s included).
 func TestInkWord(t *testing.T) {
 	for pos := 0; pos < 8; pos++ {
 		for _, fill := range []uint8{0, inkThreshold - 1, 255} {
@@ -88,6 +89,15 @@ func TestInkWord(t *testing.T) {
 				}
 				if got := inkWord(b); got != want {
 					t.Fatalf("bytes %v: inkWord %v, want %v", b, got, want)
+				}
+				n := 0
+				for _, c := range b {
+					if c >= inkThreshold {
+						n++
+					}
+				}
+				if got := bits.OnesCount64(inkBits(b)); got != n {
+					t.Fatalf("bytes %v: %d ink bytes counted, want %d", b, got, n)
 				}
 			}
 		}
