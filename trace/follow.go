@@ -51,7 +51,7 @@ func inkBits(b []uint8) uint64 {
 	const lo7 = 0x0101010101010101 * (128 - inkThreshold)
 	const hi = 0x8080808080808080
 	v := binary.LittleEndian.Uint64(b)
-	return ((v&^hi)+lo7 | v) & hi
+	return ((v &^ hi) + lo7 | v) & hi
 }
 
 // inkWord reports whether any of the eight bytes of b is ink.
