@@ -138,20 +138,9 @@ func Prepare(img image.Image, opt *Options) (*Page, error) {
 		src, H = newSource(sq), nh
 		o.DPIY = o.DPIX
 	}
-	f := max(1, (max(W, H)+workSide-1)/workSide)
-	work := downscaleSource(src, f)
-	bgw := estimateBackground(work, blockSize(work), 1)
-	workN := normalise(work, bgw)
-	mblock := blockSize(work)
-	mask := paperMask(bgw)
-	sep := analyseColour(workN, mask, mblock)
-	wGray, wInk, wGrid := sep.maps(work, bgw)
-	lineMap := wGrid
-	if !sep.colour {
-		lineMap = invert(wGray)
-	}
-	// Photos: only the sheet counts (not the table or the sheet's edge).
-	applyMask(mask, mblock, lineMap, wInk)
+	we := estimateWork(src)
+	f, work, bgw, mask, sep := we.f, we.work, we.bg, we.mask, we.sep
+	wGray, wInk, lineMap := we.gray, we.ink, we.lineMap
 	if blank(wGray, 0.0005) {
 		return nil, ErrBlank
 	}
@@ -247,6 +236,39 @@ func Prepare(img image.Image, opt *Options) (*Page, error) {
 		registerPhoto(p, src.nrgba(), pre, toSrc, bgw, fullToWork, sep, f, wInk)
 	}
 	return p, nil
+}
+
+// workEstimate is what Prepare measures on the downscaled work copy of
+// the input before it touches the full page.
+type workEstimate struct {
+	f         int          // full px per work px
+	work      *image.NRGBA // the work copy
+	bg        *background  // its background, in work px
+	mask      []bool       // the sheet's blocks on a photo (nil for a scan)
+	sep       *separator   // the ink/grid separation
+	gray, ink *image.Gray  // its luminance and ink maps (a photo's table masked out of ink)
+	lineMap   *image.Gray  // line strength for the skew search: grid strength, or darkness on grey pages
+}
+
+// estimateWork downscales src to at most about workSide px on its long
+// side and estimates there the background, the grid's colour and the
+// separation, and the maps the geometry is measured on.
+func estimateWork(src *source) *workEstimate {
+	we := &workEstimate{f: max(1, (max(src.w, src.h)+workSide-1)/workSide)}
+	we.work = downscaleSource(src, we.f)
+	we.bg = estimateBackground(we.work, blockSize(we.work), 1)
+	mblock := blockSize(we.work)
+	we.mask = paperMask(we.bg)
+	we.sep = analyseColour(normalise(we.work, we.bg), we.mask, mblock)
+	var grd *image.Gray
+	we.gray, we.ink, grd = we.sep.maps(we.work, we.bg)
+	we.lineMap = grd
+	if !we.sep.colour {
+		we.lineMap = invert(we.gray)
+	}
+	// Photos: only the sheet counts (not the table or the sheet's edge).
+	applyMask(we.mask, mblock, we.lineMap, we.ink)
+	return we
 }
 
 // blockSize is the background block size for a downscaled page: about a

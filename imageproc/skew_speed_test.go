@@ -11,23 +11,7 @@ import (
 // workLineMap returns what Prepare's skew search reads for img: the
 // line-strength map of its work copy (grid strength on a colour page,
 // inverted luminance on a grey one), photos' table masked out.
-func workLineMap(img image.Image) *image.Gray {
-	src := newSource(img)
-	f := max(1, (max(src.w, src.h)+workSide-1)/workSide)
-	work := downscaleSource(src, f)
-	bgw := estimateBackground(work, blockSize(work), 1)
-	workN := normalise(work, bgw)
-	mblock := blockSize(work)
-	mask := paperMask(bgw)
-	sep := analyseColour(workN, mask, mblock)
-	wGray, wInk, wGrid := sep.maps(work, bgw)
-	lineMap := wGrid
-	if !sep.colour {
-		lineMap = invert(wGray)
-	}
-	applyMask(mask, mblock, lineMap, wInk)
-	return lineMap
-}
+func workLineMap(img image.Image) *image.Gray { return estimateWork(newSource(img)).lineMap }
 
 // BenchmarkSkewA4JPEG times the skew search (estimateSkew, ±12°) on the
 // work copy of a decoded 300-dpi A4 JPEG scan; CPU time per call.

@@ -22,10 +22,9 @@ type uprightSetup struct {
 
 func setupUpright(img image.Image, deg float64) uprightSetup {
 	u := uprightSetup{src: newSource(img)}
-	f := max(1, (max(u.src.w, u.src.h)+workSide-1)/workSide)
-	work := downscaleSource(u.src, f)
-	bgw := estimateBackground(work, blockSize(work), 1)
-	u.sep = analyseColour(normalise(work, bgw), paperMask(bgw), blockSize(work))
+	we := estimateWork(u.src)
+	f, bgw := we.f, we.bg
+	u.sep = we.sep
 	u.toSrc, u.ow, u.oh = rotation(deg*math.Pi/180, u.src.w, u.src.h)
 	s := float64(f)
 	fullToWork := Homography{1 / s, 0, -(s - 1) / (2 * s), 0, 1 / s, -(s - 1) / (2 * s), 0, 0, 1}

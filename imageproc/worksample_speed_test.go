@@ -16,6 +16,19 @@ import (
 // and decoded.
 var a4JPEG = testpage.A4ScanJPEG
 
+// benchWorkCopy times the work copy of src at the factor Prepare uses
+// (estimateWork), CPU time per call beside the wall time.
+func benchWorkCopy(b *testing.B, src *source) {
+	f := (max(src.w, src.h) + workSide - 1) / workSide
+	b.ReportAllocs()
+	b.ResetTimer()
+	cpuDone := cputime.Report(b)
+	for b.Loop() {
+		downscaleSource(src, f)
+	}
+	cpuDone()
+}
+
 // BenchmarkWorkCopyA4JPEG times the work copy (downscaleSource at the
 // factor Prepare uses, 4) of a decoded 300-dpi A4 JPEG; CPU time per call
 // beside the wall time.
@@ -25,14 +38,7 @@ func BenchmarkWorkCopyA4JPEG(b *testing.B) {
 		b.Fatal(err)
 	}
 	src := newSource(m)
-	f := (max(src.w, src.h) + workSide - 1) / workSide
-	b.ReportAllocs()
-	b.ResetTimer()
-	cpuDone := cputime.Report(b)
-	for b.Loop() {
-		downscaleSource(src, f)
-	}
-	cpuDone()
+	benchWorkCopy(b, src)
 }
 
 // TestWorkCopyA4PageExact: on a real page (a 300-dpi A4 scan stored as
@@ -128,14 +134,7 @@ func BenchmarkWorkCopyA4Grey(b *testing.B) {
 	if src.gray == nil {
 		b.Fatalf("corpus grey page is %T", pg.Image)
 	}
-	f := (max(src.w, src.h) + workSide - 1) / workSide
-	b.ReportAllocs()
-	b.ResetTimer()
-	cpuDone := cputime.Report(b)
-	for b.Loop() {
-		downscaleSource(src, f)
-	}
-	cpuDone()
+	benchWorkCopy(b, src)
 }
 
 // TestAccumulateRowExact: the word-at-a-time block sums of an NRGBA row
@@ -180,12 +179,5 @@ func BenchmarkWorkCopyA4NRGBA(b *testing.B) {
 		b.Fatal(err)
 	}
 	src := newSource(img)
-	f := (max(src.w, src.h) + workSide - 1) / workSide
-	b.ReportAllocs()
-	b.ResetTimer()
-	cpuDone := cputime.Report(b)
-	for b.Loop() {
-		downscaleSource(src, f)
-	}
-	cpuDone()
+	benchWorkCopy(b, src)
 }
