@@ -424,14 +424,16 @@ func Extract(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse, opt *Op
 		// Then the self-check (selfcheck.go) withholds what another row's
 		// path also runs on, past half-way to that row, unless re-read,
 		// and the 0 mV level a path kept through a mass of merged strokes
-		// (swap_buried.go).
+		// (swap_buried.go), and a limb lead's stretch pointing against
+		// the heart vector the other limb leads agree on (swap_dissent.go).
 		keep := make([][]float64, len(vs))
 		for i, v := range vs {
 			keep[i] = slices.Clone(v)
 		}
 		w := guideLimb(ink, cal, o.SampleRate, ps, vs, xs, defaultLimbGuide)
 		w = append(w, withholdShared(cal, o.SampleRate, ps, vs, keep, xs, defaultSelfCheck)...)
-		if w = append(w, withholdBuried(ink, cal, o.SampleRate, ps, vs, keep, xs, defaultBuried)...); len(w) > 0 {
+		w = append(w, withholdBuried(ink, cal, o.SampleRate, ps, vs, keep, xs, defaultBuried)...)
+		if w = append(w, withholdDissent(cal, o.SampleRate, ps, vs, keep, defaultDissent)...); len(w) > 0 {
 			for i := range all {
 				if flip[i] && vs[i] != nil {
 					for k, v := range vs[i] {

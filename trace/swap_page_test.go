@@ -24,8 +24,8 @@ func TestBuriedLevelOverlapPages(t *testing.T) {
 	// 0 mV), 0.9 dB when measured.
 	requireLeadFloors(t, accuracy.Case{Condition: "overlap", Layout: "12x1", Seed: 1}, map[ecg.Lead]float64{ecg.LeadAVL: 0.5})
 	// Record 3: aVL and V4 swapped with V2 before; aVR, which took aVL's
-	// upstroke, is still swapped (a known limit), so the page is checked
-	// lead by lead.
+	// upstroke, is left to the heart-vector check (swap_dissent.go,
+	// TestDissentOverlapPages), so the page is checked lead by lead.
 	c := accuracy.Case{Condition: "overlap", Layout: "12x1", Seed: 3}
 	full, page, err := accuracy.RenderCase(c)
 	if err != nil {

@@ -1,0 +1,332 @@
+package trace
+
+import (
+	"fmt"
+	"math"
+	"sort"
+
+	"tracelift/ecg"
+	"tracelift/grid"
+)
+
+// The check for a limb lead read against the heart vector: the six limb
+// leads printed at the same time are projections of one frontal vector
+// (Einthoven, Goldberger; standards.md §1.3), so any two of them predict
+// the other four. On pages whose QRS strokes cross several rows (20
+// mm/mV, 12 × 1) a path can run on another row's stroke at every beat:
+// the beat-to-beat test of withholdShared keeps it, and when two leads
+// broke together so that they still satisfy an identity between them
+// (aVR + aVL + aVF ≈ 0 with aVR and aVL both upside down: overlap 12x1
+// seed 2, where aVL then matched V2's truth better than its own)
+// guideLimb's consensus, which judges each lead by the pair fitting the
+// rest best, is split. Here the vector is fitted per sample by
+// consensus over pairs, as random sample consensus does (Fischler and
+// Bolles 1981) with every minimal sample tried: every pair of the leads
+// present proposes the vector through their values, its supporters are
+// the leads within inTolMM of trace of its prediction, and the proposals
+// with the most supporters (three at least, of four leads present at
+// least) win. A lead that supports none of the winning proposals, and
+// that every one of them puts on the other side of 0 mV, more than offMM
+// of trace from its reading, dissents. Only the opposite
+// direction counts: where strokes cross rows the agreeing leads often
+// lost part of their apexes, so a lead reading more than they predict,
+// the same way, may well be right. A copy's dissent stretches are
+// withheld (NaN, with a warning) only when they come back at half the
+// beats or more: a path on another row's stroke takes it at every beat,
+// while leads that fit a wrong vector by chance (leads near 0 mV support
+// many) do so at a beat or two. Withholding every dissent stretch
+// instead cost overlap 12x1 seed 3 lead II 2.9 dB (withheld at one beat
+// where III, aVR and aVF near 0 mV outvoted I and II); agreement within
+// 4 mm rather than 6 left overlap 12x1 seed 2 aVL swapped (I, II and III
+// read their apexes 0.2–0.3 mV apart, so they tied with aVR, aVL and
+// aVF).
+
+// dissentParams tunes withholdDissent.
+type dissentParams struct {
+	inTolMM   float64 // a lead supports a proposed vector within this, mm of trace
+	offMM     float64 // a reading departing by more than this, the opposite way, dissents, mm of trace
+	minPred   float64 // every winning prediction lies at least this far from 0 mV, mm of trace
+	wideMM    float64 // a dissent stretch is widened while the reading departs by more than this, mm
+	gapS      float64 // dissenting samples closer than this join one stretch, s
+	padS      float64 // stretches widened by this on each side, s
+	minS      float64 // shorter stretches (before widening) are left alone, s
+	beatS     float64 // dissent stretches of any lead closer than this are one beat, s
+	minBeats  float64 // a copy's stretches are withheld when they come at this share of the beats
+	minRepeat int     // and at this many beats at least
+}
+
+// defaultDissent: support within 6 mm of trace (0.3 mV at 20 mm/mV); off
+// by 10 mm the opposite way (a stroke of another row, far beyond a slip
+// along a steep stroke) of a prediction 3 mm from 0 mV at least; at
+// least 8 ms (four samples at 500 Hz, a third of a QRS stroke); beats
+// 250 ms apart at least (common practice puts the QRS within 120 ms,
+// from memory).
+var defaultDissent = dissentParams{inTolMM: 6, offMM: 10, minPred: 3, wideMM: 4, gapS: 0.010, padS: 0.004, minS: 0.008, beatS: 0.25, minBeats: 0.5, minRepeat: 2}
+
+// withholdDissent sets to NaN the stretches of limb-lead samples (vals[k]
+// panel k's samples on the record grid, mV upright, fs Hz) that point the
+// opposite way from what the limb leads printed at the same time agree
+// on, at half the beats or more (see above). Samples that differ from keep[k]
+// (when keep is not nil: re-read by the limb check) are left alone. It
+// returns one warning per lead withheld from.
+func withholdDissent(cal grid.Calibration, fs float64, panels []*Panel, vals, keep [][]float64, p dissentParams) []string {
+	const nl = 6
+	if len(vals) == 0 || fs <= 0 || cal.GainMMPerMV.V <= 0 {
+		return nil
+	}
+	n := 0
+	for _, v := range vals {
+		n = max(n, len(v))
+	}
+	mmPerMV := cal.GainMMPerMV.V
+	inTol, offTh, minPred, wide := p.inTolMM/mmPerMV, p.offMM/mmPerMV, p.minPred/mmPerMV, p.wideMM/mmPerMV
+	li := map[ecg.Lead]int{}
+	for k, l := range ecg.LimbLeads {
+		li[l] = k
+	}
+	// Per limb lead the best copy's samples (as Extract's record is
+	// built), each lead's median removed.
+	order := make([]int, 0, len(panels))
+	for k, pn := range panels {
+		if _, ok := li[pn.Lead]; ok && pn.Quality >= minQuality && len(vals[k]) == n {
+			order = append(order, k)
+		}
+	}
+	if len(order) < 3 {
+		return nil
+	}
+	sort.SliceStable(order, func(a, b int) bool { return panels[order[a]].Quality > panels[order[b]].Quality })
+	var a [nl][]float64
+	for l := range nl {
+		a[l] = make([]float64, n)
+		for i := range a[l] {
+			a[l][i] = math.NaN()
+		}
+	}
+	for _, k := range order {
+		l := li[panels[k].Lead]
+		for i, v := range vals[k] {
+			if math.IsNaN(a[l][i]) {
+				a[l][i] = v
+			}
+		}
+	}
+	var off [nl]float64
+	for l := range nl {
+		off[l] = nanMedian(a[l])
+		if math.IsNaN(off[l]) {
+			off[l] = 0
+		}
+		for i := range a[l] {
+			a[l][i] -= off[l]
+		}
+	}
+	var coef [nl][2]float64
+	for k, l := range ecg.LimbLeads {
+		coef[k][0], coef[k][1], _ = ecg.FrontalCoefficients(l)
+	}
+	// fit[l][i]: lead l's value as the best-supported vector at sample i
+	// predicts it; dis[i]: the leads dissenting there (a bit mask).
+	var fit [nl][]float64
+	for l := range nl {
+		fit[l] = make([]float64, n)
+	}
+	dis := make([]uint8, n)
+	var col, f [nl]float64
+	for i := range n {
+		for l := range nl {
+			col[l] = a[l][i]
+		}
+		dis[i] = dissenters(&col, &coef, inTol, offTh, minPred, &f)
+		for l := range nl {
+			fit[l][i] = f[l]
+		}
+	}
+	gap := int(math.Round(p.gapS * fs))
+	pad := int(math.Round(p.padS * fs))
+	minLen := int(math.Round(p.minS * fs))
+	var warns []string
+	// The stretches each copy dissents over, widened while it departs
+	// from the fit by more than wide.
+	type stretch struct{ s0, s1 int }
+	dissent := make([][]stretch, len(panels))
+	var all []stretch
+	mark := make([]bool, n)
+	for _, k := range order {
+		l := li[panels[k].Lead]
+		v, pl := vals[k], fit[l]
+		dep := func(i int) float64 { return v[i] - off[l] - pl[i] }
+		for i := range n {
+			x, q := v[i]-off[l], pl[i]
+			mark[i] = dis[i]&(1<<l) != 0 && !math.IsNaN(x) && x*q < 0 && math.Abs(x-q) > offTh
+		}
+		for _, sp := range markedSpans(mark, gap, 0) {
+			if sp.last-sp.first+1 < minLen {
+				continue
+			}
+			s0, s1 := sp.first, sp.last
+			for s0 > 0 && math.Abs(dep(s0-1)) > wide {
+				s0--
+			}
+			for s1+1 < n && math.Abs(dep(s1+1)) > wide {
+				s1++
+			}
+			dissent[k] = append(dissent[k], stretch{s0, s1})
+			all = append(all, stretch{s0, s1})
+		}
+	}
+	// Beats: the stretches of all leads joined within beatS. A copy's
+	// stretches are withheld only when they come back at a share minBeats
+	// of them at least: a path on another row's stroke takes it at every
+	// beat, while a lead whose own complex happens to fit a vector of
+	// leads read badly at one beat does not.
+	sort.Slice(all, func(x, y int) bool { return all[x].s0 < all[y].s0 })
+	sep := int(math.Round(p.beatS * fs))
+	beatOf := make([]int, n)
+	for i := range beatOf {
+		beatOf[i] = -1
+	}
+	beats, end := 0, -sep-1
+	for _, st := range all {
+		if st.s0 > end+sep {
+			beats++
+		}
+		end = max(end, st.s1)
+		for i := st.s0; i <= st.s1; i++ {
+			beatOf[i] = beats - 1
+		}
+	}
+	withheld := map[ecg.Lead][2]int{} // samples withheld, first of them
+	for _, k := range order {
+		if len(dissent[k]) == 0 {
+			continue
+		}
+		seen, last := 0, -1
+		for _, st := range dissent[k] {
+			if b := beatOf[st.s0]; b != last {
+				seen++
+				last = b
+			}
+		}
+		if seen < p.minRepeat || float64(seen) < p.minBeats*float64(beats) {
+			continue
+		}
+		var kept []float64
+		if keep != nil {
+			kept = keep[k]
+		}
+		for _, st := range dissent[k] {
+			c, f := withholdSpan(vals[k], kept, max(0, st.s0-pad), min(n-1, st.s1+pad))
+			w := withheld[panels[k].Lead]
+			if c > 0 && (w[0] == 0 || f < w[1]) {
+				w[1] = f
+			}
+			w[0] += c
+			withheld[panels[k].Lead] = w
+		}
+	}
+	for _, l := range ecg.LimbLeads {
+		if w := withheld[l]; w[0] > 0 {
+			warns = append(warns, fmt.Sprintf("lead %v: %.0f ms withheld (from %.2f s) where it points against the heart vector the other limb leads agree on", l, 1000*float64(w[0])/fs, float64(w[1])/fs))
+		}
+	}
+	return warns
+}
+
+// dissenters fits the frontal vector to the limb-lead values v (NaN for
+// absent; lead m = a·I + b·II with (a, b) = coef[m]): every pair of leads
+// present proposes the vector through their values, and a proposal's
+// supporters are the leads within tol of its prediction (the pair
+// included). out receives every lead's value as the best proposal (the
+// most supporters, then the smallest summed error of theirs) predicts it
+// (NaN when fewer than four leads are present or no proposal has three
+// supporters). Among the proposals with the most supporters, a lead that
+// supports none and that every one of them predicts at least minPred
+// from 0 mV on the other side of 0 mV from its reading, more than off
+// away from it, dissents; the result is the bit mask of the dissenters.
+func dissenters(v *[6]float64, coef *[6][2]float64, tol, off, minPred float64, out *[6]float64) uint8 {
+	const nl = 6
+	var idx [nl]int
+	m := 0
+	for k := range nl {
+		out[k] = math.NaN()
+		if !math.IsNaN(v[k]) {
+			idx[m] = k
+			m++
+		}
+	}
+	if m < 4 {
+		return 0
+	}
+	type prop struct {
+		h   [2]float64
+		sup uint8 // bit mask of supporters
+		n   int
+		e   float64
+	}
+	var props [15]prop
+	np, best := 0, -1
+	for x := 0; x < m; x++ {
+		for y := x + 1; y < m; y++ {
+			p, q := idx[x], idx[y]
+			c0, c1 := coef[p], coef[q]
+			det := c0[0]*c1[1] - c0[1]*c1[0]
+			hI, hII := (v[p]*c1[1]-v[q]*c0[1])/det, (c0[0]*v[q]-c1[0]*v[p])/det
+			pr := prop{h: [2]float64{hI, hII}}
+			for z := 0; z < m; z++ {
+				k := idx[z]
+				if d := math.Abs(coef[k][0]*hI + coef[k][1]*hII - v[k]); d <= tol {
+					pr.sup |= 1 << k
+					pr.n++
+					pr.e += d
+				}
+			}
+			props[np] = pr
+			if best < 0 || pr.n > props[best].n || pr.n == props[best].n && pr.e < props[best].e {
+				best = np
+			}
+			np++
+		}
+	}
+	bestN := props[best].n
+	if bestN < 3 {
+		return 0
+	}
+	for k := range nl {
+		out[k] = coef[k][0]*props[best].h[0] + coef[k][1]*props[best].h[1]
+	}
+	var mask uint8
+	for z := 0; z < m; z++ {
+		l := idx[z]
+		ok := true
+		for _, pr := range props[:np] {
+			if pr.n != bestN {
+				continue
+			}
+			pl := coef[l][0]*pr.h[0] + coef[l][1]*pr.h[1]
+			if pr.sup&(1<<l) != 0 || pl*v[l] >= 0 || math.Abs(pl) < minPred || math.Abs(pl-v[l]) <= off {
+				ok = false
+				break
+			}
+		}
+		if ok {
+			mask |= 1 << l
+		}
+	}
+	return mask
+}
+
+// nanMedian returns the median of the non-NaN values of v (NaN if none).
+func nanMedian(v []float64) float64 {
+	var vs []float64
+	for _, x := range v {
+		if !math.IsNaN(x) {
+			vs = append(vs, x)
+		}
+	}
+	if len(vs) == 0 {
+		return math.NaN()
+	}
+	sort.Float64s(vs)
+	return vs[len(vs)/2]
+}

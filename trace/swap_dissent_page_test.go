@@ -1,0 +1,25 @@
+package trace_test
+
+import (
+	"testing"
+
+	"tracelift/accuracy"
+	"tracelift/ecg"
+)
+
+// TestDissentOverlapPages: on the eval's overlap 12 × 1 pages (20 mm/mV,
+// amplitudes × 1.4–2) aVR and aVL of record 2 read other rows' strokes at
+// every beat, upside down, and aVL matched V2's truth better than its
+// own; on record 3 aVR read aVL's R wave for its own QS and matched aVF's
+// truth (accuracy.SwappedWith). The limb leads that agree on one heart
+// vector show those QRS stretches pointing the wrong way, and they are
+// withheld (swap_dissent.go): no lead is swapped, every lead is found,
+// and the two leads score above their former −2.5 / −1.5 dB (record 2)
+// and −2.2 dB (record 3).
+func TestDissentOverlapPages(t *testing.T) {
+	if testing.Short() {
+		t.Skip("renders and digitises two pages")
+	}
+	requireLeadFloors(t, accuracy.Case{Condition: "overlap", Layout: "12x1", Seed: 2}, map[ecg.Lead]float64{ecg.LeadAVL: 0, ecg.LeadAVR: -0.5})
+	requireLeadFloors(t, accuracy.Case{Condition: "overlap", Layout: "12x1", Seed: 3}, map[ecg.Lead]float64{ecg.LeadAVR: -0.5})
+}
