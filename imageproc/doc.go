@@ -64,7 +64,14 @@
 //     A deskewed colour page is separated first, row by row in the
 //     input's frame, into the linear parts of its ink and grid maps
 //     (JPEG rows straight from the Y′CbCr planes), which are resampled
-//     and clipped in the upright frame; grey pages and photos are
+//     in two one-dimensional passes (each input row along x onto the
+//     upright columns, then each upright column between the two rows
+//     around its point: the two-pass separable warp of E. Catmull and A. R.
+//     Smith, "3-D transformations of images in scanline order",
+//     SIGGRAPH 1980, from memory; linear interpolation in each pass,
+//     eight pixels at a time in SSE2 on amd64) and clipped in the upright
+//     frame;
+//     grey pages and photos are
 //     resampled first and separated in the same loop, keeping the
 //     luminance their structural split and lattice read. The upright
 //     colour page itself is not kept (only pictures for people read it):

@@ -103,14 +103,19 @@ func (s *separator) upright(src *source, toSrc Homography, w, h int, bg, bgSrc *
 	}
 	stepX, stepY := toFix32(hm[0]), toFix32(hm[3])
 	if pspan := windowSpan(hm, w, src.h); bgSrc != nil && s.colour && !needGray && affine && !ident && col == nil && pspan > 0 {
-		paper := f.paperPair()
+		sh := newShear(hm, f.paperPair(), w)
 		rowBands(h, func(y0, y1 int) {
-			win := newWindow(newPairSource(src, &f, bgSrc).filler(), 2*src.w, src.h, 2*pspan+8)
+			fill := newPairSource(src, &f, bgSrc).filler()
+			row := make([]int16, 2*src.w)
+			win := newWindow(func(d []int16, v int) {
+				fill(row, v)
+				shearPairRow(d, row, sh.rowStart(v), sh.step, sh.paper)
+			}, 2*w, src.h, 2*pspan+8)
 			for y := y0; y < y1; y++ {
-				sx, sy := rowStart(hm, y)
-				sp, ss, lo := win.cover(int(min(sy, sy+int64(w-1)*stepY)>>32), int(max(sy, sy+int64(w-1)*stepY)>>32)+1)
-				samplePairRow(ink.Pix[y*ink.Stride:y*ink.Stride+w], grd.Pix[y*grd.Stride:y*grd.Stride+w],
-					sp, ss, src.w, src.h, lo, sx, sy, stepX, stepY, paper)
+				_, sv := rowStart(hm, y)
+				sp, ss, lo := win.cover(int(min(sv, sv+int64(w-1)*stepY)>>32), int(max(sv, sv+int64(w-1)*stepY)>>32)+1)
+				sampleShearedRow(ink.Pix[y*ink.Stride:y*ink.Stride+w], grd.Pix[y*grd.Stride:y*grd.Stride+w],
+					sp, ss, src.h, lo, sv, stepY, sh.paperRow)
 			}
 		})
 		return nil, gray, ink, grd

@@ -5,8 +5,9 @@ import "math"
 // Separate first, then resample: the upright pass of a deskewed colour
 // page separates each input row once, in the input's own frame and with
 // the background's gains at the input's pixels, into the linear parts of
-// the two maps the page keeps (ink and grid strength), samples those
-// bilinearly into the upright frame and clips them there. (Grey pages
+// the two maps the page keeps (ink and grid strength), resamples those
+// into the upright frame in two one-dimensional passes (shear) and clips
+// them there. (Grey pages
 // keep the luminance, which their structural split and calibration read,
 // and are resampled first.) Sampling the
 // colours first and separating every upright pixel (affineSepRow)
@@ -15,8 +16,9 @@ import "math"
 // gains and separation run once per input pixel. The maps are linear in
 // the gained colours up to their final clipping, which both paths apply
 // after interpolating, so they differ only where a colour channel
-// saturates under its gain (paper brighter than its background estimate)
-// and by rounding: a few levels (TestPairPathNearColourPath).
+// saturates under its gain (paper brighter than its background estimate),
+// by rounding, and by the two passes' geometry (a fraction of the skew's
+// sine of a pixel): a few levels (TestPairPathNearColourPath).
 
 // pairLimit bounds the stored linear values, so that the fixed-point
 // interpolation stays inside int32; far beyond the 0..255 the maps clip
@@ -25,7 +27,8 @@ const pairLimit = 16383
 
 // pairSource makes the input rows of a pair window: row y converted to
 // NRGBA (scratch row), its gains (g, in the input's frame) and the two
-// linear map values interleaved into d (2 per pixel).
+// linear map values into d (the ink values of the row, then its grid
+// values).
 type pairSource struct {
 	src *source
 	f   *sepFixed
@@ -57,13 +60,14 @@ func (ps *pairSource) fill(d []int16, y int) {
 }
 
 // pairRow is row for the pair layout of a colour separator, before the
-// final clipping: d[2x], d[2x+1] receive the linear ink and grid strength
-// of the NRGBA pixels of row with the gains g (3 per pixel, 8.8 fixed
-// point); samplePairRow clips them as row does.
+// final clipping: d[x] and d[w+x] (w = len(d)/2) receive the linear ink
+// and grid strength of the NRGBA pixels of row with the gains g (3 per
+// pixel, 8.8 fixed point); sampleShearedRow clips them as row does.
 func (f *sepFixed) pairRow(row []uint8, g []uint32, d []int16) {
 	w := len(d) / 2
 	row = row[:4*w]
 	g = g[:3*w]
+	di, dg := d[:w], d[w:2*w]
 	ka, kb, off := f.ka, f.kb, f.off
 	for x := 0; x < w; x++ {
 		p := row[4*x : 4*x+3 : 4*x+3]
@@ -72,9 +76,8 @@ func (f *sepFixed) pairRow(row []uint8, g []uint32, d []int16) {
 		gg := min(255, (uint32(p[1])*k[1]+128)>>8)
 		bb := min(255, (uint32(p[2])*k[2]+128)>>8)
 		a0, a1, a2 := 255-int32(rr), 255-int32(gg), 255-int32(bb)
-		o := d[2*x : 2*x+2 : 2*x+2]
-		o[0] = int16(min(max((kb[0]*a0+kb[1]*a1+kb[2]*a2)>>10-off, -pairLimit), pairLimit))
-		o[1] = int16(min(max((ka[0]*a0+ka[1]*a1+ka[2]*a2)>>10, -pairLimit), pairLimit))
+		di[x] = int16(min(max((kb[0]*a0+kb[1]*a1+kb[2]*a2)>>10-off, -pairLimit), pairLimit))
+		dg[x] = int16(min(max((ka[0]*a0+ka[1]*a1+ka[2]*a2)>>10, -pairLimit), pairLimit))
 	}
 }
 
@@ -85,70 +88,116 @@ func (f *sepFixed) paperPair() [2]int16 {
 	return d
 }
 
-// samplePairRow fills a and b (one upright row each) by sampling the
-// interleaved linear maps bilinearly along a line and clipping the
-// samples to 0..255: the source point starts at (sx, sy) and advances by
-// (stepX, stepY) per pixel (32.32 fixed point); the maps are rows of ss
-// values, input row y at sp[(y−lo)·ss], sw×sh pairs in all; outside them
-// they hold paper. The weights are affineRowNRGBA's (rounded to 1/256
-// along each axis).
-func samplePairRow(a, b []uint8, sp []int16, ss, sw, sh, lo int, sx, sy, stepX, stepY int64, paper [2]int16) {
-	w := len(a)
-	b = b[:w]
-	xa, xb := interiorRun(w, sw, sh, sx, sy, stepX, stepY)
-	edge := func(x int) {
-		px, py := sx+int64(x)*stepX, sy+int64(x)*stepY
-		if !(px > -fixOne && py > -fixOne && px < int64(sw)<<32 && py < int64(sh)<<32) {
-			a[x], b[x] = sat8(int32(paper[0])), sat8(int32(paper[1]))
-			return
-		}
-		// Floor, also just left of or above the input.
-		x0, y0 := int(px>>32), int(py>>32)
-		ax := int32(((px & (fixOne - 1)) + 1<<23) >> 24)
-		ay := int32(((py & (fixOne - 1)) + 1<<23) >> 24)
-		pick := func(xx, yy, k int) int32 {
-			if xx < 0 || yy < 0 || xx >= sw || yy >= sh {
-				return int32(paper[k])
+// shear splits the affine map hm (upright px → input px: x = a·X + b·Y
+// + t0, y = c·X + d·Y + t1, d > 0) into two one-dimensional resamplings:
+// the upright pixel (X, Y) lies on input row v = c·X + d·Y + t1, where the
+// line of upright column X crosses it at x = (det/d)·X + (b/d)·v + t0 −
+// b·t1/d. So each input row is resampled once along x onto the upright
+// columns (shearPairRow: start rowStart(v), step det/d), and each upright
+// pixel interpolates between the two made rows around v in its own column
+// (sampleShearedRow). Against bilinear sampling this reads the row below
+// at a point |b/d| (the sine of the skew: 0.02 px at 1°) further along,
+// and rounds once in between; it interpolates two values where bilinear
+// sampling interpolates three, with no per-pixel address arithmetic.
+type shear struct {
+	x0, xv   float64 // row start x = x0 + xv·v, input px
+	step     int64   // x step per upright column, 32.32
+	paper    [2]int16
+	paperRow []int16 // a made row of paper, 2 values per upright column
+}
+
+func newShear(hm Homography, paper [2]int16, w int) shear {
+	a, b, t0, c, d, t1 := hm[0], hm[1], hm[2], hm[3], hm[4], hm[5]
+	s := shear{x0: t0 - b*t1/d, xv: b / d, step: toFix32((a*d - b*c) / d), paper: paper, paperRow: make([]int16, 2*w)}
+	for x := 0; x < w; x++ {
+		s.paperRow[x], s.paperRow[w+x] = paper[0], paper[1]
+	}
+	return s
+}
+
+// rowStart is the input x of upright column 0 on input row v, 32.32.
+func (s *shear) rowStart(v int) int64 { return toFix32(s.x0 + s.xv*float64(v)) }
+
+// shearPairRow is the first half of the upright pass's resampling: one
+// input row of separated pairs (row: the sw ink values, then the sw grid
+// values) resampled along x into d (the same layout, one value per
+// upright column): d holds row's values at x = sx + X·step (32.32 fixed
+// point), interpolated linearly with weights rounded to 1/256 and
+// rounded to whole levels; outside the row, paper.
+func shearPairRow(d, row []int16, sx, step int64, paper [2]int16) {
+	w, sw := len(d)/2, len(row)/2
+	xa, xb := interiorRun(w, sw, 2, sx, 0, step, 0)
+	xb = max(xa, xb)
+	for k := 0; k < 2; k++ {
+		src, dst, pk := row[k*sw:(k+1)*sw], d[k*w:(k+1)*w], int32(paper[k])
+		edge := func(x int) {
+			p := sx + int64(x)*step
+			i := int(p >> 32) // floor, also left of the row
+			f := int32(((p & (fixOne - 1)) + 1<<23) >> 24)
+			a, b := pk, pk
+			if i >= 0 && i < sw {
+				a = int32(src[i])
 			}
-			return int32(sp[(yy-lo)*ss+2*xx+k])
+			if i+1 >= 0 && i+1 < sw {
+				b = int32(src[i+1])
+			}
+			dst[x] = int16((a<<8 + f*(b-a) + 128) >> 8)
 		}
-		for k, o := range [2][]uint8{a, b} {
-			t0 := pick(x0, y0, k)<<8 + ax*(pick(x0+1, y0, k)-pick(x0, y0, k))
-			t1 := pick(x0, y0+1, k)<<8 + ax*(pick(x0+1, y0+1, k)-pick(x0, y0+1, k))
-			o[x] = sat8((t0<<8 + ay*(t1-t0) + 32768) >> 16)
+		for x := 0; x < xa; x++ {
+			edge(x)
 		}
-	}
-	for x := 0; x < xa; x++ {
-		edge(x)
-	}
-	if xb > xa {
-		samplePairs(a[xa:xb], b[xa:xb], sp, ss, sx+int64(xa)*stepX, sy+int64(xa)*stepY-int64(lo)<<32, stepX, stepY)
-	}
-	for x := xb; x < w; x++ {
-		edge(x)
+		// Inside, x maps to input pixel x + k with k constant over long
+		// segments (the step is 1/cos of the skew): each is one lerpI16.
+		de := step - fixOne
+		for x := xa; x < xb; {
+			e := sx + int64(x)*step - int64(x)<<32 // x's source point less x
+			k := int(e >> 32)
+			n := xb - x
+			switch {
+			case de > 0:
+				n = int(min(int64(n), (int64(k+1)<<32-e+de-1)/de))
+			case de < 0:
+				n = int(min(int64(n), (e-int64(k)<<32)/-de+1))
+			}
+			lerpI16(dst[x:x+n], src[x+k:x+k+n], src[x+k+1:x+k+1+n], uint32(e), uint32(step))
+			x += n
+		}
+		for x := xb; x < w; x++ {
+			edge(x)
+		}
 	}
 }
 
-// samplePairs is samplePairRow's inner run: every source point has its
-// four neighbours inside the maps (sy relative to the first row of sp).
-// (Skipping pixels whose four neighbours are all paper in both maps
-// measured no faster: on a scan about half the pixels are not.)
-func samplePairs(a, b []uint8, sp []int16, ss int, sx, sy, stepX, stepY int64) {
-	b = b[:len(a)]
-	for x := range a {
-		i := int(sy>>32)*ss + 2*int(sx>>32)
-		ax := int32(((sx & (fixOne - 1)) + 1<<23) >> 24)
-		ay := int32(((sy & (fixOne - 1)) + 1<<23) >> 24)
-		sx += stepX
-		sy += stepY
-		c0 := sp[i : i+4 : i+4]
-		c1 := sp[i+ss : i+ss+4 : i+ss+4]
-		t0 := int32(c0[0])<<8 + ax*(int32(c0[2])-int32(c0[0]))
-		t1 := int32(c1[0])<<8 + ax*(int32(c1[2])-int32(c1[0]))
-		a[x] = clip8((t0<<8 + ay*(t1-t0) + 32768) >> 16)
-		u0 := int32(c0[1])<<8 + ax*(int32(c0[3])-int32(c0[1]))
-		u1 := int32(c1[1])<<8 + ax*(int32(c1[3])-int32(c1[1]))
-		b[x] = clip8((u0<<8 + ay*(u1-u0) + 32768) >> 16)
+// sampleShearedRow is the second half: it fills a and b (one upright row
+// each) from the rows shearPairRow made, interpolating along each column
+// and clipping to 0..255. Pixel X reads made rows v>>32 and the one below
+// at column X, v = sv + X·step (32.32); made row r is at sp[(r−lo)·ss]
+// for 0 ≤ r < sh, and rows outside the input are paperRow. Along a row v
+// moves by the sine of the skew a pixel, so the two rows read stay the
+// same over runs of a few dozen pixels.
+func sampleShearedRow(a, b []uint8, sp []int16, ss, sh, lo int, sv, step int64, paperRow []int16) {
+	w := len(a)
+	b = b[:w]
+	st := newLerpSteps(uint32(step))
+	rowAt := func(r int) []int16 {
+		if r < 0 || r >= sh {
+			return paperRow[:2*w]
+		}
+		return sp[(r-lo)*ss : (r-lo)*ss+2*w]
+	}
+	for x := 0; x < w; {
+		r := int(sv >> 32)
+		n := w - x
+		switch {
+		case step > 0:
+			n = int(min(int64(n), (int64(r+1)<<32-sv+step-1)/step))
+		case step < 0:
+			n = int(min(int64(n), (sv-int64(r)<<32)/-step+1))
+		}
+		r0, r1 := rowAt(r), rowAt(r+1)
+		lerp2U8(a[x:x+n], b[x:x+n], r0[x:x+n], r1[x:x+n], r0[w+x:w+x+n], r1[w+x:w+x+n], uint32(sv), &st)
+		sv += int64(n) * step
+		x += n
 	}
 }
 
@@ -183,7 +232,7 @@ func (ps *pairSource) fillYCbCr(d []int16, y int) {
 	c0 := m.COffset(0, y)
 	cw := (w + 1) / 2
 	cbr, crr := m.Cb[c0:c0+cw], m.Cr[c0:c0+cw]
-	d = d[:2*w]
+	di, dg := d[:w], d[w:2*w]
 	// Constant parts, 16 fractional bits more than the coefficients'
 	// 10: Σ k·255 (absorption of black) less the ink offset.
 	var aInk, aGrid int64
@@ -215,25 +264,24 @@ func (ps *pairSource) fillYCbCr(d []int16, y int) {
 		}
 		kb0, kb1, kb2, ka0, ka1, ka2 := kb[0], kb[1], kb[2], ka[0], ka[1], ka[2]
 		t0, t1, t2 := top[0], top[1], top[2]
-		px := func(o []int16, yv uint8, kr, kg, kB int64) {
+		px := func(x int, yv uint8, kr, kg, kB int64) {
 			y16 := int64(yv) << 16
 			r := min(max(y16+kr, 0), t0)
 			g := min(max(y16+kg, 0), t1)
 			b := min(max(y16+kB, 0), t2)
-			o[0] = int16(min(max((aInk-kb0*r-kb1*g-kb2*b)>>26, -pairLimit), pairLimit))
-			o[1] = int16(min(max((aGrid-ka0*r-ka1*g-ka2*b)>>26, -pairLimit), pairLimit))
+			di[x] = int16(min(max((aInk-kb0*r-kb1*g-kb2*b)>>26, -pairLimit), pairLimit))
+			dg[x] = int16(min(max((aGrid-ka0*r-ka1*g-ka2*b)>>26, -pairLimit), pairLimit))
 		}
 		x := xs
 		for ; x+1 < xe; x += 2 {
 			kr, kg, kB := chromaTerms(cbr[x>>1], crr[x>>1])
 			p := yr[x : x+2 : x+2]
-			o := d[2*x : 2*x+4 : 2*x+4]
-			px(o[0:2], p[0], int64(kr), int64(kg), int64(kB))
-			px(o[2:4], p[1], int64(kr), int64(kg), int64(kB))
+			px(x, p[0], int64(kr), int64(kg), int64(kB))
+			px(x+1, p[1], int64(kr), int64(kg), int64(kB))
 		}
 		if x < xe {
 			kr, kg, kB := chromaTerms(cbr[x>>1], crr[x>>1])
-			px(d[2*x:2*x+2], yr[x], int64(kr), int64(kg), int64(kB))
+			px(x, yr[x], int64(kr), int64(kg), int64(kB))
 		}
 	}
 }

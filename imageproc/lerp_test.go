@@ -1,0 +1,96 @@
+package imageproc
+
+import (
+	"math/rand/v2"
+	"slices"
+	"testing"
+)
+
+// TestLerpMatchesGo holds the vector kernels to the Go arithmetic bit for
+// bit: random values over the whole stored range (±pairLimit), random
+// fractions and steps (including steps that wrap past a whole pixel and
+// weights that round up to 256), every length from 0 to 40 (whole blocks
+// of eight and tails).
+func TestLerpMatchesGo(t *testing.T) {
+	rng := rand.New(rand.NewPCG(7, 7))
+	for n := 0; n <= 40; n++ {
+		for trial := 0; trial < 50; trial++ {
+			p, q := make([]int16, n+3), make([]int16, n+3)
+			for i := range p {
+				p[i] = int16(rng.IntN(2*pairLimit+1) - pairLimit)
+				q[i] = int16(rng.IntN(2*pairLimit+1) - pairLimit)
+				if trial%3 == 0 { // values near the 0..255 the maps clip to
+					p[i], q[i] = int16(rng.IntN(300)-20), int16(rng.IntN(300)-20)
+				}
+			}
+			frac, step := rng.Uint32(), rng.Uint32()
+			if trial%4 == 1 {
+				frac, step = 0xffffffff-uint32(rng.IntN(1<<24)), uint32(rng.IntN(1<<20))
+			}
+			gotI, wantI := make([]int16, n), make([]int16, n)
+			lerpI16(gotI, p, q, frac, step)
+			lerpI16Go(wantI, p, q, frac, step)
+			gotU, wantU := make([]uint8, n), make([]uint8, n)
+			lerpU8(gotU, p, q, frac, step)
+			lerpU8Go(wantU, p, q, frac, step)
+			// Two planes with one set of weights: the second plane is
+			// the first one's rows backwards, read from offset 1.
+			st := newLerpSteps(step)
+			rp, rq := slices.Clone(q[1:]), slices.Clone(p[1:])
+			slices.Reverse(rp)
+			slices.Reverse(rq)
+			got2a, got2b, want2b := make([]uint8, n), make([]uint8, n), make([]uint8, n)
+			lerp2U8(got2a, got2b, p, q, rp, rq, frac, &st)
+			lerpU8Go(want2b, rp, rq, frac, step)
+			for j := 0; j < n; j++ {
+				if gotI[j] != wantI[j] || gotU[j] != wantU[j] || got2a[j] != wantU[j] || got2b[j] != want2b[j] {
+					t.Fatalf("n=%d frac=%#x step=%#x pixel %d: int16 %d want %d, byte %d want %d, two planes %d, %d want %d, %d",
+						n, frac, step, j, gotI[j], wantI[j], gotU[j], wantU[j], got2a[j], got2b[j], wantU[j], want2b[j])
+				}
+			}
+		}
+	}
+}
+
+// TestLerpWeight: the 32-bit weight is the fraction rounded to 1/256,
+// ⌊(frac + 2²³) / 2²⁴⌋, computed in 64 bits as the bilinear samplers do,
+// including fractions within half a step of the next pixel (weight 256).
+func TestLerpWeight(t *testing.T) {
+	for _, frac := range []uint32{0, 1, 1<<23 - 1, 1 << 23, 1<<24 - 1, 1 << 31, 0xff7fffff, 0xff800000, 0xffffffff} {
+		want := int32((int64(frac) + 1<<23) >> 24)
+		if got := lerpWeight(frac); got != want {
+			t.Errorf("lerpWeight(%#x) = %d, want %d", frac, got, want)
+		}
+	}
+	if lerpWeight(0xffffffff) != 256 {
+		t.Errorf("a fraction just short of a whole pixel must weigh 256")
+	}
+}
+
+// TestLerpEndpoints: weight 0 gives p and weight 256 gives q, exactly;
+// the byte kernel clips to 0..255.
+func TestLerpEndpoints(t *testing.T) {
+	p := []int16{-500, 0, 17, 255, 300, 1000, -1, 128}
+	q := []int16{900, 255, -17, 0, 12, -1000, 256, 127}
+	got := make([]int16, 8)
+	lerpI16(got, p, q, 0, 0)
+	for j := range p {
+		if got[j] != p[j] {
+			t.Errorf("weight 0: pixel %d = %d, want %d", j, got[j], p[j])
+		}
+	}
+	lerpI16(got, p, q, 0xffffffff, 0)
+	for j := range q {
+		if got[j] != q[j] {
+			t.Errorf("weight 256: pixel %d = %d, want %d", j, got[j], q[j])
+		}
+	}
+	b := make([]uint8, 8)
+	lerpU8(b, p, q, 0, 0)
+	want := []uint8{0, 0, 17, 255, 255, 255, 0, 128}
+	for j := range want {
+		if b[j] != want[j] {
+			t.Errorf("clipped pixel %d = %d, want %d", j, b[j], want[j])
+		}
+	}
+}
