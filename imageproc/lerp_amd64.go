@@ -19,3 +19,12 @@ func lerpU8SIMD(dst []uint8, p, q []int16, lanes *[8]uint32, inc uint32)
 //
 //go:noescape
 func lerp2U8SIMD(a, b []uint8, pi, qi, pg, qg *int16, frac uint32, st *lerpSteps)
+
+// fillYCbCrSIMD is ycbcrSeg.fill for whole segments, eight pixels a step:
+// segment k covers pixels [32k, 32k+32) of di, dg and y and chroma samples
+// [16k, 16k+16) of cb and cr, with the constants segs[k] (every segment's
+// sums fitting its lanes: ycbcrLanes.set) and the constant parts aInk and
+// aGrid (ycbcrConstants).
+//
+//go:noescape
+func fillYCbCrSIMD(di, dg []int16, y, cb, cr []uint8, segs []ycbcrLanes, aInk, aGrid int32)

@@ -212,3 +212,194 @@ loop2:
 
 done2:
 	RET
+
+// Constants of fillYCbCrSIMD, eight words each: the JFIF chroma
+// coefficients C (16 fractional bits) split as C = 512·q + r, 0 ≤ r < 512,
+// so that ⌊C·d / 512⌋ = q·d + ⌊r·d / 512⌋, the last a PMULHW of 2·d by
+// 64·r: red 91881 = 179·512 + 233, blue 116130 = 226·512 + 418, green
+// −22554 = −45·512 + 486 (from Cb) and −46802 = −92·512 + 302 (from Cr).
+DATA zero16<>+0(SB)/8, $0
+DATA zero16<>+8(SB)/8, $0
+GLOBL zero16<>(SB), (NOPTR+RODATA), $16
+DATA w128<>+0(SB)/8, $0x0080008000800080
+DATA w128<>+8(SB)/8, $0x0080008000800080
+GLOBL w128<>(SB), (NOPTR+RODATA), $16
+DATA rq<>+0(SB)/8, $0x00b300b300b300b3
+DATA rq<>+8(SB)/8, $0x00b300b300b300b3
+GLOBL rq<>(SB), (NOPTR+RODATA), $16
+DATA rr<>+0(SB)/8, $0x3a403a403a403a40
+DATA rr<>+8(SB)/8, $0x3a403a403a403a40
+GLOBL rr<>(SB), (NOPTR+RODATA), $16
+DATA bq<>+0(SB)/8, $0x00e200e200e200e2
+DATA bq<>+8(SB)/8, $0x00e200e200e200e2
+GLOBL bq<>(SB), (NOPTR+RODATA), $16
+DATA br<>+0(SB)/8, $0x6880688068806880
+DATA br<>+8(SB)/8, $0x6880688068806880
+GLOBL br<>(SB), (NOPTR+RODATA), $16
+DATA gbq<>+0(SB)/8, $0xffd3ffd3ffd3ffd3
+DATA gbq<>+8(SB)/8, $0xffd3ffd3ffd3ffd3
+GLOBL gbq<>(SB), (NOPTR+RODATA), $16
+DATA gbr<>+0(SB)/8, $0x7980798079807980
+DATA gbr<>+8(SB)/8, $0x7980798079807980
+GLOBL gbr<>(SB), (NOPTR+RODATA), $16
+DATA grq<>+0(SB)/8, $0xffa4ffa4ffa4ffa4
+DATA grq<>+8(SB)/8, $0xffa4ffa4ffa4ffa4
+GLOBL grq<>(SB), (NOPTR+RODATA), $16
+DATA grr<>+0(SB)/8, $0x4b804b804b804b80
+DATA grr<>+8(SB)/8, $0x4b804b804b804b80
+GLOBL grr<>(SB), (NOPTR+RODATA), $16
+DATA lim<>+0(SB)/8, $0x3fff3fff3fff3fff
+DATA lim<>+8(SB)/8, $0x3fff3fff3fff3fff
+GLOBL lim<>(SB), (NOPTR+RODATA), $16
+DATA neglim<>+0(SB)/8, $0xc001c001c001c001
+DATA neglim<>+8(SB)/8, $0xc001c001c001c001
+GLOBL neglim<>(SB), (NOPTR+RODATA), $16
+
+// SEP writes eight separated values (coefficient pairs RG and B, constant
+// A) of the channel pairs in X4, X1 ((red, green), lanes 0–3 and 4–7) and
+// X5, X3 ((blue, 0)) to OUT: (A − Σ k·channel) >> 17, clamped to
+// ±pairLimit. It uses X0, X2, X6.
+#define SEP(RG, B, A, OUT) \
+	MOVO     X4, X6 \
+	PMADDWL  RG, X6 \
+	MOVO     X5, X0 \
+	PMADDWL  B, X0 \
+	PADDL    X6, X0 \
+	MOVO     A, X6 \
+	PSUBL    X0, X6 \
+	PSRAL    $17, X6 \
+	MOVO     X1, X0 \
+	PMADDWL  RG, X0 \
+	MOVO     X3, X2 \
+	PMADDWL  B, X2 \
+	PADDL    X2, X0 \
+	MOVO     A, X2 \
+	PSUBL    X0, X2 \
+	PSRAL    $17, X2 \
+	PACKSSLW X2, X6 \
+	PMINSW   lim<>(SB), X6 \
+	PMAXSW   neglim<>(SB), X6 \
+	MOVOU    X6, (OUT)
+
+// FILL8 separates the eight pixels at SI (luma), BX and DX (their four
+// Cb and Cr samples) into DI (ink) and R10 (grid) with the segment's
+// constants in X7–X15; it uses AX and X0–X6.
+#define FILL8 \
+	MOVQ      (SI), X0 \
+	PUNPCKLBW zero16<>(SB), X0 \
+	PSLLW     $7, X0 \
+	MOVL      (BX), AX \
+	MOVQ      AX, X1 \
+	PUNPCKLBW zero16<>(SB), X1 \
+	PSUBW     w128<>(SB), X1 \
+	PUNPCKLWL X1, X1 \
+	MOVL      (DX), AX \
+	MOVQ      AX, X2 \
+	PUNPCKLBW zero16<>(SB), X2 \
+	PSUBW     w128<>(SB), X2 \
+	PUNPCKLWL X2, X2 \
+	MOVO      X2, X3 \
+	PMULLW    rq<>(SB), X3 \
+	MOVO      X2, X4 \
+	PADDW     X4, X4 \
+	PMULHW    rr<>(SB), X4 \
+	PADDW     X4, X3 \
+	MOVO      X1, X4 \
+	PMULLW    bq<>(SB), X4 \
+	MOVO      X1, X5 \
+	PADDW     X5, X5 \
+	PMULHW    br<>(SB), X5 \
+	PADDW     X5, X4 \
+	MOVO      X1, X5 \
+	PMULLW    gbq<>(SB), X5 \
+	PADDW     X1, X1 \
+	PMULHW    gbr<>(SB), X1 \
+	PADDW     X1, X5 \
+	MOVO      X2, X6 \
+	PMULLW    grq<>(SB), X6 \
+	PADDW     X6, X5 \
+	PADDW     X2, X2 \
+	PMULHW    grr<>(SB), X2 \
+	PADDW     X2, X5 \
+	MOVO      X0, X1 \
+	PADDSW    X3, X1 \
+	PMAXSW    zero16<>(SB), X1 \
+	PMINSW    X11, X1 \
+	MOVO      X0, X2 \
+	PADDSW    X5, X2 \
+	PMAXSW    zero16<>(SB), X2 \
+	PMINSW    X12, X2 \
+	MOVO      X0, X3 \
+	PADDSW    X4, X3 \
+	PMAXSW    zero16<>(SB), X3 \
+	PMINSW    X13, X3 \
+	MOVO      X1, X4 \
+	PUNPCKLWL X2, X4 \
+	PUNPCKHWL X2, X1 \
+	MOVO      X3, X5 \
+	PUNPCKLWL zero16<>(SB), X5 \
+	PUNPCKHWL zero16<>(SB), X3 \
+	SEP(X7, X8, X14, DI) \
+	SEP(X9, X10, X15, R10)
+
+// func fillYCbCrSIMD(di, dg []int16, y, cb, cr []uint8, segs []ycbcrLanes, aInk, aGrid int32)
+//
+// R8 the segment's constants (ycbcrLanes: inkRG 0, inkB 4, gridRG 8,
+// gridB 12, top 16/20/24; 32 bytes), CX segments left, R9 blocks left in
+// the segment.
+TEXT ·fillYCbCrSIMD(SB), NOSPLIT, $0-152
+	MOVQ   di_base+0(FP), DI
+	MOVQ   dg_base+24(FP), R10
+	MOVQ   y_base+48(FP), SI
+	MOVQ   cb_base+72(FP), BX
+	MOVQ   cr_base+96(FP), DX
+	MOVQ   segs_base+120(FP), R8
+	MOVQ   segs_len+128(FP), CX
+	MOVL   aInk+144(FP), AX
+	MOVQ   AX, X14
+	PSHUFL $0, X14, X14
+	MOVL   aGrid+148(FP), AX
+	MOVQ   AX, X15
+	PSHUFL $0, X15, X15
+	TESTQ  CX, CX
+	JZ     doneFill
+
+segFill:
+	MOVL   0(R8), AX
+	MOVQ   AX, X7
+	PSHUFL $0, X7, X7
+	MOVL   4(R8), AX
+	MOVQ   AX, X8
+	PSHUFL $0, X8, X8
+	MOVL   8(R8), AX
+	MOVQ   AX, X9
+	PSHUFL $0, X9, X9
+	MOVL   12(R8), AX
+	MOVQ   AX, X10
+	PSHUFL $0, X10, X10
+	MOVL   16(R8), AX
+	MOVQ   AX, X11
+	PSHUFL $0, X11, X11
+	MOVL   20(R8), AX
+	MOVQ   AX, X12
+	PSHUFL $0, X12, X12
+	MOVL   24(R8), AX
+	MOVQ   AX, X13
+	PSHUFL $0, X13, X13
+	MOVQ   $4, R9
+
+blockFill:
+	FILL8
+	ADDQ $8, SI
+	ADDQ $4, BX
+	ADDQ $4, DX
+	ADDQ $16, DI
+	ADDQ $16, R10
+	DECQ R9
+	JNZ  blockFill
+	ADDQ $32, R8
+	DECQ CX
+	JNZ  segFill
+
+doneFill:
+	RET

@@ -11,3 +11,7 @@ func lerpU8SIMD(dst []uint8, p, q []int16, lanes *[8]uint32, inc uint32) { panic
 func lerp2U8SIMD(a, b []uint8, pi, qi, pg, qg *int16, frac uint32, st *lerpSteps) {
 	panic("unreachable")
 }
+
+func fillYCbCrSIMD(di, dg []int16, y, cb, cr []uint8, segs []ycbcrLanes, aInk, aGrid int32) {
+	panic("unreachable")
+}

@@ -4,6 +4,7 @@ import (
 	"math/rand/v2"
 	"slices"
 	"testing"
+	"unsafe"
 )
 
 // TestLerpMatchesGo holds the vector kernels to the Go arithmetic bit for
@@ -92,5 +93,92 @@ func TestLerpEndpoints(t *testing.T) {
 		if b[j] != want[j] {
 			t.Errorf("clipped pixel %d = %d, want %d", j, b[j], want[j])
 		}
+	}
+}
+
+// TestFillYCbCrMatchesGo holds the vector separation of Y′CbCr rows to
+// ycbcrSeg.fill bit for bit: random planes (including the extremes 0 and
+// 255 of every plane), random separators of both signs and random gains,
+// several segments a row, each with its own constants.
+func TestFillYCbCrMatchesGo(t *testing.T) {
+	if !haveLerpSIMD {
+		t.Skip("no vector kernels on this architecture")
+	}
+	if unsafe.Sizeof(ycbcrLanes{}) != 32 || unsafe.Offsetof(ycbcrLanes{}.gridB) != 12 || unsafe.Offsetof(ycbcrLanes{}.top) != 16 {
+		t.Fatalf("ycbcrLanes layout changed: update the offsets in lerp_amd64.s")
+	}
+	rng := rand.New(rand.NewPCG(11, 11))
+	pick := func() uint8 {
+		switch rng.IntN(8) {
+		case 0:
+			return 0
+		case 1:
+			return 255
+		}
+		return uint8(rng.IntN(256))
+	}
+	for trial := 0; trial < 200; trial++ {
+		nseg := 1 + rng.IntN(4)
+		n := nseg * ycbcrSegment
+		y, cb, cr := make([]uint8, n), make([]uint8, n/2), make([]uint8, n/2)
+		for i := range y {
+			y[i] = pick()
+		}
+		for i := range cb {
+			cb[i], cr[i] = pick(), pick()
+		}
+		segs, lanes := make([]ycbcrSeg, nseg), make([]ycbcrLanes, nseg)
+		var f0 sepFixed
+		for k := range segs {
+			var f sepFixed
+			for j := 0; j < 3; j++ {
+				f.kb[j] = int32(rng.IntN(6001) - 3000)
+				f.ka[j] = int32(rng.IntN(6001) - 3000)
+			}
+			f.off = int32(rng.IntN(101) - 50)
+			g := [3]float64{0.8 + 0.6*rng.Float64(), 0.8 + 0.6*rng.Float64(), 0.8 + 0.6*rng.Float64()}
+			if k == 0 {
+				f0 = f
+			}
+			// One separator a row (its constant parts are the row's);
+			// the gains change from segment to segment.
+			f.kb, f.ka, f.off = f0.kb, f0.ka, f0.off
+			segs[k].set(&f, g, ycbcrConstants(&f0))
+			lanes[k].set(&segs[k])
+		}
+		gi, gg := make([]int16, n), make([]int16, n)
+		a := ycbcrConstants(&f0)
+		fillYCbCrSIMD(gi, gg, y, cb, cr, lanes, int32(a[0]), int32(a[1]))
+		wi, wg := make([]int16, n), make([]int16, n)
+		for k := range segs {
+			xs := k * ycbcrSegment
+			segs[k].fill(wi[xs:xs+ycbcrSegment], wg[xs:xs+ycbcrSegment], y[xs:xs+ycbcrSegment], cb[xs/2:], cr[xs/2:])
+		}
+		for x := range gi {
+			if gi[x] != wi[x] || gg[x] != wg[x] {
+				t.Fatalf("trial %d pixel %d (Y %d Cb %d Cr %d): ink %d grid %d, want %d %d",
+					trial, x, y[x], cb[x/2], cr[x/2], gi[x], gg[x], wi[x], wg[x])
+			}
+		}
+	}
+}
+
+// TestYCbCrFitsRefusesOverflow: rows whose sums could leave the 32-bit
+// lanes are refused, so that they are computed in 64 bits.
+func TestYCbCrFitsRefusesOverflow(t *testing.T) {
+	gains := func(g float64) gainScratch {
+		return gainScratch{{1, g, 1}, {1, 1, 1}, {g, 1, 1}}
+	}
+	f := sepFixed{kb: [3]int32{3000, -2000, 1000}, ka: [3]int32{-1500, 2500, -1000}}
+	if !ycbcrFits(&f, ycbcrConstants(&f), gains(1.3)) {
+		t.Errorf("ordinary coefficients refused")
+	}
+	f.kb[0] = 30000 // within 16 bits, but not with a gain of 1.3
+	if ycbcrFits(&f, ycbcrConstants(&f), gains(1.3)) {
+		t.Errorf("a coefficient beyond 16 bits with its gain accepted")
+	}
+	f.kb = [3]int32{20000, 20000, 20000} // 16 bits each, but the sum overflows
+	if ycbcrFits(&f, ycbcrConstants(&f), gains(1)) {
+		t.Errorf("coefficients whose sum overflows 32 bits accepted")
 	}
 }

@@ -30,12 +30,13 @@ const pairLimit = 16383
 // linear map values into d (the ink values of the row, then its grid
 // values).
 type pairSource struct {
-	src *source
-	f   *sepFixed
-	bg  *background // in input px
-	row []uint8
-	g   []uint32
-	sc  gainScratch
+	src   *source
+	f     *sepFixed
+	bg    *background // in input px
+	row   []uint8
+	g     []uint32
+	sc    gainScratch
+	lanes []ycbcrLanes // fillYCbCr's vector constants, one per segment
 }
 
 func newPairSource(src *source, f *sepFixed, bg *background) *pairSource {
@@ -217,10 +218,12 @@ const ycbcrSegment = 32
 // pair, each channel clipped to 0..255 and to the level its gain takes to
 // white (255/gain), and the separation applied to the clipped channels
 // with the gains folded into its coefficients, which are constant over a
-// segment. The same sums as fill in finer fixed point: no converted row
-// is written, and three products a pixel are saved. The clipping matters:
-// JPEG ringing beside red grid lines pushes red past 255, which the
-// separation's negative red weight would read as grid.
+// segment (ycbcrSeg). The same sums as fill, without writing a converted
+// row and with three products a pixel saved; the channels are kept to
+// 1/128 of a level, so that a pixel fits 16-bit vector lanes (on amd64
+// the whole segments go to fillYCbCrSIMD, eight pixels a step). The
+// clipping matters: JPEG ringing beside red grid lines pushes red past
+// 255, which the separation's negative red weight would read as grid.
 func (ps *pairSource) fillYCbCr(d []int16, y int) {
 	m := ps.src.ycc
 	w := ps.src.w
@@ -233,17 +236,23 @@ func (ps *pairSource) fillYCbCr(d []int16, y int) {
 	cw := (w + 1) / 2
 	cbr, crr := m.Cb[c0:c0+cw], m.Cr[c0:c0+cw]
 	di, dg := d[:w], d[w:2*w]
-	// Constant parts, 16 fractional bits more than the coefficients'
-	// 10: Σ k·255 (absorption of black) less the ink offset.
-	var aInk, aGrid int64
-	for j := 0; j < 3; j++ {
-		aInk += 255 * int64(f.kb[j])
-		aGrid += 255 * int64(f.ka[j])
+	nseg := (w + ycbcrSegment - 1) / ycbcrSegment
+	if len(ps.lanes) != nseg {
+		ps.lanes = make([]ycbcrLanes, nseg)
 	}
-	aInk = (aInk - int64(f.off)<<10) << 16
-	aGrid <<= 16
+	a := ycbcrConstants(f)
+	// Whole segments go to fillYCbCrSIMD in one call when every sum of
+	// the row fits the vector lanes (ycbcrFits); the others to
+	// ycbcrSeg.fill.
+	vector := haveLerpSIMD && ycbcrFits(f, a, col)
+	full := 0
+	if vector {
+		full = w / ycbcrSegment
+	}
 	inv := 1 / bg.cell
-	for xs := 0; xs < w; xs += ycbcrSegment {
+	var seg ycbcrSeg
+	for k := range ps.lanes {
+		xs := k * ycbcrSegment
 		xe := min(w, xs+ycbcrSegment)
 		// The gains at the segment's centre (gainRowFixed's
 		// interpolation between block centres).
@@ -254,34 +263,138 @@ func (ps *pairSource) fillYCbCr(d []int16, y int) {
 		}
 		x1 := min(x0+1, bg.nx-1)
 		ax := max(fx, 0) - float64(x0)
-		var kb, ka [3]int64
-		var top [3]int64 // 255/gain in 16.16: the channel level the gain takes to white
-		for j := 0; j < 3; j++ {
-			g := (1-ax)*col[j][x0] + ax*col[j][x1]
-			kb[j] = int64(math.Round(float64(f.kb[j]) * g))
-			ka[j] = int64(math.Round(float64(f.ka[j]) * g))
-			top[j] = min(255<<16, int64(math.Round(255/g*65536)))
+		var g [3]float64
+		for j := range g {
+			g[j] = (1-ax)*col[j][x0] + ax*col[j][x1]
 		}
-		kb0, kb1, kb2, ka0, ka1, ka2 := kb[0], kb[1], kb[2], ka[0], ka[1], ka[2]
-		t0, t1, t2 := top[0], top[1], top[2]
-		px := func(x int, yv uint8, kr, kg, kB int64) {
-			y16 := int64(yv) << 16
-			r := min(max(y16+kr, 0), t0)
-			g := min(max(y16+kg, 0), t1)
-			b := min(max(y16+kB, 0), t2)
-			di[x] = int16(min(max((aInk-kb0*r-kb1*g-kb2*b)>>26, -pairLimit), pairLimit))
-			dg[x] = int16(min(max((aGrid-ka0*r-ka1*g-ka2*b)>>26, -pairLimit), pairLimit))
+		seg.set(f, g, a)
+		if k < full {
+			ps.lanes[k].set(&seg)
+			continue
 		}
-		x := xs
-		for ; x+1 < xe; x += 2 {
-			kr, kg, kB := chromaTerms(cbr[x>>1], crr[x>>1])
-			p := yr[x : x+2 : x+2]
-			px(x, p[0], int64(kr), int64(kg), int64(kB))
-			px(x+1, p[1], int64(kr), int64(kg), int64(kB))
-		}
-		if x < xe {
-			kr, kg, kB := chromaTerms(cbr[x>>1], crr[x>>1])
-			px(x, yr[x], int64(kr), int64(kg), int64(kB))
+		seg.fill(di[xs:xe], dg[xs:xe], yr[xs:xe], cbr[xs/2:], crr[xs/2:])
+	}
+	if full > 0 {
+		n := full * ycbcrSegment
+		fillYCbCrSIMD(di[:n], dg[:n], yr[:n], cbr[:n/2], crr[:n/2], ps.lanes[:full], int32(a[0]), int32(a[1]))
+	}
+}
+
+// ycbcrFits reports whether every segment's sums in a row with the block
+// gains col fit fillYCbCrSIMD's 32-bit lanes: each coefficient with its
+// gain (at most the row's largest, rounded) within 16 bits, and the
+// constant part plus the largest products of the 16-bit channels (at
+// most 255·128) within 32 bits. Always, for the separators this package
+// estimates (coefficients of a few thousand, gains near 1); otherwise the
+// row is computed by ycbcrSeg.fill, whose sums are 64-bit.
+func ycbcrFits(f *sepFixed, a [2]int64, col gainScratch) bool {
+	var gmax [3]float64
+	for j := range gmax {
+		for _, v := range col[j] {
+			gmax[j] = max(gmax[j], v)
 		}
 	}
+	for c, k := range [2][3]int32{f.kb, f.ka} {
+		m := float64(abs64(a[c]))
+		for j, v := range k {
+			kk := math.Abs(float64(v))*gmax[j] + 1
+			if kk > math.MaxInt16 {
+				return false
+			}
+			m += 255 << 7 * kk
+		}
+		if m > math.MaxInt32 {
+			return false
+		}
+	}
+	return true
+}
+
+// ycbcrConstants returns the constant parts of fillYCbCr's ink and grid
+// sums (17 fractional bits): Σ 255·k, the absorption of black, less the
+// ink offset.
+func ycbcrConstants(f *sepFixed) [2]int64 {
+	var a [2]int64
+	for j := 0; j < 3; j++ {
+		a[0] += 255 * int64(f.kb[j])
+		a[1] += 255 * int64(f.ka[j])
+	}
+	a[0] = (a[0] - int64(f.off)<<10) << 7
+	a[1] <<= 7
+	return a
+}
+
+// ycbcrSeg holds a segment's constants for fillYCbCr: the ink and grid
+// coefficients with the gains folded in (10 fractional bits), the
+// constant parts (ycbcrConstants) and each channel's clipping level, the
+// level its gain takes to white (7 fractional bits).
+type ycbcrSeg struct {
+	k   [2][3]int64 // ink, grid
+	a   [2]int64
+	top [3]int32
+}
+
+func (s *ycbcrSeg) set(f *sepFixed, g [3]float64, a [2]int64) {
+	s.a = a
+	for j := 0; j < 3; j++ {
+		s.k[0][j] = roundHalfAway(float64(f.kb[j]) * g[j])
+		s.k[1][j] = roundHalfAway(float64(f.ka[j]) * g[j])
+		s.top[j] = int32(min(255<<7, roundHalfAway(255<<7/g[j])))
+	}
+}
+
+// roundHalfAway is math.Round for the moderate values of the separation's
+// coefficients, without its branches on special values.
+func roundHalfAway(v float64) int64 {
+	if v < 0 {
+		return -int64(0.5 - v)
+	}
+	return int64(v + 0.5)
+}
+
+// fill separates the segment's pixels (y: their luma, cb and cr: their
+// chroma samples, one per pixel pair, the first for y[0]) into di and dg.
+// The chroma terms are the JFIF conversion's in 1/128 of a level, each
+// product floored, and the channels are clipped in the same units.
+func (s *ycbcrSeg) fill(di, dg []int16, y, cb, cr []uint8) {
+	di, dg = di[:len(y)], dg[:len(y)]
+	t0, t1, t2 := s.top[0], s.top[1], s.top[2]
+	ki, kg, ai, ag := s.k[0], s.k[1], s.a[0], s.a[1]
+	for x := range y {
+		cb1, cr1 := int32(cb[x>>1])-128, int32(cr[x>>1])-128
+		y7 := int32(y[x]) << 7
+		r := int64(min(max(y7+(91881*cr1)>>9, 0), t0))
+		g := int64(min(max(y7+(-22554*cb1)>>9+(-46802*cr1)>>9, 0), t1))
+		b := int64(min(max(y7+(116130*cb1)>>9, 0), t2))
+		di[x] = int16(min(max((ai-ki[0]*r-ki[1]*g-ki[2]*b)>>17, -pairLimit), pairLimit))
+		dg[x] = int16(min(max((ag-kg[0]*r-kg[1]*g-kg[2]*b)>>17, -pairLimit), pairLimit))
+	}
+}
+
+// ycbcrLanes is a segment's constants as fillYCbCrSIMD reads them
+// (offsets fixed in lerp_amd64.s), two 16-bit values to a word, which it
+// copies into every lane: the ink and grid coefficients as (red, green)
+// and (blue, 0), and each channel's clipping level twice.
+type ycbcrLanes struct {
+	inkRG, inkB, gridRG, gridB uint32
+	top                        [3]uint32
+	_                          uint32
+}
+
+// set fills l from s, whose sums fit the lanes (ycbcrFits).
+func (l *ycbcrLanes) set(s *ycbcrSeg) {
+	l.inkRG = uint32(uint16(s.k[0][0])) | uint32(uint16(s.k[0][1]))<<16
+	l.inkB = uint32(uint16(s.k[0][2]))
+	l.gridRG = uint32(uint16(s.k[1][0])) | uint32(uint16(s.k[1][1]))<<16
+	l.gridB = uint32(uint16(s.k[1][2]))
+	for j, t := range s.top {
+		l.top[j] = uint32(uint16(t)) * 0x10001
+	}
+}
+
+func abs64(v int64) int64 {
+	if v < 0 {
+		return -v
+	}
+	return v
 }
