@@ -4,15 +4,12 @@ package imageproc
 
 const haveLerpSIMD = true
 
-// lerpI16SIMD and lerpU8SIMD are lerpI16Go and lerpU8Go for len(dst) a
-// multiple of 8 (p and q at least as long), the fractions of the first
-// eight pixels in lanes, inc = 8·step (lerp_amd64.s).
+// lerpI16SIMD is lerpI16Go for len(dst) a multiple of 8 (p and q at
+// least as long), the fractions of the first eight pixels in lanes, inc =
+// 8·step (lerp_amd64.s).
 //
 //go:noescape
 func lerpI16SIMD(dst, p, q []int16, lanes *[8]uint32, inc uint32)
-
-//go:noescape
-func lerpU8SIMD(dst []uint8, p, q []int16, lanes *[8]uint32, inc uint32)
 
 // lerp2U8SIMD is lerp2U8 for len(a) ≥ 8; b and the four rows hold at
 // least len(a) values.

@@ -5,7 +5,7 @@
 // Eight pixels a step, SSE2 only. Per pixel j: f = ((frac_j >> 1) + 2^22)
 // >> 23 (lerpWeight), then (p·(256 − f) + q·f + 128) >> 8 by PMADDWL on
 // interleaved (p, q) and (256 − f, f) words, packed to int16 (and for
-// U8 to bytes with unsigned saturation, which is clip8).
+// bytes with unsigned saturation, which is clip8).
 //
 // Registers: DI dst, SI p, DX q, CX blocks of 8; X0, X1 the fractions of
 // lanes 0–3 and 4–7; X2 inc in every lane; X3 2^22; X4 256 in every
@@ -79,23 +79,6 @@ loopI16:
 	JNZ   loopI16
 
 doneI16:
-	RET
-
-// func lerpU8SIMD(dst []uint8, p, q []int16, lanes *[8]uint32, inc uint32)
-TEXT ·lerpU8SIMD(SB), NOSPLIT, $0-84
-	SETUP
-	TESTQ CX, CX
-	JZ    doneU8
-
-loopU8:
-	BLOCK
-	PACKUSWB X11, X11
-	MOVQ     X11, (DI)
-	ADDQ     $8, DI
-	DECQ     CX
-	JNZ      loopU8
-
-doneU8:
 	RET
 
 // LERP8 interpolates eight int16 pairs at (P) and (Q) with the weight
@@ -255,27 +238,24 @@ DATA neglim<>+0(SB)/8, $0xc001c001c001c001
 DATA neglim<>+8(SB)/8, $0xc001c001c001c001
 GLOBL neglim<>(SB), (NOPTR+RODATA), $16
 
-// SEP writes eight separated values (coefficient pairs RG and B, constant
+// SEP4 leaves four separated values (int32) in DST; SEP writes eight
+// separated values (coefficient pairs RG and B, constant
 // A) of the channel pairs in X4, X1 ((red, green), lanes 0–3 and 4–7) and
 // X5, X3 ((blue, 0)) to OUT: (A − Σ k·channel) >> 17, clamped to
 // ±pairLimit. It uses X0, X2, X6.
+#define SEP4(RGP, BP, RG, B, A, DST) \
+	MOVO    RGP, DST \
+	PMADDWL RG, DST \
+	MOVO    BP, X0 \
+	PMADDWL B, X0 \
+	PADDL   DST, X0 \
+	MOVO    A, DST \
+	PSUBL   X0, DST \
+	PSRAL   $17, DST
+
 #define SEP(RG, B, A, OUT) \
-	MOVO     X4, X6 \
-	PMADDWL  RG, X6 \
-	MOVO     X5, X0 \
-	PMADDWL  B, X0 \
-	PADDL    X6, X0 \
-	MOVO     A, X6 \
-	PSUBL    X0, X6 \
-	PSRAL    $17, X6 \
-	MOVO     X1, X0 \
-	PMADDWL  RG, X0 \
-	MOVO     X3, X2 \
-	PMADDWL  B, X2 \
-	PADDL    X2, X0 \
-	MOVO     A, X2 \
-	PSUBL    X0, X2 \
-	PSRAL    $17, X2 \
+	SEP4(X4, X5, RG, B, A, X6) \
+	SEP4(X1, X3, RG, B, A, X2) \
 	PACKSSLW X2, X6 \
 	PMINSW   lim<>(SB), X6 \
 	PMAXSW   neglim<>(SB), X6 \

@@ -6,8 +6,6 @@ const haveLerpSIMD = false
 
 func lerpI16SIMD(dst, p, q []int16, lanes *[8]uint32, inc uint32) { panic("unreachable") }
 
-func lerpU8SIMD(dst []uint8, p, q []int16, lanes *[8]uint32, inc uint32) { panic("unreachable") }
-
 func lerp2U8SIMD(a, b []uint8, pi, qi, pg, qg *int16, frac uint32, st *lerpSteps) {
 	panic("unreachable")
 }

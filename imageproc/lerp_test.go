@@ -31,8 +31,7 @@ func TestLerpMatchesGo(t *testing.T) {
 			gotI, wantI := make([]int16, n), make([]int16, n)
 			lerpI16(gotI, p, q, frac, step)
 			lerpI16Go(wantI, p, q, frac, step)
-			gotU, wantU := make([]uint8, n), make([]uint8, n)
-			lerpU8(gotU, p, q, frac, step)
+			wantU := make([]uint8, n)
 			lerpU8Go(wantU, p, q, frac, step)
 			// Two planes with one set of weights: the second plane is
 			// the first one's rows backwards, read from offset 1.
@@ -44,9 +43,9 @@ func TestLerpMatchesGo(t *testing.T) {
 			lerp2U8(got2a, got2b, p, q, rp, rq, frac, &st)
 			lerpU8Go(want2b, rp, rq, frac, step)
 			for j := 0; j < n; j++ {
-				if gotI[j] != wantI[j] || gotU[j] != wantU[j] || got2a[j] != wantU[j] || got2b[j] != want2b[j] {
-					t.Fatalf("n=%d frac=%#x step=%#x pixel %d: int16 %d want %d, byte %d want %d, two planes %d, %d want %d, %d",
-						n, frac, step, j, gotI[j], wantI[j], gotU[j], wantU[j], got2a[j], got2b[j], wantU[j], want2b[j])
+				if gotI[j] != wantI[j] || got2a[j] != wantU[j] || got2b[j] != want2b[j] {
+					t.Fatalf("n=%d frac=%#x step=%#x pixel %d: int16 %d want %d, bytes %d, %d want %d, %d",
+						n, frac, step, j, gotI[j], wantI[j], got2a[j], got2b[j], wantU[j], want2b[j])
 				}
 			}
 		}
@@ -86,8 +85,9 @@ func TestLerpEndpoints(t *testing.T) {
 			t.Errorf("weight 256: pixel %d = %d, want %d", j, got[j], q[j])
 		}
 	}
-	b := make([]uint8, 8)
-	lerpU8(b, p, q, 0, 0)
+	b, c := make([]uint8, 8), make([]uint8, 8)
+	st := newLerpSteps(0)
+	lerp2U8(b, c, p, q, q, p, 0, &st)
 	want := []uint8{0, 0, 17, 255, 255, 255, 0, 128}
 	for j := range want {
 		if b[j] != want[j] {
@@ -180,5 +180,31 @@ func TestYCbCrFitsRefusesOverflow(t *testing.T) {
 	f.kb = [3]int32{20000, 20000, 20000} // 16 bits each, but the sum overflows
 	if ycbcrFits(&f, ycbcrConstants(&f), gains(1)) {
 		t.Errorf("coefficients whose sum overflows 32 bits accepted")
+	}
+}
+
+// TestRunLength: the pixels of a run share their point's integer part and
+// the next pixel's differs, for steps of both signs, whole-pixel steps and
+// none.
+func TestRunLength(t *testing.T) {
+	rng := rand.New(rand.NewPCG(3, 3))
+	steps := []int64{0, 1 << 32, -1 << 32, 1<<32 + 12345, 1<<32 - 98765}
+	for i := 0; i < 2000; i++ {
+		steps = append(steps, rng.Int64N(1<<31)-1<<30)
+	}
+	for _, step := range steps {
+		v := rng.Int64N(1<<44) - 1<<43
+		n := runLength(v, step, 500)
+		if n < 1 || n > 500 {
+			t.Fatalf("v %#x step %d: run %d", v, step, n)
+		}
+		for j := 0; j < n; j++ {
+			if (v+int64(j)*step)>>32 != v>>32 {
+				t.Fatalf("v %#x step %d: pixel %d of a run of %d leaves the pixel", v, step, j, n)
+			}
+		}
+		if n < 500 && (v+int64(n)*step)>>32 == v>>32 {
+			t.Fatalf("v %#x step %d: the run of %d stops early", v, step, n)
+		}
 	}
 }

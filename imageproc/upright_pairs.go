@@ -153,13 +153,7 @@ func shearPairRow(d, row []int16, sx, step int64, paper [2]int16) {
 		for x := xa; x < xb; {
 			e := sx + int64(x)*step - int64(x)<<32 // x's source point less x
 			k := int(e >> 32)
-			n := xb - x
-			switch {
-			case de > 0:
-				n = int(min(int64(n), (int64(k+1)<<32-e+de-1)/de))
-			case de < 0:
-				n = int(min(int64(n), (e-int64(k)<<32)/-de+1))
-			}
+			n := runLength(e, de, xb-x)
 			lerpI16(dst[x:x+n], src[x+k:x+k+n], src[x+k+1:x+k+1+n], uint32(e), uint32(step))
 			x += n
 		}
@@ -188,13 +182,7 @@ func sampleShearedRow(a, b []uint8, sp []int16, ss, sh, lo int, sv, step int64, 
 	}
 	for x := 0; x < w; {
 		r := int(sv >> 32)
-		n := w - x
-		switch {
-		case step > 0:
-			n = int(min(int64(n), (int64(r+1)<<32-sv+step-1)/step))
-		case step < 0:
-			n = int(min(int64(n), (sv-int64(r)<<32)/-step+1))
-		}
+		n := runLength(sv, step, w-x)
 		r0, r1 := rowAt(r), rowAt(r+1)
 		lerp2U8(a[x:x+n], b[x:x+n], r0[x:x+n], r1[x:x+n], r0[w+x:w+x+n], r1[w+x:w+x+n], uint32(sv), &st)
 		sv += int64(n) * step
