@@ -425,7 +425,8 @@ func Extract(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse, opt *Op
 		// path also runs on, past half-way to that row, unless re-read,
 		// and the 0 mV level a path kept through a mass of merged strokes
 		// (swap_buried.go), and a limb lead's stretch pointing against
-		// the heart vector the other limb leads agree on (swap_dissent.go).
+		// the heart vector the other limb leads agree on (swap_dissent.go)
+		// or, with three limb leads, the one the ink blames (swap_triple.go).
 		keep := make([][]float64, len(vs))
 		for i, v := range vs {
 			keep[i] = slices.Clone(v)
@@ -433,7 +434,8 @@ func Extract(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse, opt *Op
 		w := guideLimb(ink, cal, o.SampleRate, ps, vs, xs, defaultLimbGuide)
 		w = append(w, withholdShared(cal, o.SampleRate, ps, vs, keep, xs, defaultSelfCheck)...)
 		w = append(w, withholdBuried(ink, cal, o.SampleRate, ps, vs, keep, xs, defaultBuried)...)
-		if w = append(w, withholdDissent(cal, o.SampleRate, ps, vs, keep, defaultDissent)...); len(w) > 0 {
+		w = append(w, withholdDissent(cal, o.SampleRate, ps, vs, keep, defaultDissent)...)
+		if w = append(w, withholdTriple(ink, cal, o.SampleRate, ps, vs, keep, xs, defaultTriple)...); len(w) > 0 {
 			for i := range all {
 				if flip[i] && vs[i] != nil {
 					for k, v := range vs[i] {

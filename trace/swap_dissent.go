@@ -80,47 +80,11 @@ func withholdDissent(cal grid.Calibration, fs float64, panels []*Panel, vals, ke
 	}
 	mmPerMV := cal.GainMMPerMV.V
 	inTol, offTh, minPred, wide := p.inTolMM/mmPerMV, p.offMM/mmPerMV, p.minPred/mmPerMV, p.wideMM/mmPerMV
-	li := map[ecg.Lead]int{}
-	for k, l := range ecg.LimbLeads {
-		li[l] = k
-	}
-	// Per limb lead the best copy's samples (as Extract's record is
-	// built), each lead's median removed.
-	order := make([]int, 0, len(panels))
-	for k, pn := range panels {
-		if _, ok := li[pn.Lead]; ok && pn.Quality >= minQuality && len(vals[k]) == n {
-			order = append(order, k)
-		}
-	}
-	if len(order) < 3 {
+	ls := newLimbSet(panels, vals, n)
+	if ls == nil {
 		return nil
 	}
-	sort.SliceStable(order, func(a, b int) bool { return panels[order[a]].Quality > panels[order[b]].Quality })
-	var a [nl][]float64
-	for l := range nl {
-		a[l] = make([]float64, n)
-		for i := range a[l] {
-			a[l][i] = math.NaN()
-		}
-	}
-	for _, k := range order {
-		l := li[panels[k].Lead]
-		for i, v := range vals[k] {
-			if math.IsNaN(a[l][i]) {
-				a[l][i] = v
-			}
-		}
-	}
-	var off [nl]float64
-	for l := range nl {
-		off[l] = nanMedian(a[l])
-		if math.IsNaN(off[l]) {
-			off[l] = 0
-		}
-		for i := range a[l] {
-			a[l][i] -= off[l]
-		}
-	}
+	a, off, order, li := &ls.a, &ls.off, ls.order, ls.li
 	var coef [nl][2]float64
 	for k, l := range ecg.LimbLeads {
 		coef[k][0], coef[k][1], _ = ecg.FrontalCoefficients(l)
@@ -143,14 +107,10 @@ func withholdDissent(cal grid.Calibration, fs float64, panels []*Panel, vals, ke
 		}
 	}
 	gap := int(math.Round(p.gapS * fs))
-	pad := int(math.Round(p.padS * fs))
 	minLen := int(math.Round(p.minS * fs))
-	var warns []string
 	// The stretches each copy dissents over, widened while it departs
 	// from the fit by more than wide.
-	type stretch struct{ s0, s1 int }
 	dissent := make([][]stretch, len(panels))
-	var all []stretch
 	mark := make([]bool, n)
 	for _, k := range order {
 		l := li[panels[k].Lead]
@@ -172,14 +132,90 @@ func withholdDissent(cal grid.Calibration, fs float64, panels []*Panel, vals, ke
 				s1++
 			}
 			dissent[k] = append(dissent[k], stretch{s0, s1})
-			all = append(all, stretch{s0, s1})
 		}
 	}
-	// Beats: the stretches of all leads joined within beatS. A copy's
-	// stretches are withheld only when they come back at a share minBeats
-	// of them at least: a path on another row's stroke takes it at every
-	// beat, while a lead whose own complex happens to fit a vector of
-	// leads read badly at one beat does not.
+	return withholdRepeated(fs, panels, vals, keep, order, dissent, p,
+		"where it points against the heart vector the other limb leads agree on")
+}
+
+// limbSet holds the limb leads' samples on the record grid: per lead
+// (ecg.LimbLeads order) the best copy's value (as Extract's record is
+// built; NaN where none) less the lead's median, off, and the panel it
+// came from (src, −1 where none).
+type limbSet struct {
+	a     [6][]float64
+	src   [6][]int32
+	off   [6]float64
+	order []int // the limb-lead panels taking part, best quality first
+	li    map[ecg.Lead]int
+}
+
+// newLimbSet collects the limb-lead panels' samples (vals[k], n samples
+// each); nil with fewer than three such panels.
+func newLimbSet(panels []*Panel, vals [][]float64, n int) *limbSet {
+	const nl = 6
+	ls := &limbSet{li: map[ecg.Lead]int{}}
+	for k, l := range ecg.LimbLeads {
+		ls.li[l] = k
+	}
+	for k, pn := range panels {
+		if _, ok := ls.li[pn.Lead]; ok && pn.Quality >= minQuality && len(vals[k]) == n {
+			ls.order = append(ls.order, k)
+		}
+	}
+	if len(ls.order) < 3 {
+		return nil
+	}
+	sort.SliceStable(ls.order, func(a, b int) bool { return panels[ls.order[a]].Quality > panels[ls.order[b]].Quality })
+	for l := range nl {
+		ls.a[l], ls.src[l] = make([]float64, n), make([]int32, n)
+		for i := range n {
+			ls.a[l][i], ls.src[l][i] = math.NaN(), -1
+		}
+	}
+	for _, k := range ls.order {
+		l := ls.li[panels[k].Lead]
+		for i, v := range vals[k] {
+			if math.IsNaN(ls.a[l][i]) && !math.IsNaN(v) {
+				ls.a[l][i], ls.src[l][i] = v, int32(k)
+			}
+		}
+	}
+	for l := range nl {
+		ls.off[l] = nanMedian(ls.a[l])
+		if math.IsNaN(ls.off[l]) {
+			ls.off[l] = 0
+		}
+		for i := range ls.a[l] {
+			ls.a[l][i] -= ls.off[l]
+		}
+	}
+	return ls
+}
+
+// stretch is a span of samples, first and last included.
+type stretch struct{ s0, s1 int }
+
+// withholdRepeated withholds (NaN, except where vals[k] differs from
+// keep[k], keep not nil) the stretches of each panel k of order in
+// dissent[k], padded by p.padS, when they come at a share p.minBeats of
+// the beats at least (and at p.minRepeat beats): the beats are the
+// stretches of all panels joined within p.beatS. It returns one warning
+// per lead withheld from, ending in why.
+func withholdRepeated(fs float64, panels []*Panel, vals, keep [][]float64, order []int, dissent [][]stretch, p dissentParams, why string) []string {
+	n := 0
+	var all []stretch
+	for _, k := range order {
+		n = max(n, len(vals[k]))
+		all = append(all, dissent[k]...)
+	}
+	if len(all) == 0 {
+		return nil
+	}
+	pad := int(math.Round(p.padS * fs))
+	// A path on another row's stroke takes it at every beat, while a
+	// lead whose own complex happens to fit wrong readings of others
+	// does so at a beat or two.
 	sort.Slice(all, func(x, y int) bool { return all[x].s0 < all[y].s0 })
 	sep := int(math.Round(p.beatS * fs))
 	beatOf := make([]int, n)
@@ -216,7 +252,7 @@ func withholdDissent(cal grid.Calibration, fs float64, panels []*Panel, vals, ke
 			kept = keep[k]
 		}
 		for _, st := range dissent[k] {
-			c, f := withholdSpan(vals[k], kept, max(0, st.s0-pad), min(n-1, st.s1+pad))
+			c, f := withholdSpan(vals[k], kept, max(0, st.s0-pad), min(len(vals[k])-1, st.s1+pad))
 			w := withheld[panels[k].Lead]
 			if c > 0 && (w[0] == 0 || f < w[1]) {
 				w[1] = f
@@ -225,9 +261,10 @@ func withholdDissent(cal grid.Calibration, fs float64, panels []*Panel, vals, ke
 			withheld[panels[k].Lead] = w
 		}
 	}
+	var warns []string
 	for _, l := range ecg.LimbLeads {
 		if w := withheld[l]; w[0] > 0 {
-			warns = append(warns, fmt.Sprintf("lead %v: %.0f ms withheld (from %.2f s) where it points against the heart vector the other limb leads agree on", l, 1000*float64(w[0])/fs, float64(w[1])/fs))
+			warns = append(warns, fmt.Sprintf("lead %v: %.0f ms withheld (from %.2f s) %s", l, 1000*float64(w[0])/fs, float64(w[1])/fs, why))
 		}
 	}
 	return warns
