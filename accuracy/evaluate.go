@@ -42,6 +42,19 @@ func Score(res *pipeline.Result, err error, truth *render.Truth, full *ecg.Recor
 		est = &res.Trace.Record
 	}
 	ScoreSignals(&p, &printed, full, est)
+	if res != nil && res.Trace != nil {
+		// The digitiser's own confidence in each printed lead it
+		// returned, beside its SNR: how well the one predicts the other
+		// is part of what eval measures.
+		p.Quality = make(map[string]F)
+		for name := range p.SNRdB {
+			if l, err := ecg.ParseLead(name); err == nil {
+				if q, ok := res.Trace.Quality[l]; ok {
+					p.Quality[name] = F(q)
+				}
+			}
+		}
+	}
 	if res == nil {
 		return p
 	}

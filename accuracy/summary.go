@@ -22,9 +22,12 @@ type Page struct {
 	Error string `json:"error,omitempty"`
 	// SNRdB and StrictSNRdB give each printed lead's SNR in dB (aligned
 	// and strict Challenge 2024 variants); a lead not returned scores 0.
-	SNRdB        map[string]F `json:"snr_db"`
-	StrictSNRdB  map[string]F `json:"strict_snr_db"`
-	ShiftMS      F            `json:"shift_ms"` // the page's best time shift for the aligned SNR
+	SNRdB       map[string]F `json:"snr_db"`
+	StrictSNRdB map[string]F `json:"strict_snr_db"`
+	ShiftMS     F            `json:"shift_ms"` // the page's best time shift for the aligned SNR
+	// Quality is the digitiser's own 0–1 score of each printed lead it
+	// returned (trace.Result.Quality), to compare with the lead's SNR.
+	Quality      map[string]F `json:"quality,omitempty"`
 	LeadsPrinted int          `json:"leads_printed"`
 	LeadsFound   int          `json:"leads_found"`
 	Swaps        int          `json:"lead_swaps"` // returned leads that match another printed lead better than their own

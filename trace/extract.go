@@ -42,10 +42,14 @@ type Result struct {
 	Calibration grid.Calibration
 	Layout      Layout               // the layout used (detected or given)
 	Panels      []Panel              // one per printed segment
-	Quality     map[ecg.Lead]float64 // per lead, 0..1
-	Limb        ecg.LimbConsistency  // Einthoven/Goldberger residual of the extracted limb leads
-	Flagged     []ecg.Lead           // leads that failed the self-check
-	Warnings    []string
+	Quality     map[ecg.Lead]float64 // per lead, 0..1 (confidence.go)
+	// Crossed gives, per lead, the share (0..1) of its trace's energy
+	// printed where another row's stroke touches it: ink two leads
+	// share, which at most one of them reads right.
+	Crossed  map[ecg.Lead]float64
+	Limb     ecg.LimbConsistency // Einthoven/Goldberger residual of the extracted limb leads
+	Flagged  []ecg.Lead          // leads that failed the self-check
+	Warnings []string
 }
 
 // LeadError reports a lead that could not be extracted.
@@ -454,9 +458,21 @@ func Extract(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse, opt *Op
 		}
 	}
 	res.Warnings = append(res.Warnings, dupWarn...)
+	// The qualities reported: the paths' scores less what other rows'
+	// strokes touch and what was not returned (confidence.go).
+	panels := make([]Panel, len(all))
+	for i, tp := range all {
+		panels[i] = tp.p
+	}
+	contested, total := contestedShares(panels, contestGapMM*cal.PxPerMMY.V, contestFloorMV*cal.GainMMPerMV.V*cal.PxPerMMY.V)
+	res.Crossed = crossedShares(panels, contested, total)
+	qual = leadConfidence(qual, res.Crossed, coveredShares(&rec, panels))
 	res.Record, res.Quality, res.Layout = rec, qual, *lay
-	for _, tp := range all {
+	for i, tp := range all {
 		p := tp.p
+		if total[i] > 0 {
+			p.Quality *= 1 - contested[i]/total[i]
+		}
 		if turned {
 			// Back to the input's coordinates.
 			w, h := ink.Rect.Min.X+ink.Rect.Max.X-1, ink.Rect.Min.Y+ink.Rect.Max.Y-1

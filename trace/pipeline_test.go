@@ -46,6 +46,8 @@ type caseScore struct {
 	swaps           int
 	layout          string
 	err             error
+	quality         map[ecg.Lead]float64 // the digitiser's own scores (trace.Result)
+	crossed         map[ecg.Lead]float64
 }
 
 // scoreCase renders one corpus page, digitises it and scores it against
@@ -80,6 +82,7 @@ func scoreCaseWith(t testing.TB, c accuracy.Case, overlay string, withDPI bool) 
 		return cs
 	}
 	cs.layout = res.Layout.Name
+	cs.quality, cs.crossed = res.Quality, res.Crossed
 	cs.lenient = trace.SNR(printed, res.Record, trace.Lenient)
 	cs.strict = trace.SNR(printed, res.Record, trace.SNROptions{})
 	for _, s := range printed.Signals {

@@ -84,6 +84,11 @@ func pageReport(rec ecg.Record, r *pipeline.Result, layoutGiven bool) *export.Re
 				li.Flags = append(li.Flags, "self_check")
 			}
 		}
+		for _, lead := range t.CrossedLeads() {
+			if li := rep.Lead(lead.String()); li != nil {
+				li.Flags = append(li.Flags, "crossed")
+			}
+		}
 		for _, lead := range ecg.Standard12 {
 			if !hasLead(&t.Record, lead) && layoutPrints(t, lead) {
 				rep.Flags = append(rep.Flags, export.Flag{Code: "lead_missing", Message: "lead " + lead.String() + " is printed on the page but could not be read"})

@@ -14,6 +14,7 @@ import (
 	"math/rand/v2"
 	"os"
 	"path/filepath"
+	"slices"
 	"strings"
 	"sync"
 	"testing"
@@ -22,6 +23,7 @@ import (
 	"github.com/stretchr/testify/assert"
 	"github.com/stretchr/testify/require"
 
+	"tracelift/accuracy"
 	"tracelift/render"
 	"tracelift/synth"
 )
@@ -243,6 +245,48 @@ func TestDigitizeGoodPage(t *testing.T) {
 	assert.Contains(t, rep, "warnings")
 	assert.Contains(t, rep["caution"], "clinicians")
 	assert.Len(t, rep["leads"], 12)
+	// A clean page: no lead's trace touches another row's.
+	for _, l := range rep["leads"].([]any) {
+		li := l.(map[string]any)
+		assert.NotContains(t, li["flags"], "crossed", li["lead"])
+		assert.Greater(t, li["quality"], 0.9, li["lead"])
+	}
+}
+
+// TestDigitizeCrossedFlag: on a page whose rows overlap (the eval's
+// overlap 12 × 1 page: 20 mm/mV, rows 0.85 mV apart) the leads whose
+// strokes other rows' strokes touch carry the flag "crossed" and a
+// quality below 0.9.
+func TestDigitizeCrossedFlag(t *testing.T) {
+	if testing.Short() {
+		t.Skip("renders and digitises a page")
+	}
+	_, page, err := accuracy.RenderCase(accuracy.Case{Condition: "overlap", Layout: "12x1", Seed: 1})
+	require.NoError(t, err)
+	in, out := t.TempDir(), t.TempDir()
+	var buf bytes.Buffer
+	require.NoError(t, page.WritePNG(&buf))
+	f := writeFile(t, in, "tangled.png", buf.Bytes())
+	code, _, stderr := run("digitize", f, "-o", out, "-q")
+	require.Contains(t, []int{ExitOK, ExitPartial}, code, stderr)
+	b, err := os.ReadFile(filepath.Join(out, "tangled.json"))
+	require.NoError(t, err)
+	var rep struct {
+		Leads []struct {
+			Lead    string   `json:"lead"`
+			Quality float64  `json:"quality"`
+			Flags   []string `json:"flags"`
+		} `json:"leads"`
+	}
+	require.NoError(t, json.Unmarshal(b, &rep))
+	crossed := 0
+	for _, l := range rep.Leads {
+		if slices.Contains(l.Flags, "crossed") {
+			crossed++
+			assert.Less(t, l.Quality, 0.9, l.Lead)
+		}
+	}
+	assert.GreaterOrEqual(t, crossed, 6, "leads flagged crossed on a 12 × 1 page at 20 mm/mV")
 }
 
 func TestDigitizeSeveralFilesWorstClass(t *testing.T) {

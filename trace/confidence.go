@@ -1,0 +1,185 @@
+package trace
+
+import (
+	"math"
+
+	"tracelift/ecg"
+)
+
+// A lead's quality says how much to trust its samples. The path finder's
+// own score (ink under the path, smoothness) is near 1 whenever the path
+// runs on ink, and on a page whose rows overlap it runs on ink everywhere,
+// its neighbours' included: measured over the eval corpus it stayed at
+// 0.99–1.00 for leads read at 0 dB as for leads at 25 dB. What a path on
+// another row's strokes cannot be told from its own is where the two rows'
+// strokes touch: there the ink belongs to both, and at most one of them
+// reads it right. So the quality a lead reports is the path's score times
+// the share of the lead's trace energy (its excursion from 0 mV, squared,
+// column by column) printed clear of every other row's stroke, times the
+// share of its printed window it returned (stretches a self-check withheld
+// are not known).
+
+// contestGapMM is how close two rows' strokes come, in mm, before their
+// ink is taken as touching: a pen's width (0.3–0.4 mm on recorder paper,
+// common practice) and a little more for blur.
+const contestGapMM = 0.5
+
+// contestFloorMV is the excursion every column counts at least, mV, so
+// that a flat lead's share is not decided by the noise of its baseline.
+const contestFloorMV = 0.1
+
+// colSpan is the vertical extent of a path in one image column, px.
+type colSpan struct{ lo, hi float64 }
+
+// pathSpans returns the extent of path in each image column it covers,
+// spans[x − x0], from the segments between consecutive points as the pen
+// drew them (a steep stroke covers its whole height in its columns).
+func pathSpans(path []Point) (x0 int, spans []colSpan) {
+	if len(path) == 0 {
+		return 0, nil
+	}
+	x0 = int(math.Round(path[0].X))
+	x1 := int(math.Round(path[len(path)-1].X))
+	for _, p := range path {
+		x0 = min(x0, int(math.Round(p.X)))
+		x1 = max(x1, int(math.Round(p.X)))
+	}
+	spans = make([]colSpan, x1-x0+1)
+	for i := range spans {
+		spans[i] = colSpan{math.Inf(1), math.Inf(-1)}
+	}
+	add := func(x int, y float64) {
+		s := &spans[x-x0]
+		s.lo, s.hi = min(s.lo, y), max(s.hi, y)
+	}
+	for i, p := range path {
+		add(int(math.Round(p.X)), p.Y)
+		if i == 0 {
+			continue
+		}
+		a := path[i-1]
+		if p.X <= a.X {
+			continue
+		}
+		// The segment a–p over each column it crosses, clipped to the
+		// column's width.
+		for x := int(math.Round(a.X)); x <= int(math.Round(p.X)); x++ {
+			for _, xe := range [2]float64{float64(x) - 0.5, float64(x) + 0.5} {
+				t := min(max((xe-a.X)/(p.X-a.X), 0), 1)
+				add(x, a.Y+t*(p.Y-a.Y))
+			}
+		}
+	}
+	return x0, spans
+}
+
+// contestedShares returns, for each panel, its trace energy in columns
+// where it comes within gap px of another row's trace, and its energy in
+// all (floor: the excursion, px, every column counts at least).
+func contestedShares(panels []Panel, gap, floor float64) (contested, total []float64) {
+	type pathCols struct {
+		x0    int
+		spans []colSpan
+	}
+	cols := make([]pathCols, len(panels))
+	for i, p := range panels {
+		cols[i].x0, cols[i].spans = pathSpans(p.Path)
+	}
+	contested, total = make([]float64, len(panels)), make([]float64, len(panels))
+	for i, p := range panels {
+		a := cols[i]
+		for k, s := range a.spans {
+			if math.IsInf(s.lo, 1) {
+				continue
+			}
+			ex := max(math.Abs(s.lo-p.ZeroY), math.Abs(s.hi-p.ZeroY), floor)
+			e := ex * ex
+			total[i] += e
+			x := a.x0 + k
+			for j, q := range panels {
+				if q.Row == p.Row {
+					continue
+				}
+				b := cols[j]
+				if x < b.x0 || x >= b.x0+len(b.spans) {
+					continue
+				}
+				t := b.spans[x-b.x0]
+				if t.lo-gap <= s.hi && s.lo <= t.hi+gap {
+					contested[i] += e
+					break
+				}
+			}
+		}
+	}
+	return contested, total
+}
+
+// CrossedFlagShare is the share of a lead's trace energy on ink another
+// row's stroke touches from which the lead is listed in
+// Result.CrossedLeads: a tenth of the energy read ambiguously bounds the
+// lead's SNR near 10 dB if that part is wrong. On the eval corpus's
+// overlapping pages the leads so listed read a median of about 5 dB, the
+// others 16 dB (a project measurement, 2026-12-02).
+const CrossedFlagShare = 0.1
+
+// crossedShares sums each lead's contested and total energy over its
+// panels and returns the contested share (0 for a lead without energy).
+func crossedShares(panels []Panel, contested, total []float64) map[ecg.Lead]float64 {
+	con, tot := map[ecg.Lead]float64{}, map[ecg.Lead]float64{}
+	for i, p := range panels {
+		con[p.Lead] += contested[i]
+		tot[p.Lead] += total[i]
+	}
+	out := make(map[ecg.Lead]float64, len(tot))
+	for l, t := range tot {
+		if t > 0 {
+			out[l] = con[l] / t
+		}
+	}
+	return out
+}
+
+// leadConfidence returns each lead's quality as the record reports it:
+// qual (the path's score) times the share of the lead's trace energy
+// clear of other rows' strokes (1 − crossed) times the share of its
+// printed windows it returned (covered).
+func leadConfidence(qual, crossed, covered map[ecg.Lead]float64) map[ecg.Lead]float64 {
+	out := make(map[ecg.Lead]float64, len(qual))
+	for l, q := range qual {
+		c, ok := covered[l]
+		if !ok {
+			c = 1
+		}
+		out[l] = q * (1 - crossed[l]) * c
+	}
+	return out
+}
+
+// CrossedLeads returns the leads of r whose Crossed share reaches
+// CrossedFlagShare, in the standard order.
+func (r *Result) CrossedLeads() []ecg.Lead {
+	var out []ecg.Lead
+	for _, l := range ecg.Standard12 {
+		if r.Record.Signal(l) != nil && r.Crossed[l] >= CrossedFlagShare {
+			out = append(out, l)
+		}
+	}
+	return out
+}
+
+// coveredShares returns, for each lead of rec, the share of its printed
+// windows (its panels' time spans) that holds a value.
+func coveredShares(rec *ecg.Record, panels []Panel) map[ecg.Lead]float64 {
+	windows := map[ecg.Lead][][2]float64{}
+	for _, p := range panels {
+		windows[p.Lead] = append(windows[p.Lead], [2]float64{p.T0, p.T1})
+	}
+	out := map[ecg.Lead]float64{}
+	for _, s := range rec.Signals {
+		if w, ok := windows[s.Lead]; ok {
+			out[s.Lead] = validFraction(s.Samples, w, s.SampleRate)
+		}
+	}
+	return out
+}

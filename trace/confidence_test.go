@@ -1,0 +1,81 @@
+package trace
+
+import (
+	"math"
+	"testing"
+
+	"tracelift/ecg"
+)
+
+// TestPathSpans: a path's extent in each column is what the pen drew: a
+// steep stroke (several points in one column) covers its whole height,
+// and a segment between two columns covers the part of it inside each.
+func TestPathSpans(t *testing.T) {
+	path := []Point{{10, 50}, {11, 50}, {12, 50}, {12, 20}, {13, 30}, {14, 50}}
+	x0, s := pathSpans(path)
+	if x0 != 10 || len(s) != 5 {
+		t.Fatalf("x0 %d, %d columns", x0, len(s))
+	}
+	want := []colSpan{{50, 50}, {50, 50}, {20, 50}, {25, 40}, {40, 50}}
+	for i, w := range want {
+		if math.Abs(s[i].lo-w.lo) > 1e-9 || math.Abs(s[i].hi-w.hi) > 1e-9 {
+			t.Errorf("column %d: %v, want %v", 10+i, s[i], w)
+		}
+	}
+}
+
+// TestContestedShares: two rows' traces 40 px apart, one of them with a
+// stroke reaching to within 2 px of the other: the columns of that stroke
+// count as contested for both, each with its own excursion there; a third
+// row far away shares nothing; a second panel of the same row never
+// contests. The shares and the confidence follow from the sums.
+func TestContestedShares(t *testing.T) {
+	flat := func(y float64, x0, x1 int) []Point {
+		var p []Point
+		for x := x0; x <= x1; x++ {
+			p = append(p, Point{float64(x), y})
+		}
+		return p
+	}
+	// Row 1: flat at 140, except a stroke up to 102 over columns 50–52.
+	var r1 []Point
+	for x := 0; x <= 99; x++ {
+		y := 140.0
+		if x >= 50 && x <= 52 {
+			y = 102
+		}
+		r1 = append(r1, Point{float64(x), y})
+	}
+	panels := []Panel{
+		{Lead: ecg.LeadI, Row: 0, ZeroY: 100, Path: flat(100, 0, 99)},
+		{Lead: ecg.LeadII, Row: 1, ZeroY: 140, Path: r1},
+		{Lead: ecg.LeadIII, Row: 2, ZeroY: 400, Path: flat(400, 0, 99)},
+		{Lead: ecg.LeadAVR, Row: 1, ZeroY: 140, Path: flat(140, 100, 199)},
+	}
+	gap, floor := 6.0, 1.0
+	con, tot := contestedShares(panels, gap, floor)
+	if con[2] != 0 || con[3] != 0 {
+		t.Errorf("far row and same-row panel contested: %v", con)
+	}
+	// Row 0 is contested where row 1's stroke comes within 6 px: the
+	// columns 50–52, whose extent reaches 102 (columns 49 and 53 hold
+	// the strokes' halves from 140 to 121); each counts the floor only.
+	if con[0] != 3*floor*floor || tot[0] != 100*floor*floor {
+		t.Errorf("row 0: contested %g of %g", con[0], tot[0])
+	}
+	// Row 1 counts its stroke's excursion, 38 px, in those columns, of
+	// a total that adds 19 px in columns 49 and 53 and the floor in the
+	// 95 others.
+	if con[1] != 3*38*38 || tot[1] != 3*38*38+2*19*19+95 {
+		t.Errorf("row 1: contested %g of %g", con[1], tot[1])
+	}
+	sh := crossedShares(panels, con, tot)
+	if math.Abs(sh[ecg.LeadII]-4332.0/5149) > 1e-12 || sh[ecg.LeadI] != 0.03 || sh[ecg.LeadIII] != 0 || sh[ecg.LeadAVR] != 0 {
+		t.Errorf("shares %v", sh)
+	}
+	q := leadConfidence(map[ecg.Lead]float64{ecg.LeadI: 1, ecg.LeadII: 0.9, ecg.LeadIII: 1}, sh,
+		map[ecg.Lead]float64{ecg.LeadI: 0.5})
+	if math.Abs(q[ecg.LeadI]-0.485) > 1e-12 || q[ecg.LeadIII] != 1 || math.Abs(q[ecg.LeadII]-0.9*(1-4332.0/5149)) > 1e-12 {
+		t.Errorf("confidence %v", q)
+	}
+}
