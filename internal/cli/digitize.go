@@ -406,6 +406,13 @@ func printPageSummary(w io.Writer, p pageOutcome) {
 	if missing := missingLeads(r.Trace); len(missing) > 0 {
 		fmt.Fprintf(w, "  missing    %s\n", strings.Join(missing, " "))
 	}
+	if crossed := r.Trace.CrossedLeads(); len(crossed) > 0 {
+		names := make([]string, len(crossed))
+		for i, l := range crossed {
+			names[i] = l.String()
+		}
+		fmt.Fprintf(w, "  crossed    %s (other rows' strokes touch these traces: check them on the tracing)\n", strings.Join(names, " "))
+	}
 	if c, ok := r.Calibration(); ok {
 		fmt.Fprintf(w, "  calibration %.3f × %.3f px/mm (%s), %.4g mm/s (%s), %.4g mm/mV (%s), layout %s\n",
 			c.PxPerMMX.V, c.PxPerMMY.V, c.PxPerMMX.Origin, c.SpeedMMPerS.V, c.SpeedMMPerS.Origin,

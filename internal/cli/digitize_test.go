@@ -256,7 +256,7 @@ func TestDigitizeGoodPage(t *testing.T) {
 // TestDigitizeCrossedFlag: on a page whose rows overlap (the eval's
 // overlap 12 × 1 page: 20 mm/mV, rows 0.85 mV apart) the leads whose
 // strokes other rows' strokes touch carry the flag "crossed" and a
-// quality below 0.9.
+// quality below 0.9, and the summary names them.
 func TestDigitizeCrossedFlag(t *testing.T) {
 	if testing.Short() {
 		t.Skip("renders and digitises a page")
@@ -267,8 +267,9 @@ func TestDigitizeCrossedFlag(t *testing.T) {
 	var buf bytes.Buffer
 	require.NoError(t, page.WritePNG(&buf))
 	f := writeFile(t, in, "tangled.png", buf.Bytes())
-	code, _, stderr := run("digitize", f, "-o", out, "-q")
+	code, stdout, stderr := run("digitize", f, "-o", out)
 	require.Contains(t, []int{ExitOK, ExitPartial}, code, stderr)
+	assert.Contains(t, stdout, "  crossed    ")
 	b, err := os.ReadFile(filepath.Join(out, "tangled.json"))
 	require.NoError(t, err)
 	var rep struct {
