@@ -73,42 +73,50 @@ func pathSpans(path []Point) (x0 int, spans []colSpan) {
 	return x0, spans
 }
 
+// contestedColumns marks, for each panel, the columns of its path
+// (marks[i][x − x0[i]]) where it comes within gap px of another row's
+// path; spans are the paths' extents (pathSpans).
+func contestedColumns(panels []Panel, gap float64) (x0 []int, spans [][]colSpan, marks [][]bool) {
+	x0, spans, marks = make([]int, len(panels)), make([][]colSpan, len(panels)), make([][]bool, len(panels))
+	for i, p := range panels {
+		x0[i], spans[i] = pathSpans(p.Path)
+		marks[i] = make([]bool, len(spans[i]))
+	}
+	for i, p := range panels {
+		for k, s := range spans[i] {
+			if math.IsInf(s.lo, 1) {
+				continue
+			}
+			x := x0[i] + k
+			for j, q := range panels {
+				if q.Row == p.Row || x < x0[j] || x >= x0[j]+len(spans[j]) {
+					continue
+				}
+				if t := spans[j][x-x0[j]]; t.lo-gap <= s.hi && s.lo <= t.hi+gap {
+					marks[i][k] = true
+					break
+				}
+			}
+		}
+	}
+	return x0, spans, marks
+}
+
 // contestedShares returns, for each panel, its trace energy in columns
 // where it comes within gap px of another row's trace, and its energy in
 // all (floor: the excursion, px, every column counts at least).
 func contestedShares(panels []Panel, gap, floor float64) (contested, total []float64) {
-	type pathCols struct {
-		x0    int
-		spans []colSpan
-	}
-	cols := make([]pathCols, len(panels))
-	for i, p := range panels {
-		cols[i].x0, cols[i].spans = pathSpans(p.Path)
-	}
+	_, spans, marks := contestedColumns(panels, gap)
 	contested, total = make([]float64, len(panels)), make([]float64, len(panels))
 	for i, p := range panels {
-		a := cols[i]
-		for k, s := range a.spans {
+		for k, s := range spans[i] {
 			if math.IsInf(s.lo, 1) {
 				continue
 			}
 			ex := max(math.Abs(s.lo-p.ZeroY), math.Abs(s.hi-p.ZeroY), floor)
-			e := ex * ex
-			total[i] += e
-			x := a.x0 + k
-			for j, q := range panels {
-				if q.Row == p.Row {
-					continue
-				}
-				b := cols[j]
-				if x < b.x0 || x >= b.x0+len(b.spans) {
-					continue
-				}
-				t := b.spans[x-b.x0]
-				if t.lo-gap <= s.hi && s.lo <= t.hi+gap {
-					contested[i] += e
-					break
-				}
+			total[i] += ex * ex
+			if marks[i][k] {
+				contested[i] += ex * ex
 			}
 		}
 	}
