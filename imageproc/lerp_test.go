@@ -109,15 +109,7 @@ func TestFillYCbCrMatchesGo(t *testing.T) {
 		t.Fatalf("ycbcrLanes layout changed: update the offsets in lerp_amd64.s")
 	}
 	rng := rand.New(rand.NewPCG(11, 11))
-	pick := func() uint8 {
-		switch rng.IntN(8) {
-		case 0:
-			return 0
-		case 1:
-			return 255
-		}
-		return uint8(rng.IntN(256))
-	}
+	pick := func() uint8 { return extremeByte(rng) }
 	for trial := 0; trial < 200; trial++ {
 		nseg := 1 + rng.IntN(4)
 		n := nseg * ycbcrSegment
@@ -219,15 +211,7 @@ func TestBlocks4MatchesGo(t *testing.T) {
 		t.Skip("no vector kernels on this architecture")
 	}
 	rng := rand.New(rand.NewPCG(13, 13))
-	pick := func() uint8 {
-		switch rng.IntN(6) {
-		case 0:
-			return 0
-		case 1:
-			return 255
-		}
-		return uint8(rng.IntN(256))
-	}
+	pick := func() uint8 { return extremeByte(rng) }
 	tab := newYCCTables()
 	for n := 1; n <= 40; n++ {
 		ya, yb, cb, cr := make([]uint8, 4*n), make([]uint8, 4*n), make([]uint8, 2*n), make([]uint8, 2*n)
@@ -261,4 +245,16 @@ func TestBlocks4MatchesGo(t *testing.T) {
 			t.Fatalf("%d blocks: sums %v, want %v (counts %v, %v)", n, got, want, cntG, cntW)
 		}
 	}
+}
+
+// extremeByte is a random byte, 0 or 255 one time in eight each: the
+// values where conversions clip.
+func extremeByte(rng *rand.Rand) uint8 {
+	switch rng.IntN(8) {
+	case 0:
+		return 0
+	case 1:
+		return 255
+	}
+	return uint8(rng.IntN(256))
 }
