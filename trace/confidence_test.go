@@ -1,6 +1,7 @@
 package trace
 
 import (
+	"image"
 	"math"
 	"testing"
 
@@ -53,7 +54,7 @@ func TestContestedShares(t *testing.T) {
 		{Lead: ecg.LeadAVR, Row: 1, ZeroY: 140, Path: flat(140, 100, 199)},
 	}
 	gap, floor := 6.0, 1.0
-	con, tot := contestedShares(panels, gap, floor)
+	con, tot := contestedShares(panels, gap, floor, nil)
 	if con[2] != 0 || con[3] != 0 {
 		t.Errorf("far row and same-row panel contested: %v", con)
 	}
@@ -77,5 +78,50 @@ func TestContestedShares(t *testing.T) {
 		map[ecg.Lead]float64{ecg.LeadI: 0.5})
 	if math.Abs(q[ecg.LeadI]-0.485) > 1e-12 || q[ecg.LeadIII] != 1 || math.Abs(q[ecg.LeadII]-0.9*(1-4332.0/5149)) > 1e-12 {
 		t.Errorf("confidence %v", q)
+	}
+}
+
+// TestContestedThroughInk: two rows' paths that do not come near each
+// other still meet where the ink under one continues as one run up to the
+// other (merged strokes), and a path whose run of ink leaves its search
+// band counts as met there; a run ending inside the band, away from other
+// paths, does not.
+func TestContestedThroughInk(t *testing.T) {
+	ink := image.NewGray(image.Rect(0, 0, 10, 100))
+	for y := 20; y <= 60; y++ {
+		ink.Pix[y*ink.Stride+5] = 255 // one run in column 5
+	}
+	for y := 70; y <= 80; y++ {
+		ink.Pix[y*ink.Stride+7] = 255 // a short run in column 7
+	}
+	if r := inkRun(ink, 5, colSpan{50, 52}); r.lo != 20 || r.hi != 60 {
+		t.Errorf("run of column 5 from 50–52: %v", r)
+	}
+	path := []Point{{4, 90}, {5, 50}, {6, 90}, {7, 75}, {8, 90}}
+	a := Panel{Row: 1, Path: path, ZeroY: 90, Bounds: image.Rect(0, 10, 10, 100)}
+	b := Panel{Row: 0, Path: []Point{{4, 17}, {5, 17}, {6, 17}}, ZeroY: 17, Bounds: image.Rect(0, 0, 10, 40)}
+	x0, _, marks := contestedColumns([]Panel{a, b}, 3, ink)
+	got := map[int]bool{}
+	for k, m := range marks[0] {
+		if m {
+			got[x0[0]+k] = true
+		}
+	}
+	// Column 5's run reaches 20, within 3 px of b's path at 17; column 7's
+	// run (70–80) stays clear. Without the ink map only the paths count.
+	if !got[5] || got[7] {
+		t.Errorf("row 1 met in columns %v, want 5 and not 7", got)
+	}
+	_, _, plain := contestedColumns([]Panel{a, b}, 3, nil)
+	for k, m := range plain[0] {
+		if m && x0[0]+k == 5 {
+			t.Errorf("without ink, column 5 met")
+		}
+	}
+	// The band: the same path with a band starting at 30 is cut there.
+	a.Bounds = image.Rect(0, 30, 10, 100)
+	x0, _, marks = contestedColumns([]Panel{a}, 3, ink)
+	if !marks[0][5-x0[0]] || marks[0][7-x0[0]] {
+		t.Errorf("band cut: marks %v", marks[0])
 	}
 }

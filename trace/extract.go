@@ -464,7 +464,7 @@ func Extract(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse, opt *Op
 	for i, tp := range all {
 		panels[i] = tp.p
 	}
-	contested, total := contestedShares(panels, contestGapMM*cal.PxPerMMY.V, contestFloorMV*cal.GainMMPerMV.V*cal.PxPerMMY.V)
+	contested, total := contestedShares(panels, contestGapMM*cal.PxPerMMY.V, contestFloorMV*cal.GainMMPerMV.V*cal.PxPerMMY.V, ink)
 	res.Crossed = crossedShares(panels, contested, total)
 	qual = leadConfidence(qual, res.Crossed, coveredShares(&rec, panels))
 	res.Record, res.Quality, res.Layout = rec, qual, *lay
