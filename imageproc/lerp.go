@@ -2,8 +2,7 @@ package imageproc
 
 // Linear interpolation between two rows, the kernel of the upright pass's
 // two one-dimensional resamplings (shearPairRow: lerpI16,
-// sampleShearedRow: lerp2U8). The
-// weight of pixel j is the fraction frac + j·step (32-bit fixed point,
+// sampleShearedRow: lerp2U8). The weight of pixel j is the fraction frac + j·step (32-bit fixed point,
 // wrapping: only the fraction matters) rounded to 1/256, f = 0..256, and
 // the result round((p·(256 − f) + q·f) / 256): the same sums as the
 // bilinear samplers' (p·256 + f·(q − p)), once per axis. On amd64 the
@@ -43,12 +42,12 @@ func newLerpSteps(step uint32) lerpSteps {
 }
 
 // lerp2U8 is lerpU8Go (lerpI16 clipped to 0..255) on two pairs of rows
-// with the same weights: a from pi and qi, b from pg and qg. On amd64 a run of at least eight pixels is
-// vector code throughout, its last block overlapping the one before when
-// the length is not a multiple of eight (each pixel depends only on its
-// own inputs, so it is written twice with the same value): the runs
-// between two input rows are only a few dozen pixels long on a skewed
-// page.
+// with the same weights: a from pi and qi, b from pg and qg. On amd64 a
+// run of at least eight pixels is vector code throughout, its last block
+// overlapping the one before when the length is not a multiple of eight
+// (each pixel depends only on its own inputs, so it is written twice with
+// the same value): the runs between two input rows are only a few dozen
+// pixels long on a skewed page.
 func lerp2U8(a, b []uint8, pi, qi, pg, qg []int16, frac uint32, st *lerpSteps) {
 	n := len(a)
 	b, pi, qi, pg, qg = b[:n], pi[:n], qi[:n], pg[:n], qg[:n]
