@@ -24,22 +24,26 @@ import (
 // Bolles 1981) with every minimal sample tried: every pair of the leads
 // present proposes the vector through their values, its supporters are
 // the leads within inTolMM of trace of its prediction, and the proposals
-// with the most supporters (three at least, of four leads present at
-// least) win. A lead that supports none of the winning proposals, and
-// that every one of them puts on the other side of 0 mV, more than offMM
-// of trace from its reading, dissents. Only the opposite
-// direction counts: where strokes cross rows the agreeing leads often
-// lost part of their apexes, so a lead reading more than they predict,
-// the same way, may well be right. A copy's dissent stretches are
+// with the most supporters win if those are more than half the leads
+// present (three at least). A lead that supports none of the winning
+// proposals, and that every one of them puts on the other side of 0 mV,
+// more than offMM of trace from its reading (read minPred from 0 mV at
+// least), dissents. Only the opposite direction counts: where strokes
+// cross rows the agreeing leads often lost part of their apexes, so a
+// lead reading more than they predict, the same way, may well be right. A copy's dissent stretches are
 // withheld (NaN, with a warning) only when they come back at half the
-// beats or more: a path on another row's stroke takes it at every beat,
-// while leads that fit a wrong vector by chance (leads near 0 mV support
-// many) do so at a beat or two. Withholding every dissent stretch
-// instead cost overlap 12x1 seed 3 lead II 2.9 dB (withheld at one beat
-// where III, aVR and aVF near 0 mV outvoted I and II); agreement within
-// 4 mm rather than 6 left overlap 12x1 seed 2 aVL swapped (I, II and III
-// read their apexes 0.2–0.3 mV apart, so they tied with aVR, aVL and
-// aVF).
+// beats or more (the beats any lead dissents at, or the copy's own
+// excursions if more): a path on another row's stroke takes it at every
+// beat, while leads that fit a wrong vector by chance (leads near 0 mV
+// support many) do so at a beat or two. Withholding every dissent
+// stretch instead cost overlap 12x1 seed 3 lead II 2.9 dB (withheld at
+// one beat where III, aVR and aVF near 0 mV outvoted I and II);
+// agreement within 4 mm rather than 6 left overlap 12x1 seed 2 aVL
+// swapped (I, II and III read their apexes 0.2–0.3 mV apart, so they
+// tied with aVR, aVL and aVF); a plurality of three of six leads, or
+// counting only the beats some lead dissents at, cost overlap 12x1 seed
+// 4 lead I 4.7 dB (aVL and aVF upside down agreed with III at most
+// beats, and at three beats with one lead missing).
 
 // dissentParams tunes withholdDissent.
 type dissentParams struct {
@@ -118,7 +122,7 @@ func withholdDissent(cal grid.Calibration, fs float64, panels []*Panel, vals, ke
 		dep := func(i int) float64 { return v[i] - off[l] - pl[i] }
 		for i := range n {
 			x, q := v[i]-off[l], pl[i]
-			mark[i] = dis[i]&(1<<l) != 0 && !math.IsNaN(x) && x*q < 0 && math.Abs(x-q) > offTh
+			mark[i] = dis[i]&(1<<l) != 0 && !math.IsNaN(x) && x*q < 0 && math.Abs(x) >= minPred && math.Abs(x-q) > offTh
 		}
 		for _, sp := range markedSpans(mark, gap, 0) {
 			if sp.last-sp.first+1 < minLen {
@@ -200,7 +204,8 @@ type stretch struct{ s0, s1 int }
 // keep[k], keep not nil) the stretches of each panel k of order in
 // dissent[k], padded by p.padS, when they come at a share p.minBeats of
 // the beats at least (and at p.minRepeat beats): the beats are the
-// stretches of all panels joined within p.beatS. It returns one warning
+// stretches of all panels joined within p.beatS, or the panel's own
+// excursions if more. It returns one warning
 // per lead withheld from, ending in why.
 func withholdRepeated(fs float64, panels []*Panel, vals, keep [][]float64, order []int, dissent [][]stretch, p dissentParams, why string) []string {
 	n := 0
@@ -244,7 +249,7 @@ func withholdRepeated(fs float64, panels []*Panel, vals, keep [][]float64, order
 				last = b
 			}
 		}
-		if seen < p.minRepeat || float64(seen) < p.minBeats*float64(beats) {
+		if seen < p.minRepeat || float64(seen) < p.minBeats*float64(max(beats, excursions(vals[k], sep))) {
 			continue
 		}
 		var kept []float64
@@ -276,8 +281,8 @@ func withholdRepeated(fs float64, panels []*Panel, vals, keep [][]float64, order
 // supporters are the leads within tol of its prediction (the pair
 // included). out receives every lead's value as the best proposal (the
 // most supporters, then the smallest summed error of theirs) predicts it
-// (NaN when fewer than four leads are present or no proposal has three
-// supporters). Among the proposals with the most supporters, a lead that
+// (NaN when fewer than four leads are present, or no proposal has three
+// supporters and more than half the leads present). Among the proposals with the most supporters, a lead that
 // supports none and that every one of them predicts at least minPred
 // from 0 mV on the other side of 0 mV from its reading, more than off
 // away from it, dissents; the result is the bit mask of the dissenters.
@@ -326,7 +331,7 @@ func dissenters(v *[6]float64, coef *[6][2]float64, tol, off, minPred float64, o
 		}
 	}
 	bestN := props[best].n
-	if bestN < 3 {
+	if bestN < 3 || 2*bestN <= m {
 		return 0
 	}
 	for k := range nl {
@@ -351,6 +356,32 @@ func dissenters(v *[6]float64, coef *[6][2]float64, tol, off, minPred float64, o
 		}
 	}
 	return mask
+}
+
+// excursions counts the beats of v: its distinct excursions from its
+// median of at least 0.3 of the largest, sep samples apart at least
+// (the count consistent makes).
+func excursions(v []float64, sep int) int {
+	med := nanMedian(v)
+	big := 0.0
+	for _, x := range v {
+		if d := math.Abs(x - med); d > big {
+			big = d
+		}
+	}
+	if big == 0 {
+		return 0
+	}
+	c, last := 0, -sep-1
+	for i, x := range v {
+		if math.Abs(x-med) >= 0.3*big {
+			if i-last > sep {
+				c++
+			}
+			last = i
+		}
+	}
+	return c
 }
 
 // nanMedian returns the median of the non-NaN values of v (NaN if none).

@@ -162,6 +162,18 @@ func TestWithholdDissentKeeps(t *testing.T) {
 				vals[3][k] = -vals[3][k]
 			}
 		}},
+		{"three beats of twelve", []int{0, 1, 2, 3, 4, 5}, func(vals [][]float64) {
+			// aVR and aVL read upside down together (as in
+			// TestWithholdDissentTwoBrokenTogether) at three beats only,
+			// and no lead dissents elsewhere: not a path on another row's
+			// stroke, which would take it at every beat.
+			for _, b := range []int{2, 5, 8} {
+				r := beats[b]
+				for k := int((r - 0.045) * 500); k <= int((r+0.045)*500); k++ {
+					vals[3][k], vals[4][k] = -truth[3][k]/3, -truth[4][k]/2
+				}
+			}
+		}},
 		{"three leads", []int{3, 4, 5}, func(vals [][]float64) {
 			for k := range vals[5] {
 				vals[5][k] = -2 * vals[5][k]
@@ -220,6 +232,10 @@ func TestDissenters(t *testing.T) {
 		{"aVR larger", func() [6]float64 { v := lead(1.6, 1.1); v[3] = -2.5; return v }(), 0},
 		// Small predictions (near 0 mV): nothing to point against.
 		{"near zero", func() [6]float64 { v := lead(0.05, 0.04); v[3] = 0.3; return v }(), 0},
+		// Half the leads for a wrong vector: aVL and aVF read upside down
+		// agree with III, against I, II (clipped) and aVR (overlap 12x1
+		// seed 4, where I was withheld at every beat although right).
+		{"half", [6]float64{1.38, 1.16, 0.44, -0.24, -0.93, -0.13}, 0},
 		// Three present: no majority.
 		{"three", [6]float64{nan, nan, nan, -1.35, 0.5, -0.3}, 0},
 		// aVR and aVL reversed together, consistent with aVF between

@@ -21,7 +21,10 @@ import (
 // lead's own stroke is printed in its panel, so the value predicted for
 // it lies on ink there. Where the three break the identity by more than
 // offMM of trace for every lead over a stretch, the one lead whose
-// reading points the other way from its prediction over minDir of it,
+// reading points the other way from its prediction over minDir of it
+// (both at least minPred from 0 mV: a reading near 0 mV points nowhere,
+// and III, right and near 0 mV on overlap 3x4+1 seed 12 where I read
+// another row's stroke, was withheld at every beat, 14.1 → 5.8 dB),
 // with the prediction on ink over minInk, is blamed, provided neither
 // other lead does both over maxDir and maxInk; its stretches are
 // withheld when they come back at half the beats or more
@@ -155,7 +158,7 @@ func withholdTriple(ink *image.Gray, cal grid.Calibration, fs float64, panels []
 				if onInk(l, i) {
 					on[l]++
 				}
-				if x, q := ls.a[l][i], pred[l][i]; x*q < 0 && math.Abs(q) >= minPred {
+				if x, q := ls.a[l][i], pred[l][i]; x*q < 0 && math.Abs(q) >= minPred && math.Abs(x) >= minPred {
 					dir[l]++
 				}
 			}
