@@ -438,7 +438,7 @@ func Extract(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse, opt *Op
 		w := guideLimb(ink, cal, o.SampleRate, ps, vs, xs, defaultLimbGuide)
 		w = append(w, withholdShared(cal, o.SampleRate, ps, vs, keep, xs, defaultSelfCheck)...)
 		w = append(w, withholdBuried(ink, cal, o.SampleRate, ps, vs, keep, xs, defaultBuried)...)
-		w = append(w, withholdDissent(cal, o.SampleRate, ps, vs, keep, defaultDissent)...)
+		w = append(w, withholdDissent(ink, cal, o.SampleRate, ps, vs, keep, xs, defaultDissent)...)
 		if w = append(w, withholdTriple(ink, cal, o.SampleRate, ps, vs, keep, xs, defaultTriple)...); len(w) > 0 {
 			for i := range all {
 				if flip[i] && vs[i] != nil {

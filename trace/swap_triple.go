@@ -199,6 +199,6 @@ func withholdTriple(ink *image.Gray, cal grid.Calibration, fs float64, panels []
 			dissent[bk] = append(dissent[bk], stretch{sp.first, sp.last})
 		}
 	}
-	return withholdRepeated(fs, panels, vals, keep, ls.order, dissent, p.dissentParams,
+	return withholdRepeated(fs, panels, vals, keep, ls.order, dissent, p.dissentParams, nil,
 		"where it breaks the Einthoven/Goldberger identity with the two limb leads printed with it, whose prediction for it lies on its ink")
 }
