@@ -1,6 +1,7 @@
 package cli
 
 import (
+	"cmp"
 	"context"
 	"errors"
 	"fmt"
@@ -12,6 +13,7 @@ import (
 	"regexp"
 	"runtime"
 	"runtime/debug"
+	"slices"
 	"sort"
 	"strings"
 	"sync"
@@ -309,7 +311,7 @@ func runBatch(ctx context.Context, ios *IOStreams, opts *batchOptions) error {
 		})
 	}
 feed:
-	for _, in := range inputs {
+	for _, in := range feedOrder(inputs, opts.Workers) {
 		select {
 		case <-ctx.Done():
 			break feed
@@ -442,6 +444,23 @@ func ownsOutputs(e catalog.Entry, base string) bool {
 		}
 	}
 	return true
+}
+
+// feedOrder returns the order in which workers are handed the inputs:
+// with several workers the largest first (the longest-processing-time
+// rule, R. L. Graham, "Bounds on multiprocessing timing anomalies", SIAM
+// J. Appl. Math. 1969; from memory), ties in the folder's order. The work
+// of a page grows with its file, and a large one started last would leave
+// the other workers idle while it finishes: on a folder of a few pages of
+// mixed sizes that tail is a good part of the run. One worker takes them
+// in the folder's order.
+func feedOrder(inputs []catalog.Input, workers int) []catalog.Input {
+	if workers <= 1 {
+		return inputs
+	}
+	order := slices.Clone(inputs)
+	slices.SortStableFunc(order, func(a, b catalog.Input) int { return cmp.Compare(b.Size, a.Size) })
+	return order
 }
 
 // collectBetweenInputs runs a garbage collection, and is called by each

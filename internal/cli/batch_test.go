@@ -898,3 +898,28 @@ func TestOwnsOutputs(t *testing.T) {
 	assert.False(t, ownsOutputs(e, "x/ab"))
 	assert.True(t, ownsOutputs(catalog.NewEntry("failed.png"), "failed"), "no outputs: nothing to disown")
 }
+
+// TestBatchLargestFirst: with several workers the inputs are handed out
+// largest file first, ties in the folder's order, so that a large one
+// does not start last and keep the run going alone; with one worker they
+// go in the folder's order. A run takes every input either way.
+func TestBatchLargestFirst(t *testing.T) {
+	ins := []catalog.Input{{Rel: "a.png", Size: 10}, {Rel: "b.png", Size: 300}, {Rel: "c.png", Size: 50}, {Rel: "d.png", Size: 300}, {Rel: "e.png", Size: 200}}
+	names := func(v []catalog.Input) []string {
+		var out []string
+		for _, in := range v {
+			out = append(out, in.Rel)
+		}
+		return out
+	}
+	assert.Equal(t, []string{"b.png", "d.png", "e.png", "c.png", "a.png"}, names(feedOrder(ins, 2)))
+	assert.Equal(t, []string{"a.png", "b.png", "c.png", "d.png", "e.png"}, names(feedOrder(ins, 1)))
+	assert.Equal(t, "a.png", ins[0].Rel, "the caller's list is left as it was")
+
+	in := t.TempDir()
+	writeTree(t, in, map[string]string{"a.png": "good a", "b.png": "good " + strings.Repeat("x", 300), "c.png": "good c"})
+	var calls atomic.Int32
+	ios, _, _ := testIOS()
+	require.NoError(t, runBatch(context.Background(), ios, &batchOptions{InputDir: in, OutDir: t.TempDir(), Workers: 2, process: fakeProcess(&calls)}))
+	assert.EqualValues(t, 3, calls.Load())
+}
