@@ -171,7 +171,7 @@ func contestedShares(panels []Panel, gap, floor float64, ink *image.Gray) (conte
 // overlapping pages (a project measurement, 2026-12-02) 136 of 219 leads
 // are so listed, median 7.5 dB, among them 78 of the 83 leads read below
 // 10 dB; the 83 others read a median of 18.3 dB. On clean, scanned and
-// faxed pages 4–8 % of the leads are listed (tall complexes of 12 × 1 and
+// faxed pages 6–8 % of the leads are listed (tall complexes of 12 × 1 and
 // rhythm-strip pages that reach a neighbouring row).
 const CrossedFlagShare = 0.1
 

@@ -130,9 +130,12 @@
 // A4) the strokes merge into one run per column and the path cannot tell
 // whose stroke it follows; those leads lose QRS amplitude or, on six-row
 // and 12 × 1 pages, swap strokes (the eval's overlap condition, n = 3,
-// seed 1: 13.0 dB median, p10 2.3 dB, all leads found, 3 swaps: 3x4+3
-// seed 3 aVF, 12 × 1 seed 2 aVL and seed 3 aVR; by layout 12 × 1 3.4,
-// 3x4+3 6.4, 6x2 11.3, 3x4+1 13.5, 3x4 17.4, Cabrera 18.3 dB). Most of
+// seed 1: 13.0 dB median, p10 2.5 dB, all leads found, no swap; by
+// layout 12 × 1 3.4, 3x4+3 6.4, 6x2 11.4, 3x4+1 13.5, 3x4 17.4, Cabrera
+// 18.3 dB; on seeds 4–12, 15 swapped leads on 84 overlap pages, mostly
+// 12 × 1 pages with three limb leads wrong together, and some precordial
+// leads, which no identity ties). Such leads are listed by CrossedLeads
+// (confidence.go). Most of
 // the lost height is at apexes beyond the row's search band (two or three
 // row pitches away on 12 × 1 pages: a wider band was measured worse
 // overall, as the row then takes its neighbours' strokes); on 3x4+3 and
