@@ -127,10 +127,7 @@ func guideLimb(ink *image.Gray, cal grid.Calibration, fs float64, panels []*Pane
 			a[l][i] -= off[l]
 		}
 	}
-	var coef [nl][2]float64
-	for k, l := range ecg.LimbLeads {
-		coef[k][0], coef[k][1], _ = ecg.FrontalCoefficients(l)
-	}
+	coef := limbCoefficients()
 	type pair struct{ p, q int }
 	var pairs []pair
 	for x := 0; x < nl; x++ {
@@ -419,4 +416,13 @@ func inkNear(ink *image.Gray, x, y, tol float64) bool {
 		}
 	}
 	return false
+}
+
+// limbCoefficients returns (a, b) of each limb lead, in ecg.LimbLeads
+// order, such that the lead is a·I + b·II (Einthoven and Goldberger).
+func limbCoefficients() (coef [6][2]float64) {
+	for k, l := range ecg.LimbLeads {
+		coef[k][0], coef[k][1], _ = ecg.FrontalCoefficients(l)
+	}
+	return coef
 }

@@ -99,10 +99,7 @@ func withholdDissent(ink *image.Gray, cal grid.Calibration, fs float64, panels [
 		return nil
 	}
 	a, off, order, li := &ls.a, &ls.off, ls.order, ls.li
-	var coef [nl][2]float64
-	for k, l := range ecg.LimbLeads {
-		coef[k][0], coef[k][1], _ = ecg.FrontalCoefficients(l)
-	}
+	coef := limbCoefficients()
 	// fit[l][i]: lead l's value as the best-supported vector at sample i
 	// predicts it; dis[i]: the leads dissenting there (a bit mask).
 	var fit [nl][]float64

@@ -190,27 +190,15 @@ func TestWithholdDissentKeeps(t *testing.T) {
 			ps = append(ps, panels[j])
 			vs = append(vs, vals[j])
 		}
-		ref := make([][]float64, len(vs))
-		for j := range vs {
-			ref[j] = append([]float64(nil), vs[j]...)
-		}
-		if w := withholdDissent(nil, cal, 500, ps, vs, nil, nil, defaultDissent); len(w) != 0 {
-			t.Errorf("%s: warnings %q", c.name, w)
-		}
-		for j := range vs {
-			if !sameSamples(vs[j], ref[j]) {
-				t.Errorf("%s: %v changed", c.name, ps[j].Lead)
-			}
-		}
+		requireUntouched(t, c.name, ps, vs, func() []string {
+			return withholdDissent(nil, cal, 500, ps, vs, nil, nil, defaultDissent)
+		})
 	}
 }
 
 // TestDissenters checks the per-sample fit on single columns of values.
 func TestDissenters(t *testing.T) {
-	var coef [6][2]float64
-	for k, l := range ecg.LimbLeads {
-		coef[k][0], coef[k][1], _ = ecg.FrontalCoefficients(l)
-	}
+	coef := limbCoefficients()
 	lead := func(hI, hII float64) [6]float64 {
 		var v [6]float64
 		for k := range v {
@@ -324,5 +312,23 @@ func TestRereadDissentOnInk(t *testing.T) {
 	w := strings.Join(warns, "\n")
 	if !strings.Contains(w, "lead aVR: ") || !strings.Contains(w, "lead aVL: ") || strings.Count(w, "re-read") != 2 {
 		t.Errorf("warnings %q, want aVR and aVL re-read", warns)
+	}
+}
+
+// requireUntouched runs check, which may change vals (one row of samples
+// per panel), and fails the test if it warned or changed any.
+func requireUntouched(t *testing.T, name string, panels []*Panel, vals [][]float64, check func() []string) {
+	t.Helper()
+	ref := make([][]float64, len(vals))
+	for j := range vals {
+		ref[j] = append([]float64(nil), vals[j]...)
+	}
+	if w := check(); len(w) != 0 {
+		t.Errorf("%s: warnings %q", name, w)
+	}
+	for j := range vals {
+		if !sameSamples(vals[j], ref[j]) {
+			t.Errorf("%s: %v changed", name, panels[j].Lead)
+		}
 	}
 }

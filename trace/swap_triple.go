@@ -4,7 +4,6 @@ import (
 	"image"
 	"math"
 
-	"tracelift/ecg"
 	"tracelift/grid"
 )
 
@@ -80,10 +79,7 @@ func withholdTriple(ink *image.Gray, cal grid.Calibration, fs float64, panels []
 	pxPerS := cal.SpeedMMPerS.V * cal.PxPerMMX.V
 	offTh, minPred := p.offMM/mmPerMV, p.minPred/mmPerMV
 	inkTol := p.inkTolMM * cal.PxPerMMY.V
-	var coef [nl][2]float64
-	for k, l := range ecg.LimbLeads {
-		coef[k][0], coef[k][1], _ = ecg.FrontalCoefficients(l)
-	}
+	coef := limbCoefficients()
 	// Per sample with exactly three leads present and the identity
 	// broken grossly: per lead, the value the other two predict (NaN
 	// elsewhere).

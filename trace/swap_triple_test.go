@@ -127,17 +127,8 @@ func TestWithholdTripleKeeps(t *testing.T) {
 	for _, c := range cases {
 		ink, cal, panels, vals, xs, beats := triplePage(c.noInk)
 		c.edit(vals[2], append([]float64(nil), vals[2]...), beats)
-		ref := make([][]float64, len(vals))
-		for j := range vals {
-			ref[j] = append([]float64(nil), vals[j]...)
-		}
-		if w := withholdTriple(ink, cal, 500, panels, vals, nil, xs, defaultTriple); len(w) != 0 {
-			t.Errorf("%s: warnings %q", c.name, w)
-		}
-		for j := range vals {
-			if !sameSamples(vals[j], ref[j]) {
-				t.Errorf("%s: %v changed", c.name, panels[j].Lead)
-			}
-		}
+		requireUntouched(t, c.name, panels, vals, func() []string {
+			return withholdTriple(ink, cal, 500, panels, vals, nil, xs, defaultTriple)
+		})
 	}
 }
