@@ -1,6 +1,7 @@
 //go:build amd64 && !purego
 
 #include "textflag.h"
+#include "ycc_amd64.h"
 
 // Eight pixels a step, SSE2 only. Per pixel j: f = ((frac_j >> 1) + 2^22)
 // >> 23 (lerpWeight), then (p·(256 − f) + q·f + 128) >> 8 by PMADDWL on
@@ -32,74 +33,6 @@
 	MOVQ  q_base+48(FP), DX \
 	SHRQ  $3, CX
 
-// BLOCK leaves the eight results as int16 in X11.
-#define BLOCK \
-	MOVO      X0, X6 \
-	PSRLL     $1, X6 \
-	PADDL     X3, X6 \
-	PSRLL     $23, X6 \
-	MOVO      X1, X7 \
-	PSRLL     $1, X7 \
-	PADDL     X3, X7 \
-	PSRLL     $23, X7 \
-	PACKSSLW  X7, X6 \
-	MOVO      X4, X7 \
-	PSUBW     X6, X7 \
-	MOVO      X7, X8 \
-	PUNPCKLWL X6, X8 \
-	PUNPCKHWL X6, X7 \
-	MOVOU     (SI), X9 \
-	MOVOU     (DX), X10 \
-	MOVO      X9, X11 \
-	PUNPCKLWL X10, X11 \
-	PUNPCKHWL X10, X9 \
-	PMADDWL   X8, X11 \
-	PMADDWL   X7, X9 \
-	PADDL     X5, X11 \
-	PADDL     X5, X9 \
-	PSRAL     $8, X11 \
-	PSRAL     $8, X9 \
-	PACKSSLW  X9, X11 \
-	PADDL     X2, X0 \
-	PADDL     X2, X1 \
-	ADDQ      $16, SI \
-	ADDQ      $16, DX
-
-// func lerpI16SIMD(dst, p, q []int16, lanes *[8]uint32, inc uint32)
-TEXT ·lerpI16SIMD(SB), NOSPLIT, $0-84
-	SETUP
-	TESTQ CX, CX
-	JZ    doneI16
-
-loopI16:
-	BLOCK
-	MOVOU X11, (DI)
-	ADDQ  $16, DI
-	DECQ  CX
-	JNZ   loopI16
-
-doneI16:
-	RET
-
-// LERP8 interpolates eight int16 pairs at (P) and (Q) with the weight
-// words in WLO (lanes 0–3) and WHI (4–7) and stores eight clipped bytes
-// at (OUT); it uses X9–X11.
-#define LERP8(P, Q, OUT) \
-	MOVOU     (P), X9 \
-	MOVOU     (Q), X10 \
-	MOVO      X9, X11 \
-	PUNPCKLWL X10, X11 \
-	PUNPCKHWL X10, X9 \
-	PMADDWL   X8, X11 \
-	PMADDWL   X7, X9 \
-	PADDL     X5, X11 \
-	PADDL     X5, X9 \
-	PSRAL     $8, X11 \
-	PSRAL     $8, X9 \
-	PACKSSLW  X9, X11 \
-	PACKUSWB  X11, X11 \
-	MOVQ      X11, (OUT)
-
 // WEIGHTS leaves the (256 − f, f) words of lanes 0–3 in X8, 4–7 in X7.
 #define WEIGHTS \
 	MOVO      X0, X6 \
@@ -116,6 +49,54 @@ doneI16:
 	MOVO      X7, X8 \
 	PUNPCKLWL X6, X8 \
 	PUNPCKHWL X6, X7
+
+// LERPW interpolates the eight int16 pairs at (P) and (Q) with the weight
+// words in X8 (lanes 0–3) and X7 (4–7), leaving eight int16 in X11; it
+// uses X9 and X10.
+#define LERPW(P, Q) \
+	MOVOU     (P), X9 \
+	MOVOU     (Q), X10 \
+	MOVO      X9, X11 \
+	PUNPCKLWL X10, X11 \
+	PUNPCKHWL X10, X9 \
+	PMADDWL   X8, X11 \
+	PMADDWL   X7, X9 \
+	PADDL     X5, X11 \
+	PADDL     X5, X9 \
+	PSRAL     $8, X11 \
+	PSRAL     $8, X9 \
+	PACKSSLW  X9, X11
+
+// LERP8 is LERPW clipped to bytes, stored at (OUT).
+#define LERP8(P, Q, OUT) \
+	LERPW(P, Q) \
+	PACKUSWB X11, X11 \
+	MOVQ     X11, (OUT)
+
+// BLOCK leaves the eight results as int16 in X11 and moves on.
+#define BLOCK \
+	WEIGHTS \
+	LERPW(SI, DX) \
+	PADDL X2, X0 \
+	PADDL X2, X1 \
+	ADDQ  $16, SI \
+	ADDQ  $16, DX
+
+// func lerpI16SIMD(dst, p, q []int16, lanes *[8]uint32, inc uint32)
+TEXT ·lerpI16SIMD(SB), NOSPLIT, $0-84
+	SETUP
+	TESTQ CX, CX
+	JZ    doneI16
+
+loopI16:
+	BLOCK
+	MOVOU X11, (DI)
+	ADDQ  $16, DI
+	DECQ  CX
+	JNZ   loopI16
+
+doneI16:
+	RET
 
 // func lerp2U8SIMD(a, b []uint8, pi, qi, pg, qg *int16, frac uint32, st *lerpSteps)
 //
@@ -238,6 +219,17 @@ DATA neglim<>+0(SB)/8, $0xc001c001c001c001
 DATA neglim<>+8(SB)/8, $0xc001c001c001c001
 GLOBL neglim<>(SB), (NOPTR+RODATA), $16
 
+// FLOOR512 leaves ⌊C·D / 512⌋ in the words of DST for the chroma words D
+// and C = 512·q + r given as Q (words q) and R (words 64·r): q·D plus the
+// high half of 2·D times 64·r; it uses T.
+#define FLOOR512(D, Q, R, DST, T) \
+	MOVO   D, DST \
+	PMULLW Q, DST \
+	MOVO   D, T \
+	PADDW  T, T \
+	PMULHW R, T \
+	PADDW  T, DST
+
 // SEP4 leaves four separated values (int32) in DST; SEP writes eight
 // separated values (coefficient pairs RG and B, constant
 // A) of the channel pairs in X4, X1 ((red, green), lanes 0–3 and 4–7) and
@@ -268,39 +260,13 @@ GLOBL neglim<>(SB), (NOPTR+RODATA), $16
 	MOVQ      (SI), X0 \
 	PUNPCKLBW zero16<>(SB), X0 \
 	PSLLW     $7, X0 \
-	MOVL      (BX), AX \
-	MOVQ      AX, X1 \
-	PUNPCKLBW zero16<>(SB), X1 \
-	PSUBW     w128<>(SB), X1 \
-	PUNPCKLWL X1, X1 \
-	MOVL      (DX), AX \
-	MOVQ      AX, X2 \
-	PUNPCKLBW zero16<>(SB), X2 \
-	PSUBW     w128<>(SB), X2 \
-	PUNPCKLWL X2, X2 \
-	MOVO      X2, X3 \
-	PMULLW    rq<>(SB), X3 \
-	MOVO      X2, X4 \
-	PADDW     X4, X4 \
-	PMULHW    rr<>(SB), X4 \
-	PADDW     X4, X3 \
-	MOVO      X1, X4 \
-	PMULLW    bq<>(SB), X4 \
-	MOVO      X1, X5 \
-	PADDW     X5, X5 \
-	PMULHW    br<>(SB), X5 \
-	PADDW     X5, X4 \
-	MOVO      X1, X5 \
-	PMULLW    gbq<>(SB), X5 \
-	PADDW     X1, X1 \
-	PMULHW    gbr<>(SB), X1 \
-	PADDW     X1, X5 \
-	MOVO      X2, X6 \
-	PMULLW    grq<>(SB), X6 \
+	CHROMA(BX, X1, zero16<>(SB), w128<>(SB)) \
+	CHROMA(DX, X2, zero16<>(SB), w128<>(SB)) \
+	FLOOR512(X2, rq<>(SB), rr<>(SB), X3, X4) \
+	FLOOR512(X1, bq<>(SB), br<>(SB), X4, X5) \
+	FLOOR512(X1, gbq<>(SB), gbr<>(SB), X5, X6) \
+	FLOOR512(X2, grq<>(SB), grr<>(SB), X6, X1) \
 	PADDW     X6, X5 \
-	PADDW     X2, X2 \
-	PMULHW    grr<>(SB), X2 \
-	PADDW     X2, X5 \
 	MOVO      X0, X1 \
 	PADDSW    X3, X1 \
 	PMAXSW    zero16<>(SB), X1 \

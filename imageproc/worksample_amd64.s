@@ -1,6 +1,7 @@
 //go:build amd64 && !purego
 
 #include "textflag.h"
+#include "ycc_amd64.h"
 
 // image/color's YCbCrToRGB, R = clamp((Y·65793 + 91881·Cr′) >> 16) and
 // so on (Cr′ = Cr − 128), with each product split at 65536 so that the
@@ -105,16 +106,8 @@ TEXT ·blocks4SIMD(SB), NOSPLIT, $0-120
 	JZ   doneBlocks
 
 pairBlocks:
-	MOVL      (BX), AX
-	MOVQ      AX, X0
-	PUNPCKLBW wsZero<>(SB), X0
-	PSUBW     ws128<>(SB), X0
-	PUNPCKLWL X0, X0
-	MOVL      (DX), AX
-	MOVQ      AX, X1
-	PUNPCKLBW wsZero<>(SB), X1
-	PSUBW     ws128<>(SB), X1
-	PUNPCKLWL X1, X1
+	CHROMA(BX, X0, wsZero<>(SB), ws128<>(SB))
+	CHROMA(DX, X1, wsZero<>(SB), ws128<>(SB))
 	CONV(SI, X3, X4, X5)
 	CONV(R8, X7, X8, X9)
 	SUM4(X3, X7)
