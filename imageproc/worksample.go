@@ -90,10 +90,7 @@ func newYCCTables() *yccTables {
 // counts cnt.
 func (t *yccTables) accumulate(acc, cnt []uint32, m *image.YCbCr, y, rows, f int) {
 	sw := m.Rect.Dx()
-	ya := m.Y[y*m.YStride : y*m.YStride+sw]
-	yb := m.Y[(y+rows-1)*m.YStride : (y+rows-1)*m.YStride+sw]
-	c0 := m.COffset(0, y)
-	cbr, crr := m.Cb[c0:c0+(sw+1)/2], m.Cr[c0:c0+(sw+1)/2]
+	ya, yb, cbr, crr := yccRows(m, y, rows)
 	two := rows == 2
 	start := 0
 	if two && f == 4 {
@@ -200,16 +197,23 @@ func (t *yccTables) blocks4(acc, cnt []uint32, ya, yb, cbr, crr []uint8) int {
 	return n
 }
 
+// yccRows returns the luma rows y and y+rows−1 of m (rows 1 or 2) and
+// the chroma rows they share (4:2:0 and 4:2:2: one sample per pixel pair).
+func yccRows(m *image.YCbCr, y, rows int) (ya, yb, cb, cr []uint8) {
+	sw := m.Rect.Dx()
+	ya = m.Y[y*m.YStride : y*m.YStride+sw]
+	yb = m.Y[(y+rows-1)*m.YStride : (y+rows-1)*m.YStride+sw]
+	c0 := m.COffset(0, y)
+	return ya, yb, m.Cb[c0 : c0+(sw+1)/2], m.Cr[c0 : c0+(sw+1)/2]
+}
+
 // accumulateOdd is accumulate for an odd block width f, whose blocks
 // start on odd columns too (a chroma sample may straddle two blocks):
 // column by column, the chroma terms computed once for the column's one
 // or two rows.
 func (t *yccTables) accumulateOdd(acc, cnt []uint32, m *image.YCbCr, y, rows, f int) {
 	sw := m.Rect.Dx()
-	ya := m.Y[y*m.YStride : y*m.YStride+sw]
-	yb := m.Y[(y+rows-1)*m.YStride : (y+rows-1)*m.YStride+sw]
-	c0 := m.COffset(0, y)
-	cbr, crr := m.Cb[c0:c0+(sw+1)/2], m.Cr[c0:c0+(sw+1)/2]
+	ya, yb, cbr, crr := yccRows(m, y, rows)
 	for ox := range cnt {
 		x0, x1 := ox*f, min(sw, ox*f+f)
 		var sr, sg, sb uint32
