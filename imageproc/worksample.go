@@ -107,20 +107,9 @@ func (t *yccTables) accumulate(acc, cnt []uint32, m *image.YCbCr, y, rows, f int
 		if two {
 			// Whole 2 × 2 samples, written out.
 			for ; 2*j+1 < len(a); j++ {
-				cbj, crj := uint16(cb[j])<<8, uint16(cr[j])<<8
-				_, kg, _ := chromaTerms(cb[j], cr[j])
-				q := kg>>16 + greenOff + 1
-				thr := (65536 - kg&0xffff + 256) / 257
 				p, u := a[2*j:2*j+2:2*j+2], b[2*j:2*j+2:2*j+2]
-				v0, v1, v2, v3 := p[0], p[1], u[0], u[1]
-				sr += uint32(t.red[crj|uint16(v0)]) + uint32(t.red[crj|uint16(v1)]) +
-					uint32(t.red[crj|uint16(v2)]) + uint32(t.red[crj|uint16(v3)])
-				sb += uint32(t.blue[cbj|uint16(v0)]) + uint32(t.blue[cbj|uint16(v1)]) +
-					uint32(t.blue[cbj|uint16(v2)]) + uint32(t.blue[cbj|uint16(v3)])
-				sg += uint32(t.clampG[(int32(v0)+q+(int32(v0)-thr)>>31)&1023]) +
-					uint32(t.clampG[(int32(v1)+q+(int32(v1)-thr)>>31)&1023]) +
-					uint32(t.clampG[(int32(v2)+q+(int32(v2)-thr)>>31)&1023]) +
-					uint32(t.clampG[(int32(v3)+q+(int32(v3)-thr)>>31)&1023])
+				r, g, bl := t.quad(cb[j], cr[j], p[0], p[1], u[0], u[1])
+				sr, sg, sb = sr+r, sg+g, sb+bl
 			}
 		}
 		for ; j < len(cb); j++ {
@@ -174,19 +163,8 @@ func (t *yccTables) blocks4(acc, cnt []uint32, ya, yb, cbr, crr []uint8) int {
 		cb, cr := cbr[2*ox:2*ox+2:2*ox+2], crr[2*ox:2*ox+2:2*ox+2]
 		var sr, sg, sb uint32
 		for j := range 2 {
-			cbj, crj := uint16(cb[j])<<8, uint16(cr[j])<<8
-			_, kg, _ := chromaTerms(cb[j], cr[j])
-			q := kg>>16 + greenOff + 1
-			thr := (65536 - kg&0xffff + 256) / 257
-			v0, v1, v2, v3 := a[2*j], a[2*j+1], b[2*j], b[2*j+1]
-			sr += uint32(t.red[crj|uint16(v0)]) + uint32(t.red[crj|uint16(v1)]) +
-				uint32(t.red[crj|uint16(v2)]) + uint32(t.red[crj|uint16(v3)])
-			sb += uint32(t.blue[cbj|uint16(v0)]) + uint32(t.blue[cbj|uint16(v1)]) +
-				uint32(t.blue[cbj|uint16(v2)]) + uint32(t.blue[cbj|uint16(v3)])
-			sg += uint32(t.clampG[(int32(v0)+q+(int32(v0)-thr)>>31)&1023]) +
-				uint32(t.clampG[(int32(v1)+q+(int32(v1)-thr)>>31)&1023]) +
-				uint32(t.clampG[(int32(v2)+q+(int32(v2)-thr)>>31)&1023]) +
-				uint32(t.clampG[(int32(v3)+q+(int32(v3)-thr)>>31)&1023])
+			r, g, bl := t.quad(cb[j], cr[j], a[2*j], a[2*j+1], b[2*j], b[2*j+1])
+			sr, sg, sb = sr+r, sg+g, sb+bl
 		}
 		d := acc[4*ox : 4*ox+3 : 4*ox+3]
 		d[0] += sr
@@ -205,6 +183,25 @@ func yccRows(m *image.YCbCr, y, rows int) (ya, yb, cb, cr []uint8) {
 	yb = m.Y[(y+rows-1)*m.YStride : (y+rows-1)*m.YStride+sw]
 	c0 := m.COffset(0, y)
 	return ya, yb, m.Cb[c0 : c0+(sw+1)/2], m.Cr[c0 : c0+(sw+1)/2]
+}
+
+// quad returns the red, green and blue sums of the four pixels v0…v3
+// that share the chroma sample (cb, cr), converted from the tables (the
+// bytes of image/color's YCbCrToRGB).
+func (t *yccTables) quad(cb, cr, v0, v1, v2, v3 uint8) (sr, sg, sb uint32) {
+	cbj, crj := uint16(cb)<<8, uint16(cr)<<8
+	_, kg, _ := chromaTerms(cb, cr)
+	q := kg>>16 + greenOff + 1
+	thr := (65536 - kg&0xffff + 256) / 257
+	sr = uint32(t.red[crj|uint16(v0)]) + uint32(t.red[crj|uint16(v1)]) +
+		uint32(t.red[crj|uint16(v2)]) + uint32(t.red[crj|uint16(v3)])
+	sb = uint32(t.blue[cbj|uint16(v0)]) + uint32(t.blue[cbj|uint16(v1)]) +
+		uint32(t.blue[cbj|uint16(v2)]) + uint32(t.blue[cbj|uint16(v3)])
+	sg = uint32(t.clampG[(int32(v0)+q+(int32(v0)-thr)>>31)&1023]) +
+		uint32(t.clampG[(int32(v1)+q+(int32(v1)-thr)>>31)&1023]) +
+		uint32(t.clampG[(int32(v2)+q+(int32(v2)-thr)>>31)&1023]) +
+		uint32(t.clampG[(int32(v3)+q+(int32(v3)-thr)>>31)&1023])
+	return sr, sg, sb
 }
 
 // accumulateOdd is accumulate for an odd block width f, whose blocks
