@@ -452,6 +452,12 @@ func findPulse(ink *image.Gray, r *rowInfo, cal grid.Calibration) {
 	r.zeroY = foot - (pen-1)/2
 	r.pulseMM = (foot - top - (pen - 1)) / pxY
 	r.traceX0 = float64(cr.x0+fall) - (pen-1)/2 + pulseTailMM*pxX
+	// The falling line's centre to a fraction of a pixel, over its middle
+	// (clear of the corners).
+	pw := int(math.Ceil(pen))
+	if x, ok := grid.LineCentre(ink, cr.x0+fall-pw-2, cr.x0+fall+2, int(top)+pw+1, int(foot)-pw-1, true); ok && math.Abs(x-(float64(cr.x0+fall)-(pen-1)/2)) < 1 {
+		r.traceX0 = x + pulseTailMM*pxX
+	}
 }
 
 // findTicks records tall, isolated vertical strokes in a row: printed

@@ -195,10 +195,33 @@ func findStackedPulses(ink *image.Gray, rows []rowInfo, cal grid.Calibration) bo
 		if math.Abs(r.pulseMM-best.hMM) > 0.1*best.hMM {
 			r.pulseMM = best.hMM
 		}
-		r.traceX0 = best.fall.centre() + pulseTailMM*pxX
+		r.traceX0 = stackFall(ink, rows, best.fall, best.tops, pxY) + pulseTailMM*pxX
 		r.x0 = min(r.x0, best.rise.x0)
 	}
 	return true
+}
+
+// stackFall is the falling line's centre to a fraction of a pixel
+// (grid.LineCentre) over the lower 3 mm of the stacked pulses, clear of
+// their feet: the median over the rows with a top. The columns found to
+// be covered (colCover allows a pixel either side) only give it to the
+// half pixel, 1.7 ms at 300 dpi and 25 mm/s, which on a QRS stroke
+// drawn at 20 mm/mV is a tenth of a millivolt.
+func stackFall(ink *image.Gray, rows []rowInfo, fall pulseEdge, tops []float64, pxY float64) float64 {
+	var xs []float64
+	for ri, r := range rows {
+		if math.IsNaN(tops[ri]) {
+			continue
+		}
+		if x, ok := grid.LineCentre(ink, fall.x0-2, fall.x1+2, int(r.baseY-3*pxY), int(r.baseY-0.5*pxY), true); ok {
+			xs = append(xs, x)
+		}
+	}
+	if len(xs) == 0 {
+		return fall.centre()
+	}
+	sort.Float64s(xs)
+	return xs[len(xs)/2]
 }
 
 // countPulseMM is the number of rows whose own pulse was measured
