@@ -20,12 +20,12 @@ import (
 // lead's own stroke is printed in its panel, so the value predicted for
 // it lies on ink there. Where the three break the identity by more than
 // offMM of trace for every lead over a stretch, the one lead whose
-// reading points the other way from its prediction over minDir of it
+// reading points the other way from its prediction over most of it
 // (both at least minPred from 0 mV: a reading near 0 mV points nowhere,
 // and III, right and near 0 mV on overlap 3x4+1 seed 12 where I read
 // another row's stroke, was withheld at every beat, 14.1 → 5.8 dB),
-// with the prediction on ink over minInk, is blamed, provided neither
-// other lead does both over maxDir and maxInk; its stretches are
+// with the prediction on ink, is blamed, when the evidence against it
+// clearly exceeds the evidence against the others; its stretches are
 // withheld when they come back at half the beats or more
 // (withholdRepeated). On overlap 3x4+3 seed 3 aVF's path left its own
 // 0.45 mV R wave for the merged strokes of II and V5 below, read −1 to
@@ -38,20 +38,30 @@ import (
 type tripleParams struct {
 	dissentParams
 	inkTolMM float64 // a predicted point lies on ink within this, mm
-	minInk   float64 // share of a stretch's predicted points on ink for the lead blamed
-	minDir   float64 // share of the stretch over which the blamed lead points the other way
-	// Neither of the other two may both point the other way over more
-	// than maxDir of the stretch and have its prediction on ink over more
-	// than maxInk.
-	maxDir, maxInk float64
+	// A lead's evidence over a stretch is the smaller of the share of it
+	// over which the lead points the other way from its prediction and
+	// the share over which that prediction lies on its ink. The lead with
+	// the most is blamed when it has at least minEvidence and margin more
+	// than either other lead.
+	minEvidence, margin float64
+	// A lead blamed clearly at most stretches is blamed at the others
+	// with relaxEvidence and relaxMargin.
+	relaxEvidence, relaxMargin float64
 }
 
 // defaultTriple: the dissent check's thresholds (10 mm of trace, 3 mm
 // from 0 mV, 8 ms, half the beats); a predicted point on ink within
-// 0.35 mm (a pen's width; guideLimb's test) over half the stretch;
-// pointing the other way over 80 % of it; the others 40 % and 30 % at
-// most.
-var defaultTriple = tripleParams{dissentParams: defaultDissent, inkTolMM: 0.35, minInk: 0.5, minDir: 0.8, maxDir: 0.4, maxInk: 0.3}
+// 0.35 mm (a pen's width; guideLimb's test); evidence 0.6 at least and
+// 0.25 more than the next lead's; 0.5 and 0.1 where the lead was blamed
+// at most of the stretches. On overlap 3x4+3 seed 3 the stretches
+// where aVF read the strips' strokes gave aVF 0.67–1.0 and aVR, whose
+// own strokes and aVL's cross its prediction, 0.25–0.44: absolute bounds
+// (aVF pointing the other way over 80 %, the others over 40 % at most)
+// let a beat where aVF pointed the other way over 78 % or aVR over 44 %
+// through as the page's time base moved by a third of a pixel; the
+// beat where aVF pointed the other way over 78 % (evidence 0.67, aVR
+// 0.44) is blamed as its other four beats were.
+var defaultTriple = tripleParams{dissentParams: defaultDissent, inkTolMM: 0.35, minEvidence: 0.6, margin: 0.25, relaxEvidence: 0.5, relaxMargin: 0.1}
 
 // withholdTriple sets to NaN the stretches where exactly three limb
 // leads are present at a time (vals[k] panel k's samples on the record
@@ -136,7 +146,14 @@ func withholdTriple(ink *image.Gray, cal grid.Calibration, fs float64, panels []
 	}
 	gap := int(math.Round(p.gapS * fs))
 	minLen := int(math.Round(p.minS * fs))
-	dissent := make([][]stretch, len(panels))
+	// Per stretch: the lead with the most evidence against it, that
+	// evidence and the next lead's.
+	type verdict struct {
+		sp           span
+		lead         int
+		best, second float64
+	}
+	var vs []verdict
 	for _, sp := range markedSpans(broken, gap, 0) {
 		if sp.last-sp.first+1 < minLen {
 			continue
@@ -159,29 +176,46 @@ func withholdTriple(ink *image.Gray, cal grid.Calibration, fs float64, panels []
 				}
 			}
 		}
-		blamed, others := -1, true
+		v := verdict{sp: sp, lead: -1}
 		for l := range nl {
 			if tot[l] == 0 {
 				continue
 			}
 			t := float64(tot[l])
+			e := math.Min(float64(dir[l])/t, float64(on[l])/t)
 			switch {
-			case float64(dir[l]) >= p.minDir*t && float64(on[l]) >= p.minInk*t:
-				if blamed >= 0 {
-					others = false
-				}
-				blamed = l
-			case float64(dir[l]) > p.maxDir*t && float64(on[l]) > p.maxInk*t:
-				others = false
+			case e > v.best:
+				v.lead, v.best, v.second = l, e, v.best
+			case e > v.second:
+				v.second = e
 			}
 		}
-		if blamed < 0 || !others {
+		if v.lead >= 0 {
+			vs = append(vs, v)
+		}
+	}
+	// A lead blamed clearly at two stretches or more, and at half of them
+	// at least, took other rows' strokes at every beat (a lead's
+	// complexes repeat): where it is again the lead with the most
+	// evidence, with relaxEvidence of it and relaxMargin over the next
+	// lead, it is blamed there too.
+	clear := func(v verdict) bool { return v.best >= p.minEvidence && v.best-v.second >= p.margin }
+	var nClear [nl]int
+	for _, v := range vs {
+		if clear(v) {
+			nClear[v.lead]++
+		}
+	}
+	dissent := make([][]stretch, len(panels))
+	for _, v := range vs {
+		repeated := nClear[v.lead] >= 2 && 2*nClear[v.lead] >= len(vs)
+		if !clear(v) && !(repeated && v.best >= p.relaxEvidence && v.best-v.second >= p.relaxMargin) {
 			continue
 		}
 		// The stretch goes to the copy that supplied most of it.
 		cnt := map[int32]int{}
-		for i := sp.first; i <= sp.last; i++ {
-			if k := ls.src[blamed][i]; k >= 0 {
+		for i := v.sp.first; i <= v.sp.last; i++ {
+			if k := ls.src[v.lead][i]; k >= 0 {
 				cnt[k]++
 			}
 		}
@@ -192,7 +226,7 @@ func withholdTriple(ink *image.Gray, cal grid.Calibration, fs float64, panels []
 			}
 		}
 		if bk >= 0 {
-			dissent[bk] = append(dissent[bk], stretch{sp.first, sp.last})
+			dissent[bk] = append(dissent[bk], stretch{v.sp.first, v.sp.last})
 		}
 	}
 	return withholdRepeated(fs, panels, vals, keep, ls.order, dissent, p.dissentParams, nil,
