@@ -14,6 +14,11 @@ type stroke struct {
 	y0, y1 int
 }
 
+// minPulseMM is the shortest pulse findPulses accepts, mm: half of 1 mV at
+// 5 mm/mV, the smallest printed gain (standards.md §1.1), for the pen's
+// width and a blurred scan.
+const minPulseMM = 2.5
+
 // findPulses finds rectangular calibration pulses in an ink map: two
 // vertical strokes of equal extent, 1.5–16 mm apart, joined along their
 // top by ink (the flat 1 mV level) and with ink at their foot (the
@@ -140,6 +145,16 @@ func findPulses(ink, gray *image.Gray, ppmX, ppmY float64) []Pulse {
 			refinePulse(ink, &p, a, b, top, thick, left >= right)
 			if ppmY > 0 {
 				p.HeightMM = (p.BaseY - p.TopY) / ppmY
+				// 1 mV at the smallest printed gain, 5 mm/mV, is 5 mm
+				// (standards.md §1.1); strokes as short as minRun pass
+				// the stroke test, and on a 100-dpi page two QRS strokes
+				// with a grid dash across their feet made a "pulse" 0.9
+				// mm tall, whose edges, once read to a fraction of a
+				// pixel, matched another such pair's and outvoted the
+				// real pulse in consistent (lowres rhythm seed 3).
+				if p.HeightMM < minPulseMM {
+					continue
+				}
 			}
 			out = append(out, p)
 			taken[i], taken[j] = true, true

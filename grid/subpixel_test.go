@@ -180,3 +180,49 @@ func TestPulseEdgesSubPixel(t *testing.T) {
 		}
 	}
 }
+
+// TestLowresPulseNotOutvoted: on a 100-dpi rhythm page (the eval's lowres
+// condition, record 3) two pairs of QRS strokes with a grid dash across
+// their feet passed the pulse test as "pulses" 0.9 mm tall; read to a
+// fraction of a pixel they agreed with each other and outvoted the one
+// real pulse (gain 0.94 mm/mV). Pulses under minPulseMM are not pulses:
+// the real one is found, its edges within 0.2 px of the truth.
+func TestLowresPulseNotOutvoted(t *testing.T) {
+	rec, err := render.CorpusRecord(3, false)
+	if err != nil {
+		t.Fatal(err)
+	}
+	o, err := render.ConditionOptions("lowres", 3)
+	if err != nil {
+		t.Fatal(err)
+	}
+	o.Layout = render.LayoutRhythm
+	pg, err := render.Render(rec, o)
+	if err != nil {
+		t.Fatal(err)
+	}
+	p, err := imageproc.Prepare(pg.Image, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	r, err := Detect(p, nil)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(r.Pulses) != 1 {
+		t.Fatalf("%d pulses: %+v", len(r.Pulses), r.Pulses)
+	}
+	inv, _ := imageproc.Invert(p.ToSource)
+	tp := pg.Truth.Pulses[0]
+	u0, v0 := pg.Truth.PaperToPx(tp.X0MM, tp.BaselineYMM)
+	u1, v1 := pg.Truth.PaperToPx(tp.X1MM, tp.BaselineYMM-tp.HeightMM)
+	x0, yb := imageproc.Apply(inv, u0, v0)
+	x1, yt := imageproc.Apply(inv, u1, v1)
+	got := r.Pulses[0]
+	for _, d := range [][2]float64{{got.X0, x0}, {got.X1, x1}, {got.BaseY, yb}, {got.TopY, yt}} {
+		if math.Abs(d[0]-d[1]) > 0.2 {
+			t.Errorf("pulse %+v, truth X0 %.2f X1 %.2f BaseY %.2f TopY %.2f", got, x0, x1, yb, yt)
+			break
+		}
+	}
+}
