@@ -47,7 +47,13 @@ func orientation(ink *image.Gray, upLevel uint8) int {
 // upwardSkew is positive when the ink around each trace baseline lies more
 // above it than below (an upright page) and negative when upside down.
 // Baselines are the strongest peaks of the row profile; each is compared
-// over half the distance to its neighbours.
+// over half the distance to its neighbours, and each half of the page
+// gives the balance of all its peaks' ink, (Σ above − Σ below) / Σ both,
+// so a row votes with the ink around it: a header line has little, and
+// on a rhythm strip at 20 mm/mV whose R waves run up through the header
+// to the sheet's edge, the date line, with those strokes below it,
+// outvoted the strip when every peak counted alike (overlap rhythm seeds
+// 5 and 9 were turned upside down).
 func upwardSkew(ink *image.Gray) float64 {
 	w, h := ink.Rect.Dx(), ink.Rect.Dy()
 	// Left and right halves separately: baselines differ where rows are
@@ -64,6 +70,7 @@ func upwardSkew(ink *image.Gray) float64 {
 			prof[y] = float64(s)
 		}
 		peaks := profilePeaks(prof, max(4, h/25))
+		var sumUp, sumDown float64
 		for i, b := range peaks {
 			lo, hi := 0, h-1
 			if i > 0 {
@@ -84,9 +91,11 @@ func upwardSkew(ink *image.Gray) float64 {
 			for y := b + gap + 1; y <= hi; y++ {
 				down += prof[y]
 			}
-			if up+down > 0 {
-				total += (up - down) / (up + down)
-			}
+			sumUp += up
+			sumDown += down
+		}
+		if sumUp+sumDown > 0 {
+			total += (sumUp - sumDown) / (sumUp + sumDown)
 		}
 	}
 	return total
