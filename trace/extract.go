@@ -114,7 +114,11 @@ func Extract(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse, opt *Op
 		// upside down (pulses at the right ends, hanging below the
 		// baseline). Trace the page turned by 180° if that finds pulses.
 		rot := rotate180(ink)
-		if rr := findRows(rot, cal, nil); countPulses(rr) >= 2 {
+		// Two pulses at least, or the pulse of a page's only row (a
+		// rhythm strip at 20 mm/mV whose R waves run off the sheet's top
+		// edge looked upside down to the front end: overlap rhythm seeds
+		// 5 and 9).
+		if rr := findRows(rot, cal, nil); len(rr) > 0 && countPulses(rr) >= min(2, len(rr)) {
 			ink, rows, turned = rot, rr, true
 			res.Warnings = append(res.Warnings, "the page appears upside down (calibration pulses on the right); traced turned by 180°")
 		}

@@ -175,6 +175,7 @@ func findRows(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse) []rowI
 	}
 	// A row without a pulse that never leaves its line is the edge of
 	// the sheet (a photo's desk), a rule or grid dashes, not a trace.
+	dropOddPulses(rows)
 	rows = dropFlatRows(ink, rows, pxX, pxY)
 	// Fewer than half of the rows with a pulse of their own: the pulses
 	// may be taller than the row pitch and overlap.
@@ -182,7 +183,8 @@ func findRows(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse) []rowI
 		// The stack spans the trace rows: a row above or below it
 		// without a pulse is header or footer text crossed by tall
 		// complexes, one close to a pulse row a tangle of complexes.
-		rows = stackRows(rows)
+		dropOddPulses(rows)
+		rows = stackRows(rows, pxX)
 	}
 	// When most rows start with a calibration pulse, rows without one are
 	// header or footer text, or stray marks.
@@ -596,6 +598,36 @@ func commonStart(rows []rowInfo, pxX float64) {
 		r := &rows[i]
 		if !r.hasPulse && r.traceX0 < med-pxX && float64(r.x1) > med+100*pxX {
 			r.traceX0 = med
+		}
+	}
+}
+
+// dropOddPulses takes back the pulses findPulse read on rows whose height
+// is off the page's own by more than a quarter (the median of the rows'
+// pulse heights, when three rows or more have one): one page prints one
+// gain (standards.md §1.1). Between the rows of a 12 × 1 page at 20
+// mm/mV, where the pulses overlap into two lines down the page, a tangle
+// of complexes crossed by them read as pulses 2.4 and 6.3 mm tall; rows
+// that close to a pulse row set the row pitch, and the page's top and
+// bottom rows, without a pulse of their own, were dropped as too close
+// to the pulse rows (overlap 12x1 seed 9: 10 rows, read as a rhythm
+// strip of one lead).
+func dropOddPulses(rows []rowInfo) {
+	var hs []float64
+	for _, r := range rows {
+		if r.pulseMM > 0 {
+			hs = append(hs, r.pulseMM)
+		}
+	}
+	if len(hs) < 3 {
+		return
+	}
+	sort.Float64s(hs)
+	med := hs[len(hs)/2]
+	for i := range rows {
+		r := &rows[i]
+		if r.pulseMM > 0 && math.Abs(r.pulseMM-med) > 0.25*med {
+			r.hasPulse, r.pulseMM, r.zeroY, r.traceX0 = false, 0, math.NaN(), float64(r.x0)
 		}
 	}
 }

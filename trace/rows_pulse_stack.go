@@ -239,8 +239,16 @@ func countPulseMM(rows []rowInfo) int {
 // stackRows returns the rows of a page whose pulses were read as a stack
 // (findStackedPulses): the rows from the first to the last with a pulse,
 // without those that sit within 0.6 of the stack's pitch from a row with
-// a pulse (profile peaks of the complexes tangled between two rows).
-func stackRows(rows []rowInfo) []rowInfo {
+// a pulse (profile peaks of the complexes tangled between two rows), and
+// beyond them the rows that continue the stack at its pitch (0.75–1.4
+// pitches from the last row kept) over the pulse rows' stretch of paper
+// (ending within 5 mm of them, starting no later than 25 mm after them,
+// and read as a continuous line, not the looser reading that header text
+// crossed by tall complexes passes): trace rows whose pulse was not read. The top row of a 12 × 1 page at 20
+// mm/mV has its pulse's top in the header and the bottom rows theirs
+// among the complexes of the rows above; header and footer text lines
+// are shorter (overlap 12x1 seed 9: rows I, V5 and V6 were dropped).
+func stackRows(rows []rowInfo, pxX float64) []rowInfo {
 	tops := make([]float64, len(rows))
 	for i, r := range rows {
 		tops[i] = math.NaN()
@@ -249,18 +257,61 @@ func stackRows(rows []rowInfo) []rowInfo {
 		}
 	}
 	near := nearStack(rows, tops)
-	var out []rowInfo
 	lo, hi := math.Inf(1), math.Inf(-1)
+	var x0s, x1s, ys []float64
 	for _, r := range rows {
 		if r.hasPulse {
 			lo, hi = math.Min(lo, r.baseY), math.Max(hi, r.baseY)
+			x0s, x1s, ys = append(x0s, float64(r.x0)), append(x1s, float64(r.x1)), append(ys, r.baseY)
 		}
 	}
+	keep := make([]bool, len(rows))
 	for i, r := range rows {
-		if r.baseY < lo || r.baseY > hi || !r.hasPulse && near[i] {
-			continue
+		keep[i] = r.baseY >= lo && r.baseY <= hi && (r.hasPulse || !near[i])
+	}
+	if len(ys) >= 2 {
+		var sp []float64
+		for k := 1; k < len(ys); k++ {
+			sp = append(sp, ys[k]-ys[k-1])
 		}
-		out = append(out, r)
+		sort.Float64s(sp)
+		sort.Float64s(x0s)
+		sort.Float64s(x1s)
+		pitch, refX0, refX1 := sp[(len(sp)-1)/2], x0s[len(x0s)/2], x1s[len(x1s)/2]
+		spans := func(r rowInfo) bool {
+			return !r.loose && math.Abs(float64(r.x1)-refX1) <= 5*pxX && float64(r.x0) <= refX0+25*pxX
+		}
+		// Outwards from the stack's first row (step −1) and last (+1).
+		for _, step := range []int{-1, 1} {
+			edge := lo
+			start := 0
+			if step > 0 {
+				edge, start = hi, len(rows)-1
+			}
+			for k := start; k >= 0 && k < len(rows); k -= step {
+				if step < 0 && rows[k].baseY < lo || step > 0 && rows[k].baseY > hi {
+					continue
+				}
+				start = k // the stack's edge row
+				break
+			}
+			for k := start + step; k >= 0 && k < len(rows); k += step {
+				d := math.Abs(rows[k].baseY - edge)
+				if d < 0.75*pitch {
+					continue
+				}
+				if d > 1.4*pitch || !spans(rows[k]) {
+					break
+				}
+				keep[k], edge = true, rows[k].baseY
+			}
+		}
+	}
+	var out []rowInfo
+	for i, r := range rows {
+		if keep[i] {
+			out = append(out, r)
+		}
 	}
 	return out
 }
