@@ -97,8 +97,8 @@
 //     count as meeting) times the share of its printed window returned;
 //     Result.Crossed gives the met share, and leads with a tenth or more
 //     are listed by CrossedLeads. On the eval's 21 overlap pages the
-//     listed leads read a median of 7.5 dB and include 78 of the 83 leads
-//     below 10 dB, the others 18.3 dB; the quality ranks leads by SNR with
+//     listed leads read a median of 7.3 dB and include 79 of the 84 leads
+//     below 10 dB, the others 18.9 dB; the quality ranks leads by SNR with
 //     Spearman ρ 0.65 (0.29 for the path's score alone, which stays at
 //     0.99–1.00 on ink shared with other rows).
 //   - Limb identities (limb_guide.go): limb leads printed at the same time
@@ -130,11 +130,18 @@
 // A4) the strokes merge into one run per column and the path cannot tell
 // whose stroke it follows; those leads lose QRS amplitude or, on six-row
 // and 12 × 1 pages, swap strokes (the eval's overlap condition, n = 3,
-// seed 1: 13.0 dB median, p10 2.5 dB, all leads found, no swap; by
-// layout 12 × 1 3.4, 3x4+3 6.4, 6x2 11.4, 3x4+1 13.5, 3x4 17.4, Cabrera
-// 18.3 dB; on seeds 4–12, 15 swapped leads on 84 overlap pages, mostly
-// 12 × 1 pages with three limb leads wrong together, and some precordial
-// leads, which no identity ties). Such leads are listed by CrossedLeads
+// seed 1: 12.6 dB median, p10 2.7 dB, all leads found, no swap; by
+// layout 12 × 1 3.4, 3x4+3 6.5, 6x2 11.8, 3x4+1 14.1, 3x4 18.2, Cabrera
+// 18.5 dB; on seeds 4–12, 13 swapped leads on 63 overlap pages, on 12 × 1
+// and 3x4+3 pages with three limb leads wrong together, and some
+// precordial leads, which no identity ties; record 5 printed 12 × 1 at
+// 10 mm/mV, whose V2–V4 complexes are taller than the row pitch, swaps
+// V3). Where an R wave's apex lies in the X of another row's S-wave
+// strokes crossing it at a small angle, no per-column choice can see
+// where it turns (overlap 3x4+1 seed 2: aVL read 0.78 of 1.25 mV at every
+// beat). Small leads on the overlap pages are bounded by the record's own
+// noise, finer than the pen (record 1's III, 12 dB at best; record 2's
+// aVF, 13 dB). Such leads are listed by CrossedLeads
 // (confidence.go). Most of
 // the lost height is at apexes beyond the row's search band (two or three
 // row pitches away on 12 × 1 pages: a wider band was measured worse
@@ -144,7 +151,8 @@
 // the withheld stretches can single them out. On synthetic pages the
 // tallest complexes of the top row can run off the sheet, where the
 // front end's paper mask drops them. A row missing at the top or bottom
-// of the page is not detected as missing.
+// of the page is not detected as missing, except on a stack of 20 mm/mV
+// pulses, which rows continuing its pitch extend (stackRows).
 // Pages turned by a quarter turn are not traced (the front end turns them
 // upright). Detail finer than the pen width (high-frequency noise) is not
 // recoverable.
