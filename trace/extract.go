@@ -30,6 +30,19 @@ type Panel struct {
 	ZeroY   float64         // y of 0 mV used for this panel, px
 	Path    []Point         // followed trace, image px, left to right
 	Quality float64         // 0..1: ink coverage of the path and its smoothness
+	// X0 is the x of time T0, px; PxPerS and PxPerMV the scales (negative
+	// on a page traced turned by 180°), so that Point maps a returned
+	// sample back onto the image.
+	X0, PxPerS, PxPerMV float64
+}
+
+// Point is where the panel prints value mv (upright, as the record holds
+// it) at time t, image px.
+func (p *Panel) Point(t, mv float64) Point {
+	if p.Negated {
+		mv = -mv
+	}
+	return Point{p.X0 + (t-p.T0)*p.PxPerS, p.ZeroY - mv*p.PxPerMV}
 }
 
 // Result is the outcome of Extract.
@@ -302,6 +315,7 @@ func Extract(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse, opt *Op
 			tp.p.ZeroY = zero
 			c := lr.Cells[k]
 			w := (c.T1S - c.T0S) * cal.SpeedMMPerS.V * pxX
+			tp.p.X0, tp.p.PxPerS, tp.p.PxPerMV = xc, cal.SpeedMMPerS.V*pxX, cal.GainMMPerMV.V*cal.PxPerMMY.V
 			tp.vals = sampleRow(tp.p.Path, xc, c.T0S, c.T1S, cal, zero, o.SampleRate, n)
 			if c.Negated {
 				for i, v := range tp.vals {
@@ -482,6 +496,7 @@ func Extract(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse, opt *Op
 			w, h := ink.Rect.Min.X+ink.Rect.Max.X-1, ink.Rect.Min.Y+ink.Rect.Max.Y-1
 			p.Bounds = image.Rect(w+1-p.Bounds.Max.X, h+1-p.Bounds.Max.Y, w+1-p.Bounds.Min.X, h+1-p.Bounds.Min.Y)
 			p.ZeroY = float64(h) - p.ZeroY
+			p.X0, p.PxPerS, p.PxPerMV = float64(w)-p.X0, -p.PxPerS, -p.PxPerMV
 			path := make([]Point, len(p.Path))
 			for i, q := range p.Path {
 				path[len(p.Path)-1-i] = Point{float64(w) - q.X, float64(h) - q.Y}

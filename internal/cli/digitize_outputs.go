@@ -5,6 +5,7 @@ package cli
 import (
 	"fmt"
 	"io"
+	"math"
 	"path/filepath"
 
 	"tracelift/ecg"
@@ -160,21 +161,40 @@ func writeOutputs(stem, srcPath string, pg decode.Page, r *pipeline.Result, form
 	return out, nil
 }
 
-// overlaySegments maps every followed trace from the upright page back to
-// source-image pixels.
+// overlaySegments draws, for every printed panel, the signal the record
+// returns for its lead over the panel's window, mapped from the upright
+// page back to source-image pixels: what was withheld shows as a gap and
+// what the self-checks re-read shows where it was re-read, so the picture
+// is the record, not the path followed before the checks. A lead printed
+// twice shows its merged signal on both copies.
 func overlaySegments(r *pipeline.Result) []overlay.Segment {
 	if r.Trace == nil || r.Page == nil {
 		return nil
 	}
+	rec := r.Record()
 	segs := make([]overlay.Segment, 0, len(r.Trace.Panels))
 	for _, p := range r.Trace.Panels {
-		s := overlay.Segment{Lead: p.Lead.String(), Quality: p.Quality, Points: make([][2]float64, len(p.Path))}
+		s := overlay.Segment{Lead: p.Lead.String(), Quality: p.Quality}
 		if p.Negated {
 			s.Lead = "-" + s.Lead
 		}
-		for i, pt := range p.Path {
+		sig := rec.Signal(p.Lead)
+		if sig == nil || p.PxPerS == 0 {
+			continue
+		}
+		// One point per image column of the window.
+		n := int(math.Ceil(math.Abs((p.T1 - p.T0) * p.PxPerS)))
+		s.Points = make([][2]float64, 0, n+1)
+		for i := 0; i <= n; i++ {
+			t := p.T0 + (p.T1-p.T0)*float64(i)/float64(max(n, 1))
+			v := sig.At(t)
+			if math.IsNaN(v) {
+				s.Points = append(s.Points, [2]float64{math.NaN(), math.NaN()})
+				continue
+			}
+			pt := p.Point(t, v)
 			x, y := r.Page.SourcePoint(pt.X, pt.Y)
-			s.Points[i] = [2]float64{x, y}
+			s.Points = append(s.Points, [2]float64{x, y})
 		}
 		segs = append(segs, s)
 	}
