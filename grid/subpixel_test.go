@@ -1,6 +1,7 @@
 package grid
 
 import (
+	"fmt"
 	"image"
 	"math"
 	"math/rand/v2"
@@ -98,30 +99,10 @@ func TestMajorGridPitch(t *testing.T) {
 		t.Skip("renders full pages")
 	}
 	for _, layout := range []string{"6x2", "3x4"} {
-		rec, err := render.CorpusRecord(2, false)
-		if err != nil {
-			t.Fatal(err)
+		if o, err := render.ConditionOptions("scan", 2); err != nil || o.Grid.Kind != render.GridMajor {
+			t.Fatalf("seed 2 does not draw a grid of 5 mm lines (%v)", err)
 		}
-		o, err := render.ConditionOptions("scan", 2)
-		if err != nil {
-			t.Fatal(err)
-		}
-		if o.Grid.Kind != render.GridMajor {
-			t.Fatalf("seed 2 draws grid %q, want %q", o.Grid.Kind, render.GridMajor)
-		}
-		o.Layout = layout
-		pg, err := render.Render(rec, o)
-		if err != nil {
-			t.Fatal(err)
-		}
-		p, err := imageproc.Prepare(pg.Image, nil)
-		if err != nil {
-			t.Fatal(err)
-		}
-		r, err := Detect(p, nil)
-		if err != nil {
-			t.Fatal(err)
-		}
+		pg, p, r := detectPage(t, "scan", layout, 2)
 		tr := pg.Truth
 		s := Evaluate(p, r, Reference{PaperToImage: tr.PaperToImage, ImageToPaper: tr.PxToPaper, GridRectMM: tr.GridRectMM,
 			RotationDeg: tr.RotationDeg, GainMMPerMV: tr.GainMMPerMV, SpeedMMPerS: tr.SpeedMMPerS})
@@ -150,33 +131,19 @@ func TestPulseEdgesSubPixel(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	inv, ok := imageproc.Invert(p.ToSource)
-	if !ok {
-		t.Fatal("singular page mapping")
-	}
-	tr := pg.Truth
 	if len(r.Pulses) < 3 {
 		t.Fatalf("%d pulses found", len(r.Pulses))
 	}
 	for _, got := range r.Pulses {
 		best := math.Inf(1)
 		var want Pulse
-		for _, tp := range tr.Pulses {
-			u0, v0 := tr.PaperToPx(tp.X0MM, tp.BaselineYMM)
-			u1, v1 := tr.PaperToPx(tp.X1MM, tp.BaselineYMM-tp.HeightMM)
-			x0, yb := imageproc.Apply(inv, u0, v0)
-			x1, yt := imageproc.Apply(inv, u1, v1)
-			if d := math.Abs(yb - got.BaseY); d < best {
-				best, want = d, Pulse{X0: x0, X1: x1, BaseY: yb, TopY: yt}
+		for _, tp := range pg.Truth.Pulses {
+			if w := truthPulse(t, pg, p, tp); math.Abs(w.BaseY-got.BaseY) < best {
+				best, want = math.Abs(w.BaseY-got.BaseY), w
 			}
 		}
-		for _, d := range []struct {
-			name      string
-			got, want float64
-		}{{"X0", got.X0, want.X0}, {"X1", got.X1, want.X1}, {"BaseY", got.BaseY, want.BaseY}, {"TopY", got.TopY, want.TopY}} {
-			if math.Abs(d.got-d.want) > 0.1 {
-				t.Errorf("pulse at y %.0f: %s %.2f, truth %.2f", want.BaseY, d.name, d.got, d.want)
-			}
+		if off := pulseOff(got, want, 0.1); off != "" {
+			t.Errorf("pulse at y %.0f: %s", want.BaseY, off)
 		}
 	}
 }
@@ -188,15 +155,29 @@ func TestPulseEdgesSubPixel(t *testing.T) {
 // real pulse (gain 0.94 mm/mV). Pulses under minPulseMM are not pulses:
 // the real one is found, its edges within 0.2 px of the truth.
 func TestLowresPulseNotOutvoted(t *testing.T) {
-	rec, err := render.CorpusRecord(3, false)
+	pg, p, r := detectPage(t, "lowres", render.LayoutRhythm, 3)
+	if len(r.Pulses) != 1 {
+		t.Fatalf("%d pulses: %+v", len(r.Pulses), r.Pulses)
+	}
+	if off := pulseOff(r.Pulses[0], truthPulse(t, pg, p, pg.Truth.Pulses[0]), 0.2); off != "" {
+		t.Error(off)
+	}
+}
+
+// detectPage renders the eval corpus's page of record seed under a
+// condition in a layout (render.CorpusRecord, render.ConditionOptions)
+// and runs the front end and Detect on it.
+func detectPage(t *testing.T, cond, layout string, seed uint64) (*render.Page, *imageproc.Page, *Result) {
+	t.Helper()
+	rec, err := render.CorpusRecord(seed, cond == "overlap")
 	if err != nil {
 		t.Fatal(err)
 	}
-	o, err := render.ConditionOptions("lowres", 3)
+	o, err := render.ConditionOptions(cond, seed)
 	if err != nil {
 		t.Fatal(err)
 	}
-	o.Layout = render.LayoutRhythm
+	o.Layout = layout
 	pg, err := render.Render(rec, o)
 	if err != nil {
 		t.Fatal(err)
@@ -209,20 +190,33 @@ func TestLowresPulseNotOutvoted(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if len(r.Pulses) != 1 {
-		t.Fatalf("%d pulses: %+v", len(r.Pulses), r.Pulses)
+	return pg, p, r
+}
+
+// truthPulse is the renderer's pulse tp on the upright page p.
+func truthPulse(t *testing.T, pg *render.Page, p *imageproc.Page, tp render.TruthPulse) Pulse {
+	t.Helper()
+	inv, ok := imageproc.Invert(p.ToSource)
+	if !ok {
+		t.Fatal("singular page mapping")
 	}
-	inv, _ := imageproc.Invert(p.ToSource)
-	tp := pg.Truth.Pulses[0]
 	u0, v0 := pg.Truth.PaperToPx(tp.X0MM, tp.BaselineYMM)
 	u1, v1 := pg.Truth.PaperToPx(tp.X1MM, tp.BaselineYMM-tp.HeightMM)
 	x0, yb := imageproc.Apply(inv, u0, v0)
 	x1, yt := imageproc.Apply(inv, u1, v1)
-	got := r.Pulses[0]
-	for _, d := range [][2]float64{{got.X0, x0}, {got.X1, x1}, {got.BaseY, yb}, {got.TopY, yt}} {
-		if math.Abs(d[0]-d[1]) > 0.2 {
-			t.Errorf("pulse %+v, truth X0 %.2f X1 %.2f BaseY %.2f TopY %.2f", got, x0, x1, yb, yt)
-			break
+	return Pulse{X0: x0, X1: x1, BaseY: yb, TopY: yt}
+}
+
+// pulseOff reports the first of got's edges and levels more than tol px
+// from want's ("" when none is).
+func pulseOff(got, want Pulse, tol float64) string {
+	for _, d := range []struct {
+		name      string
+		got, want float64
+	}{{"X0", got.X0, want.X0}, {"X1", got.X1, want.X1}, {"BaseY", got.BaseY, want.BaseY}, {"TopY", got.TopY, want.TopY}} {
+		if math.Abs(d.got-d.want) > tol {
+			return fmt.Sprintf("%s %.2f, truth %.2f", d.name, d.got, d.want)
 		}
 	}
+	return ""
 }
