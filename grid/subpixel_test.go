@@ -119,18 +119,7 @@ func TestPulseEdgesSubPixel(t *testing.T) {
 	if testing.Short() {
 		t.Skip("renders a full page")
 	}
-	pg, err := render.CorpusPage(2, "gray", 0)
-	if err != nil {
-		t.Fatal(err)
-	}
-	p, err := imageproc.Prepare(pg.Image, nil)
-	if err != nil {
-		t.Fatal(err)
-	}
-	r, err := Detect(p, nil)
-	if err != nil {
-		t.Fatal(err)
-	}
+	pg, p, r := detectPage(t, "gray", "", 2)
 	if len(r.Pulses) < 3 {
 		t.Fatalf("%d pulses found", len(r.Pulses))
 	}
@@ -166,7 +155,8 @@ func TestLowresPulseNotOutvoted(t *testing.T) {
 
 // detectPage renders the eval corpus's page of record seed under a
 // condition in a layout (render.CorpusRecord, render.ConditionOptions)
-// and runs the front end and Detect on it.
+// (its own layout when layout is "") and runs the front end and Detect on
+// it.
 func detectPage(t *testing.T, cond, layout string, seed uint64) (*render.Page, *imageproc.Page, *Result) {
 	t.Helper()
 	rec, err := render.CorpusRecord(seed, cond == "overlap")
@@ -177,7 +167,9 @@ func detectPage(t *testing.T, cond, layout string, seed uint64) (*render.Page, *
 	if err != nil {
 		t.Fatal(err)
 	}
-	o.Layout = layout
+	if layout != "" {
+		o.Layout = layout
+	}
 	pg, err := render.Render(rec, o)
 	if err != nil {
 		t.Fatal(err)
