@@ -48,4 +48,7 @@ type Pulse struct {
 	BaseY    float64 // y of the pulse's foot: the row's 0 mV level, px
 	TopY     float64 // y of the pulse's top, px
 	HeightMM float64 // (BaseY − TopY) / px per mm along y
+	// levelsRead: the top and the foot were located on their lines
+	// (refinePulse), not from the strokes' ends.
+	levelsRead bool
 }

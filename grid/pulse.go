@@ -178,6 +178,7 @@ func findPulses(ink, gray *image.Gray, ppmX, ppmY float64) []Pulse {
 // measure keeps its whole-pixel value. footLeft says on which side of the
 // pulse the baseline's ink is read.
 func refinePulse(ink *image.Gray, p *Pulse, a, b stroke, top, thick int, footLeft bool) {
+	topOK, footOK := false, false
 	y0, y1 := top+thick+1, max(a.y1, b.y1)-thick-1 // the strokes' middles, clear of the corners
 	if v, ok := LineCentre(ink, a.x0-2, a.x1+2, y0, y1, true); ok {
 		p.X0 = v
@@ -188,7 +189,7 @@ func refinePulse(ink *image.Gray, p *Pulse, a, b stroke, top, thick int, footLef
 	// The top between the strokes, clear of the corners.
 	pad := max(2, thick)
 	if v, ok := LineCentre(ink, int(p.TopY)-thick-1, int(p.TopY)+thick+1, a.x1+pad, b.x0-pad, false); ok {
-		p.TopY = v
+		p.TopY, topOK = v, true
 	}
 	// The foot: the baseline beside the pulse, over one gap's width.
 	w := b.x0 - a.x1
@@ -197,8 +198,9 @@ func refinePulse(ink *image.Gray, p *Pulse, a, b stroke, top, thick int, footLef
 		fx0, fx1 = a.x0-pad-w/2, a.x0-pad
 	}
 	if v, ok := LineCentre(ink, int(p.BaseY)-thick-1, int(p.BaseY)+thick+1, fx0, fx1, false); ok {
-		p.BaseY = v
+		p.BaseY, footOK = v, true
 	}
+	p.levelsRead = topOK && footOK
 }
 
 // LineCentre locates a straight printed line to a fraction of a pixel:

@@ -174,7 +174,12 @@ func detectPage(t *testing.T, cond, layout string, seed uint64) (*render.Page, *
 	if err != nil {
 		t.Fatal(err)
 	}
-	p, err := imageproc.Prepare(pg.Image, nil)
+	var opt imageproc.Options
+	if cond == "fax" {
+		// A fax file carries its resolution (see corpusScore).
+		opt.DPIX, opt.DPIY, _ = pg.Truth.Resolution()
+	}
+	p, err := imageproc.Prepare(pg.Image, &opt)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -211,4 +216,21 @@ func pulseOff(got, want Pulse, tol float64) string {
 		}
 	}
 	return ""
+}
+
+// TestFaxGainFromReadLevels: on the eval's fax pages of record 6 two
+// pulses are found; one's foot line was broken by the fax, its height
+// from the strokes' ends read 10.5 mm, and the median of two took it:
+// gain 10.5 mm/mV. Heights whose top and foot were both located on their
+// lines are preferred (levelsRead): 10 mm/mV, read from the pulse.
+func TestFaxGainFromReadLevels(t *testing.T) {
+	if testing.Short() {
+		t.Skip("renders two pages")
+	}
+	for _, layout := range []string{"3x4", "cabrera-3x4"} {
+		_, _, r := detectPage(t, "fax", layout, 6)
+		if g := r.Calibration.GainMMPerMV; g.V != 10 || g.Origin != FromPulse {
+			t.Errorf("%s: gain %.2f mm/mV (%s), want 10 from the pulses", layout, g.V, g.Origin)
+		}
+	}
 }
