@@ -173,9 +173,9 @@ func findRows(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse) []rowI
 			r.x1 = int(r.traceX0 + 250*pxX)
 		}
 	}
+	dropOddPulses(rows)
 	// A row without a pulse that never leaves its line is the edge of
 	// the sheet (a photo's desk), a rule or grid dashes, not a trace.
-	dropOddPulses(rows)
 	rows = dropFlatRows(ink, rows, pxX, pxY)
 	// Fewer than half of the rows with a pulse of their own: the pulses
 	// may be taller than the row pitch and overlap.

@@ -244,10 +244,10 @@ func countPulseMM(rows []rowInfo) int {
 // pitches from the last row kept) over the pulse rows' stretch of paper
 // (ending within 5 mm of them, starting no later than 25 mm after them,
 // and read as a continuous line, not the looser reading that header text
-// crossed by tall complexes passes): trace rows whose pulse was not read. The top row of a 12 × 1 page at 20
-// mm/mV has its pulse's top in the header and the bottom rows theirs
-// among the complexes of the rows above; header and footer text lines
-// are shorter (overlap 12x1 seed 9: rows I, V5 and V6 were dropped).
+// crossed by tall complexes passes): trace rows whose pulse was not read.
+// The top row of a 12 × 1 page at 20 mm/mV has its pulse's top in the
+// header and the bottom rows theirs among the complexes of the rows
+// above (overlap 12x1 seed 9: rows I, V5 and V6 were dropped).
 func stackRows(rows []rowInfo, pxX float64) []rowInfo {
 	tops := make([]float64, len(rows))
 	for i, r := range rows {
@@ -281,21 +281,20 @@ func stackRows(rows []rowInfo, pxX float64) []rowInfo {
 		spans := func(r rowInfo) bool {
 			return !r.loose && math.Abs(float64(r.x1)-refX1) <= 5*pxX && float64(r.x0) <= refX0+25*pxX
 		}
-		// Outwards from the stack's first row (step −1) and last (+1).
-		for _, step := range []int{-1, 1} {
-			edge := lo
-			start := 0
-			if step > 0 {
-				edge, start = hi, len(rows)-1
-			}
-			for k := start; k >= 0 && k < len(rows); k -= step {
-				if step < 0 && rows[k].baseY < lo || step > 0 && rows[k].baseY > hi {
-					continue
+		// Outwards from the stack's first pulse row (upwards) and its
+		// last (downwards); rows run top to bottom.
+		first, last := -1, -1
+		for i, r := range rows {
+			if r.hasPulse {
+				if first < 0 {
+					first = i
 				}
-				start = k // the stack's edge row
-				break
+				last = i
 			}
-			for k := start + step; k >= 0 && k < len(rows); k += step {
+		}
+		for _, e := range [2]struct{ from, step int }{{first, -1}, {last, 1}} {
+			edge := rows[e.from].baseY
+			for k := e.from + e.step; k >= 0 && k < len(rows); k += e.step {
 				d := math.Abs(rows[k].baseY - edge)
 				if d < 0.75*pitch {
 					continue
