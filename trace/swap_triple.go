@@ -199,17 +199,17 @@ func withholdTriple(ink *image.Gray, cal grid.Calibration, fs float64, panels []
 	// complexes repeat): where it is again the lead with the most
 	// evidence, with relaxEvidence of it and relaxMargin over the next
 	// lead, it is blamed there too.
-	clear := func(v verdict) bool { return v.best >= p.minEvidence && v.best-v.second >= p.margin }
+	blamedClearly := func(v verdict) bool { return v.best >= p.minEvidence && v.best-v.second >= p.margin }
 	var nClear [nl]int
 	for _, v := range vs {
-		if clear(v) {
+		if blamedClearly(v) {
 			nClear[v.lead]++
 		}
 	}
 	dissent := make([][]stretch, len(panels))
 	for _, v := range vs {
 		repeated := nClear[v.lead] >= 2 && 2*nClear[v.lead] >= len(vs)
-		if !clear(v) && !(repeated && v.best >= p.relaxEvidence && v.best-v.second >= p.relaxMargin) {
+		if !blamedClearly(v) && !(repeated && v.best >= p.relaxEvidence && v.best-v.second >= p.relaxMargin) {
 			continue
 		}
 		// The stretch goes to the copy that supplied most of it.
