@@ -254,6 +254,25 @@ const maxInkRewardMM = 20
 //   - basePerMM 0.006 or 0.015 and inkReward 0.04–0.07 with the travel
 //     reward: 0.1–0.7 dB lower; the pen width from the runs within half a
 //     row pitch of the baseline: 11.9 dB.
+//   - Following neighbouring rows jointly where their paths meet (a
+//     Viterbi search over pairs of runs, one per row, scored as follow
+//     scores each plus 0.1 per mm of ink in the column that neither path
+//     nor any other row's path draws, between the two paths' levels
+//     before and after; a window kept when it lowered that joint cost by
+//     1.0 and neither path went further towards the other row). On
+//     10 mm/mV pages (seeds 4–6, 147 pages) it freed record 5's 12 × 1
+//     V3 on its clean, scan and pen-mark pages (−1.6 → 7.2 dB, no more
+//     swapped), 16 leads up and 2 down; on the overlap corpus 9 up and
+//     29 down, median 12.6 → 12.5 dB and nine new swaps on 3x4+3 pages.
+//     There the R wave of one rhythm row and the S wave of the next
+//     cross in an X, and the ink is explained equally well by both
+//     traces crossing and by both turning back; the pair search chose
+//     the turn. The stroke drawn by an apex inside a merged run is not
+//     known either (the pen turns inside the column), so a path going
+//     deeper into a merged run "explains" more of it. Gates tried on top
+//     (no run of the window taller than 1.5–2.5 row pitches; no stroke
+//     of it past either baseline by 0.7–1 pitch) either kept the overlap
+//     losses or removed every window. Not kept.
 
 // farThinCost is followParams.farCost.
 const farThinCost = 0.2
