@@ -12,6 +12,7 @@ type panelJob struct {
 	base           float64         // baseline (0 mV if known) of the row, px
 	upLim, downLim float64         // dropExcursions limits, px
 	maxLen         float64         // longest far excursion kept, px
+	endLen         float64         // longest far excursion kept at an end of the path, px
 	pr             pathResult
 	// The band's runs as first scanned (runs, off as in columnRuns), for
 	// re-following with a neighbour's ink removed.
@@ -35,7 +36,7 @@ func (j *panelJob) follow(cr *columnRuns, pxY float64) {
 	fp.farUp, fp.farDown = j.upLim, j.downLim
 	fp.penY0, fp.penY1 = j.penY0, j.penY1
 	j.pr = follow(cr, fp)
-	j.pr.points, j.pr.onInk = dropExcursions(j.pr.points, j.pr.onInk, j.base, j.upLim, j.downLim, j.maxLen)
+	j.pr.points, j.pr.onInk = dropExcursions(j.pr.points, j.pr.onInk, j.base, j.upLim, j.downLim, j.maxLen, j.endLen)
 }
 
 // separateRows re-follows panels whose path meets a neighbouring row's

@@ -20,7 +20,7 @@ func twoRowJobs(m *image.Gray, b0, b1 float64) [][]panelJob {
 		if ri == 1 {
 			upLim, downLim = 0.5*pitch, math.Inf(1)
 		}
-		j := panelJob{bounds: image.Rect(0, int(b-up), m.Rect.Dx(), int(b+down)).Intersect(m.Rect), base: b, upLim: upLim, downLim: downLim, maxLen: 60}
+		j := panelJob{bounds: image.Rect(0, int(b-up), m.Rect.Dx(), int(b+down)).Intersect(m.Rect), base: b, upLim: upLim, downLim: downLim, maxLen: 60, endLen: 24}
 		cr.scan(m, j.bounds)
 		j.follow(&cr, 10)
 		j.keepRuns(&cr)
