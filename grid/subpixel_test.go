@@ -234,3 +234,23 @@ func TestFaxGainFromReadLevels(t *testing.T) {
 		}
 	}
 }
+
+// TestPulseEdgeOnGridLine: on the eval's photo of a rhythm page of record
+// 9 (a grey grid, which the front end tells from ink by shape alone) the
+// pulse's rising edge is printed on a 5 mm line and 3.6 of its 10 mm went
+// with the line; its partner then did not match it, no pulse was found,
+// and with the trace's flat stretches gone the same way the page came
+// back empty. The edge's missing stretch is taken from the luminance
+// (matchExtent): the pulse is found and the gain read from it.
+func TestPulseEdgeOnGridLine(t *testing.T) {
+	if testing.Short() {
+		t.Skip("renders a photo")
+	}
+	_, _, r := detectPage(t, "photo", render.LayoutRhythm, 9)
+	if len(r.Pulses) != 1 {
+		t.Fatalf("%d pulses", len(r.Pulses))
+	}
+	if g := r.Calibration.GainMMPerMV; g.V != 10 || g.Origin != FromPulse {
+		t.Errorf("gain %.2f mm/mV (%s), want 10 from the pulse", g.V, g.Origin)
+	}
+}
