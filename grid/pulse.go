@@ -95,7 +95,8 @@ func findPulses(ink, gray *image.Gray, ppmX, ppmY float64) []Pulse {
 	taken := make([]bool, len(st))
 	// Pass 0 pairs strokes as the ink shows them; pass 1 pairs the rest
 	// with edges completed from the luminance (matchExtent).
-	for pass := 0; pass < 2; pass++ {
+	// Pass 1 runs only on a page where pass 0 found no pulse.
+	for pass := 0; pass < 2 && (pass == 0 || len(out) == 0); pass++ {
 		for i := range st {
 			if taken[i] {
 				continue
