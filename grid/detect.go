@@ -158,7 +158,9 @@ func Detect(p *imageproc.Page, opt *Options) (*Result, error) {
 	if p.GridColor != imageproc.GridGrey && p.GridColor != imageproc.GridNone {
 		gray = nil
 	}
-	r.Pulses = findPulses(p.Ink, gray, scaleX, scaleY)
+	// A pulse edge lost with a grid line is completed from the luminance
+	// only where it has shades of grey (not on a 1-bit page).
+	r.Pulses = findPulses(p.Ink, gray, scaleX, scaleY, gray != nil && !p.Bilevel)
 	if scaleY == 0 {
 		if len(r.Pulses) == 0 {
 			return nil, ErrNoGrid

@@ -22,7 +22,11 @@
 //     apart, joined by a flat top and leaving a baseline; the height in mm
 //     is the gain for 1 mV, snapped to 5, 10 or 20 mm/mV within 4 %
 //     (standards.md §1.1: 10 mm/mV standard, 5 and 20 alternatives;
-//     pulse 1.0 mV ± 5 % per ANSI/AAMI EC11).
+//     pulse 1.0 mV ± 5 % per ANSI/AAMI EC11). On a page with a grey or
+//     no grid where the ink alone shows no pulse, an edge partly removed
+//     with a grid line is completed from the luminance; not on a page of
+//     black and white only (imageproc.Page.Bilevel: a fax), whose
+//     luminance is as black on a grid line as on a stroke.
 //   - fallbacks: without a grid, the user's resolution (--dpi), else the
 //     image metadata, else the pulse height assuming 10 mm/mV and square
 //     pixels, each with a warning; with none of these Detect returns

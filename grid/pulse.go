@@ -28,7 +28,7 @@ const minPulseMM = 2.5
 // gray (luminance, may be nil) backs up the ink map along the pulse's top
 // and foot: on binarised pages a trace drawn exactly along a grid line is
 // removed from the ink with the line.
-func findPulses(ink, gray *image.Gray, ppmX, ppmY float64) []Pulse {
+func findPulses(ink, gray *image.Gray, ppmX, ppmY float64, completeEdges bool) []Pulse {
 	w, h := ink.Rect.Dx(), ink.Rect.Dy()
 	const on = 110
 	// Without a scale, a pulse is at least a 60th of the page's short side
@@ -95,8 +95,13 @@ func findPulses(ink, gray *image.Gray, ppmX, ppmY float64) []Pulse {
 	taken := make([]bool, len(st))
 	// Pass 0 pairs strokes as the ink shows them; pass 1 pairs the rest
 	// with edges completed from the luminance (matchExtent).
-	// Pass 1 runs only on a page where pass 0 found no pulse.
-	for pass := 0; pass < 2 && (pass == 0 || len(out) == 0); pass++ {
+	// Pass 1 runs only on a page where pass 0 found no pulse, and only
+	// where completeEdges: not on a 1-bit page (a fax), whose luminance
+	// is as black on a grid line as on a stroke, so that pass 1 there
+	// paired strokes of the traces into pulses (fax 3x4+1 seed 8: two
+	// rows of four, and the rows between them were dropped as too close
+	// to pulse rows: every lead lost).
+	for pass := 0; pass < 2 && (pass == 0 || len(out) == 0 && completeEdges); pass++ {
 		for i := range st {
 			if taken[i] {
 				continue

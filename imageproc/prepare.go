@@ -57,6 +57,10 @@ type Page struct {
 	// GridColor is the grid's colour family: "red", "pink", "orange",
 	// "green", "blue", "grey" or "none".
 	GridColor string
+	// Bilevel reports that the input holds only black and white (a fax or
+	// a 1-bit scan): its luminance tells nothing that its ink map does
+	// not.
+	Bilevel bool
 	// DPIX, DPIY are the resolution metadata from Options, for the upright
 	// page: equal when an anisotropic input was resampled to square pixels.
 	DPIX, DPIY float64
@@ -122,6 +126,7 @@ func Prepare(img image.Image, opt *Options) (*Page, error) {
 		return nil, fmt.Errorf("imageproc: image %d×%d px exceeds %d pixels: %w", W, H, o.MaxPixels, ecg.ErrUnreadable)
 	}
 	src := newSource(img)
+	bilevel := twoLevels(img)
 	// Anisotropic resolution (a fax: 204 × 98 or 196 dpi, standards.md
 	// §6.1): resample to square pixels at the x resolution first, so that
 	// a rotation of the paper is a rotation of the image.
@@ -144,7 +149,7 @@ func Prepare(img image.Image, opt *Options) (*Page, error) {
 	if blank(wGray, 0.0005) {
 		return nil, ErrBlank
 	}
-	p := &Page{GridColor: sep.family, DPIX: o.DPIX, DPIY: o.DPIY}
+	p := &Page{GridColor: sep.family, DPIX: o.DPIX, DPIY: o.DPIY, Bilevel: bilevel}
 	if pre != identity {
 		p.Warnings = append(p.Warnings, fmt.Sprintf("resolution %g×%g dpi: resampled to square pixels at %g dpi", opt.DPIX, opt.DPIY, o.DPIX))
 	}

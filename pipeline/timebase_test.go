@@ -95,3 +95,37 @@ func TestTimeBaseSubSample(t *testing.T) {
 		}
 	}
 }
+
+// TestFaxPulsesFromInkOnly: the grid stage completes a pulse edge lost
+// with a grid line from the luminance only on pages with shades of grey.
+// On the eval's fax of record 8 (3x4+1, black and white only) that pass
+// paired strokes of the traces of two rows into pulses, the rows between
+// them were dropped as too close to pulse rows, and one lead of twelve
+// was returned. The page is bilevel, no pulse is made of trace strokes,
+// and every lead is read.
+func TestFaxPulsesFromInkOnly(t *testing.T) {
+	if testing.Short() {
+		t.Skip("renders and digitises a fax page")
+	}
+	_, page := renderCase(t, "fax", "3x4+1", 8)
+	src := decode.Page{Image: page.Image, Index: 1}
+	src.DPIX, src.DPIY, _ = page.Truth.Resolution()
+	res, err := pipeline.Run(context.Background(), src, pipeline.Config{})
+	require.NoError(t, err)
+	require.True(t, res.Page.Bilevel, "a fax holds black and white only")
+	// Whatever pulses the grid stage finds are real ones (10 mm tall at
+	// 10 mm/mV); the trace stage reads the gain from the rows' pulses.
+	for _, q := range res.Grid.Pulses {
+		require.InDelta(t, 10, (q.BaseY-q.TopY)/res.Grid.Calibration.PxPerMMY.V, 0.5, "pulse at x %.0f px", q.X0)
+	}
+	gain := res.Trace.Calibration.GainMMPerMV
+	require.InDelta(t, 10, gain.V, 0.2, "gain, mm/mV (%s)", gain.Origin)
+	rec := res.Record()
+	found := 0
+	for _, s := range rec.Signals {
+		if _, _, ok := s.ValidSpan(); ok {
+			found++
+		}
+	}
+	require.Equal(t, 12, found, "leads read")
+}
