@@ -300,8 +300,13 @@ const maxInkRewardMM = 20
 //     apex and trough of a hand-drawn V over Λ within 2 px; but the
 //     arms of a QRS stroke move 1 px in 20 rows, and over the rows
 //     available the fitted slopes were too coarse to meet reliably.
-//     Not kept; the extrapolation is the next thing to try with
-//     sub-pixel arm centres from the grey levels.
+//     Telling the two closings apart by how they happen (another
+//     stroke arriving: a third run, an arm 2 px wider, or paper of half a
+//     pen width gone within three rows; arms merging by themselves: the
+//     gap narrowing over many rows) kept 2 of the 8 overlap gains and
+//     still lost 7 leads on the 10 mm/mV pages. Not kept; the
+//     extrapolation is the next thing to try, with sub-pixel arm centres
+//     from the grey levels.
 
 // farThinCost is followParams.farCost.
 const farThinCost = 0.2
