@@ -275,6 +275,9 @@ func Extract(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse, opt *Op
 	// Neighbouring rows' strokes that cross twice (a lens) are exchanged
 	// between the crossings.
 	untangleCrossings(ink, pj, cal.PxPerMMY.V, cal.GainMMPerMV.V*cal.PxPerMMY.V)
+	// Where a deep S wave and a tall R wave of neighbouring rows merge
+	// into one block of ink, their turns are read from the arms outside.
+	apexesInBlocks(ink, pj, cal.PxPerMMY.V, cal.GainMMPerMV.V*cal.PxPerMMY.V)
 	for ri, jobs := range pj {
 		lr, r := lay.Rows[ri], rows[ri]
 		var rowPanels []traced

@@ -275,38 +275,14 @@ const maxInkRewardMM = 20
 //     path turns back while the ink goes on 1 mm past the turn: 10 up,
 //     28 down) either kept the overlap losses or removed every window.
 //     Not kept.
-//   - Reading the apexes of a V over a Λ from the block they merge into
-//     (an upper row's deep S wave over the lower row's tall R wave in
-//     the same columns; both paths level off inside the block, e.g. aVL
-//     on 3x4+1 seed 2 read 0.67 of 1.34 mV): where both paths lie on one
-//     run of ink for at most 3 mm of columns, apart either side, each
-//     1 mm or more into its wave, the image rows were scanned from 1 mm
-//     inside each wave towards the block, and the lower path taken
-//     through where the V's two arms stop standing apart (the Λ's apex
-//     fills the gap between them), the upper path through where the Λ's
-//     arms do. Overlap corpus (n = 3): median 12.6 → 13.5 dB, 8 leads
-//     up by 0.5–10 dB and none down (aVL 3x4 seed 3 11.0 → 16.1 dB,
-//     3x4+1 seed 7 6.5 → 16.7 dB on records 1–9). But the arms of a
-//     steep V (Λ) also merge by themselves, a pen's width times the
-//     strokes' slope short of their own turn, up to 7 mm at 10 mm/mV;
-//     where that zone reaches past the other stroke's turn, the gap
-//     closing misplaces it (3x4+3 rhythm rows V1 over V5: V1's trough
-//     read 0.35 mV too deep; 12 × 1 aVR over aVL: aVL's 0.3 mV R read
-//     at 0.45 mV); on the 10 mm/mV pages of records 1–9, 17 leads down by
-//     0.5–7 dB even when only moves of 2 mm or more were made. Where the
-//     arms themselves meet (their centre lines extrapolated from the rows
-//     where they stand apart, stopping where one grows wider as another
-//     stroke joins it) does not depend on that zone, and read the drawn
-//     apex and trough of a hand-drawn V over Λ within 2 px; but the
-//     arms of a QRS stroke move 1 px in 20 rows, and over the rows
-//     available the fitted slopes were too coarse to meet reliably.
-//     Telling the two closings apart by how they happen (another
-//     stroke arriving: a third run, an arm 2 px wider, or paper of half a
-//     pen width gone within three rows; arms merging by themselves: the
-//     gap narrowing over many rows) kept 2 of the 8 overlap gains and
-//     still lost 7 leads on the 10 mm/mV pages. Not kept; the
-//     extrapolation is the next thing to try, with sub-pixel arm centres
-//     from the grey levels.
+//   - Reading the apexes of a V over a Λ from where the gap between one
+//     stroke's arms closes (the other stroke filling it): overlap median
+//     12.6 → 13.5 dB, but a steep stroke's arms also merge by themselves
+//     short of their turn, and 17 leads of the 10 mm/mV pages of records
+//     1–9 lost 0.5–7 dB; telling the two closings apart by how abruptly
+//     they happen kept 2 of the 8 overlap gains. Kept instead:
+//     apexesInBlocks (strokes_block.go), where the arms' centre lines
+//     meet.
 
 // farThinCost is followParams.farCost.
 const farThinCost = 0.2
