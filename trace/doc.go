@@ -130,7 +130,7 @@
 // A4) the strokes merge into one run per column and the path cannot tell
 // whose stroke it follows; those leads lose QRS amplitude or, on six-row
 // and 12 × 1 pages, swap strokes (the eval's overlap condition, n = 3,
-// seed 1: 12.6 dB median, p10 2.7 dB, all leads found, no swap; by
+// seed 1: 13.3 dB median, p10 2.7 dB, all leads found, no swap; by
 // layout 12 × 1 3.4, 3x4+3 6.5, 6x2 11.8, 3x4+1 14.1, 3x4 18.2, Cabrera
 // 18.5 dB; on seeds 4–12, 13 swapped leads on 63 overlap pages, on 12 × 1
 // and 3x4+3 pages with three limb leads wrong together, and some
@@ -138,8 +138,9 @@
 // 10 mm/mV, whose V2–V4 complexes are taller than the row pitch, swaps
 // V3). Where an R wave's apex lies in the X of another row's S-wave
 // strokes crossing it at a small angle, no per-column choice can see
-// where it turns (overlap 3x4+1 seed 2: aVL read 0.78 of 1.25 mV at every
-// beat). Small leads on the overlap pages are bounded by the record's own
+// where it turns; apexesInBlocks reads it where the arms' centre lines
+// meet, which needs straight arms standing apart outside the block and
+// ink with grey levels (fax pages read worse with it). Small leads on the overlap pages are bounded by the record's own
 // noise, finer than the pen (record 1's III, 12 dB at best; record 2's
 // aVF, 13 dB). Such leads are listed by CrossedLeads
 // (confidence.go). Most of
