@@ -2,6 +2,7 @@ package trace
 
 import (
 	"image"
+	"iter"
 	"math"
 )
 
@@ -36,25 +37,9 @@ func untangleCrossings(ink *image.Gray, pj [][]panelJob, pxY, pxPerMV float64) {
 		lo, hi  float64
 	}
 	var found []lens
-	for r := 0; r+1 < len(pj); r++ {
-		if len(pj[r]) == 0 || len(pj[r+1]) == 0 || pj[r+1][0].base-pj[r][0].base < minOrderPitchMV*pxPerMV {
-			continue
-		}
-		for a := range pj[r] {
-			for b := range pj[r+1] {
-				A, B := &pj[r][a], &pj[r+1][b]
-				if A.bounds.Empty() || B.bounds.Empty() || len(A.pr.points) == 0 || len(B.pr.points) == 0 {
-					continue
-				}
-				x0 := max(A.bounds.Min.X, B.bounds.Min.X)
-				x1 := min(A.bounds.Max.X, B.bounds.Max.X)
-				if x1-x0 < 3 {
-					continue
-				}
-				for _, l := range findLenses(ink, A.pr.points, B.pr.points, x0, x1, pxY) {
-					found = append(found, lens{r, a, b, l[0], l[1]})
-				}
-			}
+	for p := range neighbourPanels(pj, pxPerMV, 3) {
+		for _, l := range findLenses(ink, pj[p.r][p.a].pr.points, pj[p.r+1][p.b].pr.points, p.x0, p.x1, pxY) {
+			found = append(found, lens{p.r, p.a, p.b, l[0], l[1]})
 		}
 	}
 	type key struct{ r, c int }
@@ -76,6 +61,35 @@ func untangleCrossings(ink *image.Gray, pj [][]panelJob, pxY, pxPerMV float64) {
 		A.points, B.points = swapSpan(A.points, B.points, l.lo, l.hi)
 		done[ka] = append(done[ka], [2]float64{l.lo, l.hi})
 		done[kb] = append(done[kb], [2]float64{l.lo, l.hi})
+	}
+}
+
+// panelPair is a panel a of row r and a panel b of row r+1 whose columns
+// overlap over [x0, x1), px.
+type panelPair struct{ r, a, b, x0, x1 int }
+
+// neighbourPanels yields the pairs of panels of neighbouring rows at least
+// minOrderPitchMV apart (pxPerMV px per mV), both with a path, whose
+// columns overlap over minW px or more.
+func neighbourPanels(pj [][]panelJob, pxPerMV float64, minW int) iter.Seq[panelPair] {
+	return func(yield func(panelPair) bool) {
+		for r := 0; r+1 < len(pj); r++ {
+			if len(pj[r]) == 0 || len(pj[r+1]) == 0 || pj[r+1][0].base-pj[r][0].base < minOrderPitchMV*pxPerMV {
+				continue
+			}
+			for a := range pj[r] {
+				for b := range pj[r+1] {
+					A, B := &pj[r][a], &pj[r+1][b]
+					if A.bounds.Empty() || B.bounds.Empty() || len(A.pr.points) == 0 || len(B.pr.points) == 0 {
+						continue
+					}
+					x0, x1 := max(A.bounds.Min.X, B.bounds.Min.X), min(A.bounds.Max.X, B.bounds.Max.X)
+					if x1-x0 >= minW && !yield(panelPair{r, a, b, x0, x1}) {
+						return
+					}
+				}
+			}
+		}
 	}
 }
 

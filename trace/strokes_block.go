@@ -49,24 +49,8 @@ import (
 // Rows less than minOrderPitchMV apart (pxPerMV px per mV) are left as
 // they are (strokes there cross several rows).
 func apexesInBlocks(ink *image.Gray, pj [][]panelJob, pxY, pxPerMV float64) {
-	for r := 0; r+1 < len(pj); r++ {
-		if len(pj[r]) == 0 || len(pj[r+1]) == 0 || pj[r+1][0].base-pj[r][0].base < minOrderPitchMV*pxPerMV {
-			continue
-		}
-		for a := range pj[r] {
-			for b := range pj[r+1] {
-				U, L := &pj[r][a], &pj[r+1][b]
-				if U.bounds.Empty() || L.bounds.Empty() || len(U.pr.points) == 0 || len(L.pr.points) == 0 {
-					continue
-				}
-				x0 := max(U.bounds.Min.X, L.bounds.Min.X)
-				x1 := min(U.bounds.Max.X, L.bounds.Max.X)
-				if x1-x0 < 8 {
-					continue
-				}
-				readBlocks(ink, U, L, x0, x1, pxY)
-			}
-		}
+	for p := range neighbourPanels(pj, pxPerMV, 8) {
+		readBlocks(ink, &pj[p.r][p.a], &pj[p.r+1][p.b], p.x0, p.x1, pxY)
 	}
 }
 
