@@ -503,7 +503,6 @@ func abs(a int) int {
 	return a
 }
 
-// darkMap returns 255 − g (a luminance map read as ink strength).
 // matchExtent extends stroke s to the rows of its partner p where the
 // column at s's centre is dark in the luminance map over 90 % of the
 // missing rows (the stretch of a pulse's edge lost with a grid line it
@@ -537,6 +536,7 @@ func coverageColumn(m *image.Gray, x, y0, y1 int, on uint8) float64 {
 	return float64(n) / float64(y1-y0+1)
 }
 
+// darkMap returns 255 − g (a luminance map read as ink strength).
 func darkMap(g *image.Gray) *image.Gray {
 	d := image.NewGray(g.Rect)
 	for i, v := range g.Pix {

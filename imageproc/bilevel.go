@@ -35,6 +35,17 @@ func twoLevels(img image.Image) bool {
 			}
 		}
 		return true
+	case *image.NRGBA:
+		for y := b.Min.Y; y < b.Max.Y; y++ {
+			o := m.PixOffset(b.Min.X, y)
+			row := m.Pix[o : o+4*b.Dx()]
+			for i := 0; i < len(row); i += 4 {
+				if v := row[i]; (v != 0 && v != 255) || row[i+1] != v || row[i+2] != v || row[i+3] != 255 {
+					return false
+				}
+			}
+		}
+		return true
 	}
 	for y := b.Min.Y; y < b.Max.Y; y++ {
 		for x := b.Min.X; x < b.Max.X; x++ {

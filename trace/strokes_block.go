@@ -144,12 +144,13 @@ func readBlocks(ink *image.Gray, U, L *panelJob, x0, x1 int, pxY float64) {
 // armsMeet scans the image rows from y0 towards end (dir +1: down, −1:
 // up) over the columns [lo, hi]: from the first row where their ink
 // stands in two runs with paper between them (the two arms of a V, or of
-// a Λ) to the last before it does not. The arms' ink-weighted centres
-// over the last half of those rows (fitRows at least), each fitted by a
-// straight line in y, meet at the
-// stroke's turning point (x, y): where the pen turned, whatever other
-// stroke merges with the arms beyond. ok is false with fewer rows, arms
-// that do not close in, or a meeting point behind the scan.
+// a Λ) to the last before it does not, or before one run grows wider
+// (another stroke joining it). The arms' ink-weighted centres over the
+// last half of those rows (fitRows at least), each fitted by a straight
+// line in y (gonum's stat.LinearRegression), meet at the stroke's turning
+// point (x, y): where the pen turned, whatever other stroke merges with
+// the arms beyond. ok is false with fewer rows, arms that do not close
+// in, or a meeting point behind the scan.
 func armsMeet(ink *image.Gray, lo, hi, y0, end, dir, fitRows int) (x, y float64, ok bool) {
 	lo, hi = max(lo, ink.Rect.Min.X), min(hi, ink.Rect.Max.X-1)
 	var ys, c1, c2, widths []float64
