@@ -457,6 +457,7 @@ func Extract(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse, opt *Op
 			keep[i] = slices.Clone(v)
 		}
 		w := guideLimb(ink, cal, o.SampleRate, ps, vs, xs, defaultLimbGuide)
+		w = append(w, reReadFromClear(ink, cal, o.SampleRate, ps, vs, keep, xs, defaultClear)...)
 		w = append(w, withholdShared(cal, o.SampleRate, ps, vs, keep, xs, defaultSelfCheck)...)
 		w = append(w, withholdBuried(ink, cal, o.SampleRate, ps, vs, keep, xs, defaultBuried)...)
 		w = append(w, withholdDissent(ink, cal, o.SampleRate, ps, vs, keep, xs, defaultDissent)...)
