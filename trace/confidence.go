@@ -5,6 +5,7 @@ import (
 	"math"
 
 	"tracelift/ecg"
+	"tracelift/grid"
 )
 
 // A lead's quality says how much to trust its samples. The path finder's
@@ -121,6 +122,60 @@ func contestedColumns(panels []Panel, gap float64, ink *image.Gray) (x0 []int, s
 		}
 	}
 	return x0, spans, marks
+}
+
+// bridgeGapPx is the widest step, px, between consecutive path points
+// that counts as read from the page: the path finder leaves one point per
+// column, so a wider step is a stretch bridged without ink or an
+// excursion dropped (dropExcursions).
+const bridgeGapPx = 1.5
+
+// contestedSamples marks, per panel and record sample (n samples at fs
+// Hz; xStart[k] the x of panel k's time T0, px), where the panel's path
+// was not read from its own ink alone: its stroke meets another row's
+// (contestedColumns) or the path bridges the column without a point (an
+// excursion dropped, a gap in the ink), widened by padS on each side.
+func contestedSamples(ink *image.Gray, cal grid.Calibration, fs float64, n int, panels []*Panel, xStart []float64, padS float64) [][]bool {
+	ps := make([]Panel, len(panels))
+	for k, pn := range panels {
+		ps[k] = *pn
+	}
+	x0, _, marks := contestedColumns(ps, contestGapMM*cal.PxPerMMY.V, ink)
+	for k, pn := range panels {
+		for j := 1; j < len(pn.Path); j++ {
+			a, b := pn.Path[j-1].X, pn.Path[j].X
+			if b-a <= bridgeGapPx {
+				continue
+			}
+			for c := int(math.Floor(a)) + 1; c < int(math.Ceil(b)); c++ {
+				if c-x0[k] >= 0 && c-x0[k] < len(marks[k]) {
+					marks[k][c-x0[k]] = true
+				}
+			}
+		}
+	}
+	pxPerS := cal.SpeedMMPerS.V * cal.PxPerMMX.V
+	pad := max(1, int(math.Round(padS*fs)))
+	out := make([][]bool, len(panels))
+	raw := make([]bool, n)
+	for k, pn := range panels {
+		out[k] = make([]bool, n)
+		any := false
+		for i := range n {
+			c := int(math.Round(xStart[k]+(float64(i)/fs-pn.T0)*pxPerS)) - x0[k]
+			raw[i] = c >= 0 && c < len(marks[k]) && marks[k][c]
+			any = any || raw[i]
+		}
+		if !any {
+			continue
+		}
+		for _, sp := range markedSpans(raw, 1, pad) {
+			for i := sp.s0; i <= sp.s1; i++ {
+				out[k][i] = true
+			}
+		}
+	}
+	return out
 }
 
 // inkRun grows the extent s of column x to the run of ink it lies on: up

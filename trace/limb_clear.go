@@ -49,12 +49,6 @@ type clearParams struct {
 // taken for clear; departures of 2 mm, well beyond a sub-pixel slip.
 var defaultClear = clearParams{tolMM: 1, offMM: 2, minTolMV: 0.05, padS: 0.010, stretchPadS: 0.004, minS: 0.006, inkTolMM: 0.35, minInk: 0.85, minKnown: 0.7, penMM: 0.4, looseMM: 1, edgeS: 0.02}
 
-// bridgeGapPx is the widest step, px, between consecutive path points
-// that counts as read from the page: the path finder leaves one point per
-// column, so a wider step is a stretch bridged without ink or an
-// excursion dropped (dropExcursions).
-const bridgeGapPx = 1.5
-
 // reReadFromClear re-reads, in place, the limb-lead samples of vals
 // (vals[k] panel k's samples on the record grid, mV upright, fs Hz;
 // xStart[k] the x of its time T0, px) whose strokes meet another row's,
@@ -78,29 +72,37 @@ func reReadFromClear(ink *image.Gray, cal grid.Calibration, fs float64, panels [
 	pxPerS := cal.SpeedMMPerS.V * cal.PxPerMMX.V
 	tol := math.Max(p.tolMM/cal.GainMMPerMV.V, p.minTolMV)
 	offTh := math.Max(p.offMM/cal.GainMMPerMV.V, p.minTolMV)
-	// Contested samples per lead: its source panel's contested columns,
-	// widened by padS.
-	ps := make([]Panel, len(panels))
-	for k, pn := range panels {
-		ps[k] = *pn
+	// Contested samples per lead: its source panel's (contestedSamples).
+	cs := contestedSamples(ink, cal, fs, n, panels, xStart, p.padS)
+	var contested [nl][]bool
+	for l := range nl {
+		contested[l] = make([]bool, n)
+		for i := range n {
+			if k := ls.src[l][i]; k >= 0 {
+				contested[l][i] = cs[k][i]
+			}
+		}
 	}
-	x0, spans, marks := contestedColumns(ps, contestGapMM*cal.PxPerMMY.V, ink)
-	// loose[k][c]: column c of panel k has a run of ink reaching more than
-	// looseMM past the path's extent (over the columns a pen's width
-	// around it, which a steep stroke's ink covers): a stroke the path did
-	// not read, its own apex left or another row's stroke.
+	// loose[k][c]: column c of panel k (from x0[k]) has a run of ink
+	// reaching more than looseMM past the path's extent (over the columns
+	// a pen's width around it, which a steep stroke's ink covers): a
+	// stroke the path did not read, its own apex left or another row's
+	// stroke.
 	looseTol := p.looseMM * cal.PxPerMMY.V
 	w := max(1, int(math.Ceil(p.penMM*cal.PxPerMMX.V)))
+	x0 := make([]int, len(panels))
 	loose := make([][]bool, len(panels))
-	for k := range panels {
-		loose[k] = make([]bool, len(spans[k]))
-		for c, sp := range spans[k] {
+	for k, pn := range panels {
+		var spans []colSpan
+		x0[k], spans = pathSpans(pn.Path)
+		loose[k] = make([]bool, len(spans))
+		for c, sp := range spans {
 			if math.IsInf(sp.lo, 1) {
 				continue
 			}
 			ext := sp
-			for d := max(0, c-w); d <= min(len(spans[k])-1, c+w); d++ {
-				if s := spans[k][d]; !math.IsInf(s.lo, 1) {
+			for d := max(0, c-w); d <= min(len(spans)-1, c+w); d++ {
+				if s := spans[d]; !math.IsInf(s.lo, 1) {
 					ext.lo, ext.hi = min(ext.lo, s.lo), max(ext.hi, s.hi)
 				}
 			}
@@ -113,47 +115,6 @@ func reReadFromClear(ink *image.Gray, cal grid.Calibration, fs float64, panels [
 		pn := panels[k]
 		c := int(math.Round(xStart[k]+(float64(i)/fs-pn.T0)*pxPerS)) - x0[k]
 		return c >= 0 && c < len(loose[k]) && loose[k][c]
-	}
-	// Columns a path bridges without points (an excursion dropped, a gap
-	// in the ink) were not read from the page: they count as contested.
-	for k, pn := range panels {
-		for j := 1; j < len(pn.Path); j++ {
-			a, b := pn.Path[j-1].X, pn.Path[j].X
-			if b-a <= bridgeGapPx {
-				continue
-			}
-			for c := int(math.Floor(a)) + 1; c < int(math.Ceil(b)); c++ {
-				if c-x0[k] >= 0 && c-x0[k] < len(marks[k]) {
-					marks[k][c-x0[k]] = true
-				}
-			}
-		}
-	}
-	pad := max(1, int(math.Round(p.padS*fs)))
-	var contested [nl][]bool
-	for l := range nl {
-		raw := make([]bool, n)
-		any := false
-		for i := range n {
-			k := ls.src[l][i]
-			if k < 0 {
-				continue
-			}
-			pn := panels[k]
-			c := int(math.Round(xStart[k]+(float64(i)/fs-pn.T0)*pxPerS)) - x0[k]
-			if c >= 0 && c < len(marks[k]) && marks[k][c] {
-				raw[i], any = true, true
-			}
-		}
-		contested[l] = make([]bool, n)
-		if !any {
-			continue
-		}
-		for _, sp := range markedSpans(raw, 1, pad) {
-			for i := sp.s0; i <= sp.s1; i++ {
-				contested[l][i] = true
-			}
-		}
 	}
 	coef := limbCoefficients()
 	// Per sample: the value the clear leads' vector predicts for each
