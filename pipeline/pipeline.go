@@ -160,7 +160,7 @@ func Run(ctx context.Context, page decode.Page, cfg Config) (res *Result, err er
 	layout := atSpeed(c.Layout, res.Grid.Calibration.SpeedMMPerS.V)
 	err = step(StageTrace, func() error {
 		t, err := trace.Extract(res.Page.Ink, res.Grid.Calibration, res.Grid.Pulses,
-			&trace.Options{Layout: layout, SampleRate: c.SampleRate})
+			&trace.Options{Layout: layout, SampleRate: c.SampleRate, Bilevel: res.Page.Bilevel})
 		res.Trace = t
 		return err
 	})

@@ -17,6 +17,10 @@ type Options struct {
 	Layout     *Layout // nil = detect from the page
 	SampleRate float64 // output rate, Hz; default 500
 	DurationS  float64 // record length, s; default from the layout (10 s for the standard ones)
+	// Bilevel says the page came with no grey levels (a fax, a 1-bit
+	// scan): readings that take a stroke's centre to a fraction of a
+	// pixel from its grey edges (apexesInBlocks) are skipped.
+	Bilevel bool
 }
 
 // Panel is one printed segment of one lead as found on the page.
@@ -277,7 +281,9 @@ func Extract(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse, opt *Op
 	untangleCrossings(ink, pj, cal.PxPerMMY.V, cal.GainMMPerMV.V*cal.PxPerMMY.V)
 	// Where a deep S wave and a tall R wave of neighbouring rows merge
 	// into one block of ink, their turns are read from the arms outside.
-	apexesInBlocks(ink, pj, cal.PxPerMMY.V, cal.GainMMPerMV.V*cal.PxPerMMY.V)
+	if !o.Bilevel {
+		apexesInBlocks(ink, pj, cal.PxPerMMY.V, cal.GainMMPerMV.V*cal.PxPerMMY.V)
+	}
 	for ri, jobs := range pj {
 		lr, r := lay.Rows[ri], rows[ri]
 		var rowPanels []traced

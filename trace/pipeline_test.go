@@ -35,7 +35,7 @@ func digitiseWith(img image.Image, po *imageproc.Options) (*trace.Result, *image
 	if err != nil {
 		return nil, pg, fmt.Errorf("grid: %w", err)
 	}
-	res, err := trace.Extract(pg.Ink, gr.Calibration, gr.Pulses, nil)
+	res, err := trace.Extract(pg.Ink, gr.Calibration, gr.Pulses, &trace.Options{Bilevel: pg.Bilevel})
 	return res, pg, err
 }
 
