@@ -97,9 +97,9 @@
 //     count as meeting) times the share of its printed window returned;
 //     Result.Crossed gives the met share, and leads with a tenth or more
 //     are listed by CrossedLeads. On the eval's 21 overlap pages the
-//     listed leads read a median of 7.3 dB and include 79 of the 84 leads
+//     listed leads read a median of 8.3 dB and include 74 of the 78 leads
 //     below 10 dB, the others 18.9 dB; the quality ranks leads by SNR with
-//     Spearman ρ 0.65 (0.29 for the path's score alone, which stays at
+//     Spearman ρ 0.61 (0.29 for the path's score alone, which stays at
 //     0.99–1.00 on ink shared with other rows).
 //   - Limb identities (limb_guide.go): limb leads printed at the same time
 //     are projections of one frontal heart vector (Einthoven: III = II − I;
@@ -144,9 +144,9 @@
 // A4) the strokes merge into one run per column and the path cannot tell
 // whose stroke it follows; those leads lose QRS amplitude or, on six-row
 // and 12 × 1 pages, swap strokes (the eval's overlap condition, n = 3,
-// seed 1: 13.3 dB median, p10 2.7 dB, all leads found, no swap; by
-// layout 12 × 1 3.4, 3x4+3 6.5, 6x2 11.8, 3x4+1 14.1, 3x4 18.2, Cabrera
-// 18.5 dB; on seeds 4–12, 13 swapped leads on 63 overlap pages, on 12 × 1
+// seed 1: 14.5 dB median, p10 2.7 dB, all leads found, no swap; by
+// layout 12 × 1 3.4, 3x4+3 7.6, 6x2 11.8, 3x4+1 15.9, 3x4 18.2, Cabrera
+// 18.5 dB; n = 9: 15.1 dB, 8 swapped leads on 63 overlap pages, on 12 × 1
 // and 3x4+3 pages with three limb leads wrong together, and some
 // precordial leads, which no identity ties; record 5 printed 12 × 1 at
 // 10 mm/mV, whose V2–V4 complexes are taller than the row pitch, swaps
