@@ -358,11 +358,18 @@ func longestStretch(has []bool, maxGap int) (x0, x1 int, cov float64) {
 // present, override it: see alignToTicks).
 const pulseTailMM = 2.0
 
+// attachPulseGapMM is how far, mm, the row's stretch of ink may start
+// after a calibration pulse that belongs to it: the stretch is read
+// within 3 mm of the row's line, and a trace whose first centimetres
+// drift further (baseline wander at 20 mm/mV: LUDB record 4's lead II
+// printed 3 × 4 starts 12 mm after its pulse there) starts it late.
+const attachPulseGapMM = 25
+
 // attachPulse takes the row's 0 mV level and trace start from a detected
 // calibration pulse whose foot lies near the row.
 func attachPulse(r *rowInfo, pulses []grid.Pulse, pxX, pxY float64) {
 	for _, p := range pulses {
-		if math.Abs(p.BaseY-r.baseY) > 4*pxY || p.X1 < float64(r.x0)-2*pxX || p.X0 > float64(r.x0)+30*pxX {
+		if math.Abs(p.BaseY-r.baseY) > 4*pxY || p.X1 < float64(r.x0)-attachPulseGapMM*pxX || p.X0 > float64(r.x0)+30*pxX {
 			continue
 		}
 		r.hasPulse = true
