@@ -209,34 +209,49 @@ func realRecord(t *testing.T, dataset, file string) ecg.Record {
 	return ecg.ResampleRecord(r, 500)
 }
 
-// TestRealRecordDrift prints LUDB record 4 at 20 mm/mV on a 3 × 4 page:
-// its lead II drifts from its calibration pulse by more than 3 mm over its
-// first centimetres, so the row's stretch of ink (read within 3 mm of
-// its line) starts 12 mm after the pulse. The pulse must still attach to
-// the row (attachPulseGapMM); before, the row was dropped, the page read
-// as one lead of rhythm and 11 of its 12 leads were lost.
+// TestRealRecordDrift prints LUDB records at 20 mm/mV, where their
+// baseline wander takes the trace several millimetres off its line, and
+// requires every row to be found (the layout with its twelve leads) and
+// the median SNR above the real records' floor (15 dB). Before:
+//
+//   - record 4, 3 × 4: lead II drifts off its line over its first
+//     centimetres, so its stretch of ink (read within 3 mm of the line)
+//     started 12 mm after its pulse, the pulse did not attach, the row
+//     was dropped and the page read as one lead of rhythm
+//     (attachPulseGapMM);
+//   - record 114, 6 × 2, and record 38, Cabrera: a row's stretch started
+//     37 mm after its pulse; read within 6 mm of a line that has a pulse
+//     (pulseBandMM), it spans the page;
+//   - record 4, 12 × 1: the stacked pulses (20 mm tall, rows 15 mm
+//     apart) were read on 4 of the 12 rows, and the rows between them
+//     were taken for tangles of complexes (evenRows).
 func TestRealRecordDrift(t *testing.T) {
 	if testing.Short() {
-		t.Skip("renders a full page")
+		t.Skip("renders full pages")
 	}
-	r := realRecord(t, "ludb", "4.hea")
-	page, err := render.Render(r, &render.Options{Layout: "3x4", GainMMPerMV: 20})
-	if err != nil {
-		t.Fatalf("render: %v", err)
-	}
-	res, _, err := digitise(page.Image)
-	if err != nil {
-		t.Fatalf("digitise: %v", err)
-	}
-	if res.Layout.Name != "3x4" || len(res.Record.Signals) != 12 {
-		t.Errorf("layout %q with %d leads, want 3x4 with 12", res.Layout.Name, len(res.Record.Signals))
-	}
-	printed := accuracy.PrintedRecord(&page.Truth)
-	sc := trace.SNR(printed, res.Record, trace.Lenient)
-	t.Logf("ludb-4 at 20 mm/mV: median %.1f dB; %s", sc.Median, fmtLeads(sc.PerLead))
-	// 15 dB: the floor of the real records above (measured 23.5 dB).
-	if sc.Median < 15 {
-		t.Errorf("median SNR %.1f dB < 15 dB", sc.Median)
+	for _, tc := range []struct{ file, layout string }{
+		{"4.hea", "3x4"}, {"114.hea", "6x2"}, {"38.hea", "cabrera-3x4"}, {"4.hea", "12x1"},
+	} {
+		t.Run(tc.file+"_"+tc.layout, func(t *testing.T) {
+			r := realRecord(t, "ludb", tc.file)
+			page, err := render.Render(r, &render.Options{Layout: tc.layout, GainMMPerMV: 20})
+			if err != nil {
+				t.Fatalf("render: %v", err)
+			}
+			res, _, err := digitise(page.Image)
+			if res == nil {
+				t.Fatalf("digitise: %v", err)
+			}
+			if res.Layout.Name != tc.layout || len(res.Record.Signals) != 12 {
+				t.Errorf("layout %q with %d leads (%v), want %s with 12", res.Layout.Name, len(res.Record.Signals), err, tc.layout)
+			}
+			printed := accuracy.PrintedRecord(&page.Truth)
+			sc := trace.SNR(printed, res.Record, trace.Lenient)
+			t.Logf("ludb %s %s at 20 mm/mV: median %.1f dB; %s", tc.file, tc.layout, sc.Median, fmtLeads(sc.PerLead))
+			if sc.Median < 15 {
+				t.Errorf("median SNR %.1f dB < 15 dB", sc.Median)
+			}
+		})
 	}
 }
 

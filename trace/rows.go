@@ -113,7 +113,17 @@ func findRows(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse) []rowI
 		for i := range has {
 			has[i] = false
 		}
-		for y := max(0, py-halfBand); y < min(b.Dy(), py+halfBand+1); y++ {
+		// A row with a calibration pulse at its line is certainly a row:
+		// its stretch is read within pulseBandMM, so that a trace whose
+		// line wanders (baseline drift at 20 mm/mV) still spans the page.
+		hb := halfBand
+		for _, p := range pulses {
+			if math.Abs(p.BaseY-float64(py+b.Min.Y)) <= 4*pxY {
+				hb = int(pulseBandMM * pxY)
+				break
+			}
+		}
+		for y := max(0, py-hb); y < min(b.Dy(), py+hb+1); y++ {
 			row := ink.Pix[y*ink.Stride : y*ink.Stride+b.Dx()]
 			for x, v := range row {
 				if v >= inkThreshold {
@@ -357,6 +367,14 @@ func longestStretch(has []bool, maxGap int) (x0, x1 int, cov float64) {
 // pages tracelift prints; other printers differ, and column ticks, when
 // present, override it: see alignToTicks).
 const pulseTailMM = 2.0
+
+// pulseBandMM is the half-height, mm, of the band a row's stretch of ink
+// is read in when a calibration pulse found by the grid stage stands on
+// the row's line (3 mm otherwise). Real records printed at 20 mm/mV wander
+// further: LUDB records 114 (6 × 2) and 38 (Cabrera) each lost a row whose
+// stretch, read within 3 mm, started 37 mm after its pulse, and the page
+// was read as one lead of rhythm.
+const pulseBandMM = 6
 
 // attachPulseGapMM is how far, mm, the row's stretch of ink may start
 // after a calibration pulse that belongs to it: the stretch is read

@@ -143,3 +143,34 @@ func TestStackedPulsesPage(t *testing.T) {
 		})
 	}
 }
+
+// TestEvenRows: twelve rows 175 px apart, each a continuous line over the
+// page, form a ladder; a profile peak between two rows (a tangle of
+// their complexes: half a spacing, a short stretch), a row read only on
+// the looser reading, or a row ending well short of the others breaks
+// it, and three rows are too few to tell.
+func TestEvenRows(t *testing.T) {
+	ladder := func() []rowInfo {
+		var rows []rowInfo
+		for i := range 12 {
+			// Peaks a few px off the line, as a row's complexes lean.
+			rows = append(rows, rowInfo{baseY: 600 + 175*float64(i) + float64(7*(i%3)-7), x0: 469, x1: 3449})
+		}
+		rows[3].x0 = 605 // a trace drifting off its line at the start
+		return rows
+	}
+	if !evenRows(ladder()) {
+		t.Error("twelve evenly spaced continuous rows: not a ladder")
+	}
+	tangle := ladder()
+	tangle = append(tangle[:5], append([]rowInfo{{baseY: (tangle[4].baseY + tangle[5].baseY) / 2, x0: 2000, x1: 3449}}, tangle[5:]...)...)
+	loose := ladder()
+	loose[7].loose = true
+	short := ladder()
+	short[9].x1 = 3200
+	for name, rows := range map[string][]rowInfo{"tangle peak": tangle, "loose row": loose, "short row": short, "three rows": ladder()[:3]} {
+		if evenRows(rows) {
+			t.Errorf("%s: taken for a ladder", name)
+		}
+	}
+}
