@@ -183,6 +183,11 @@ func Extract(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse, opt *Op
 	detected := lay == nil
 	if detected {
 		lay, rows = detectLayout(ink, rows, cal)
+		if lay.Name == "rhythm" && len(rows) >= 2 && !oneLeadRows(ink, rows, cal.PxPerMMY.V) {
+			// The fallback of chooseLayout: no separators, but nothing
+			// says the rows are one lead either.
+			res.Warnings = append(res.Warnings, fmt.Sprintf("layout: %d rows without column separators that do not read as one continuous lead; read as a rhythm strip of lead II (check the page, or give the layout)", len(rows)))
+		}
 	}
 	if len(lay.Rows) == 0 {
 		return nil, fmt.Errorf("trace: extract: layout has no rows: %w", ecg.ErrNoECG)
