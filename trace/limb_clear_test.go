@@ -21,21 +21,8 @@ import (
 func clearColumn(t testing.TB, skip func(l ecg.Lead, k int) bool) (*image.Gray, grid.Calibration, []*Panel, [][]float64, []float64) {
 	t.Helper()
 	const fs, n, x0 = 500.0, 1000, 50.0
-	cal := grid.Calibration{
-		PxPerMMX: grid.Value{V: 10}, PxPerMMY: grid.Value{V: 10},
-		SpeedMMPerS: grid.Value{V: 25}, GainMMPerMV: grid.Value{V: 10},
-	}
-	// Invented beats: a 1.2 mV R wave in I and a 0.8 mV one in II 10 ms
-	// later, with slow waves between.
-	lI, lII := make([]float64, n), make([]float64, n)
-	for k := range n {
-		tt := float64(k) / fs
-		lI[k], lII[k] = 0.1*math.Sin(2*math.Pi*tt), 0.15*math.Cos(2*math.Pi*1.3*tt)
-		for _, r := range []float64{0.4, 1.2} {
-			lI[k] += 1.2 * math.Exp(-0.5*math.Pow((tt-r)/0.012, 2))
-			lII[k] += 0.8*math.Exp(-0.5*math.Pow((tt-r-0.01)/0.012, 2)) - 0.3*math.Exp(-0.5*math.Pow((tt-r-0.04)/0.01, 2))
-		}
-	}
+	cal := testCal10()
+	lI, lII := inventedBeats(n, fs, 1.2, 0.8)
 	ink := image.NewGray(image.Rect(0, 0, 700, 900))
 	var panels []*Panel
 	var vals [][]float64
@@ -54,18 +41,7 @@ func clearColumn(t testing.TB, skip func(l ecg.Lead, k int) bool) (*image.Gray, 
 		panels = append(panels, p)
 		vals = append(vals, v)
 		xs = append(xs, x0)
-		// The trace: per sample a vertical segment to the next sample's
-		// level (250 px/s: two samples per column), pen 3 px.
-		for k := 0; k+1 < n; k++ {
-			if skip != nil && skip(l, k) {
-				continue
-			}
-			x := int(math.Round(x0 + float64(k)/fs*250))
-			y0, y1 := zero-v[k]*100, zero-v[k+1]*100
-			for y := int(math.Min(y0, y1)) - 1; y <= int(math.Max(y0, y1))+1; y++ {
-				ink.Pix[y*ink.Stride+x] = 255
-			}
-		}
+		paintTrace(ink, v, zero, x0, fs, func(k int) bool { return skip != nil && skip(l, k) })
 	}
 	return ink, cal, panels, vals, xs
 }

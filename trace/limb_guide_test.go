@@ -11,6 +11,49 @@ import (
 	"tracelift/grid"
 )
 
+// testCal10 is the calibration of the hand-built limb pages: 10 px/mm,
+// 25 mm/s, 10 mm/mV.
+func testCal10() grid.Calibration {
+	return grid.Calibration{
+		PxPerMMX: grid.Value{V: 10}, PxPerMMY: grid.Value{V: 10},
+		SpeedMMPerS: grid.Value{V: 25}, GainMMPerMV: grid.Value{V: 10},
+	}
+}
+
+// inventedBeats returns n samples at fs Hz of leads I and II with two
+// invented beats (at 0.4 and 1.2 s): an R wave of ampI mV in I and one of
+// ampII mV in II 10 ms later, followed by a 0.3 mV S wave in II, with slow
+// waves between.
+func inventedBeats(n int, fs, ampI, ampII float64) (lI, lII []float64) {
+	lI, lII = make([]float64, n), make([]float64, n)
+	for k := range n {
+		tt := float64(k) / fs
+		lI[k], lII[k] = 0.1*math.Sin(2*math.Pi*tt), 0.15*math.Cos(2*math.Pi*1.3*tt)
+		for _, r := range []float64{0.4, 1.2} {
+			lI[k] += ampI * math.Exp(-0.5*math.Pow((tt-r)/0.012, 2))
+			lII[k] += ampII*math.Exp(-0.5*math.Pow((tt-r-0.01)/0.012, 2)) - 0.3*math.Exp(-0.5*math.Pow((tt-r-0.04)/0.01, 2))
+		}
+	}
+	return lI, lII
+}
+
+// paintTrace draws samples v (mV, fs Hz) into ink from x0 px at 250 px/s
+// (two samples per column) and 100 px/mV about the line zero, pen 3 px:
+// per sample a vertical segment to the next sample's level; skip, when
+// not nil, leaves out the samples it marks.
+func paintTrace(ink *image.Gray, v []float64, zero, x0, fs float64, skip func(k int) bool) {
+	for k := 0; k+1 < len(v); k++ {
+		if skip != nil && skip(k) {
+			continue
+		}
+		x := int(math.Round(x0 + float64(k)/fs*250))
+		y0, y1 := zero-v[k]*100, zero-v[k+1]*100
+		for y := int(math.Min(y0, y1)) - 1; y <= int(math.Max(y0, y1))+1; y++ {
+			ink.Pix[y*ink.Stride+x] = 255
+		}
+	}
+}
+
 // limbPage builds six simultaneous limb-lead panels (I, II, III, aVR,
 // aVL, aVF as on the first column of a 6 × 2 page: 10 px/mm, 25 mm/s,
 // 10 mm/mV, rows 15 mm apart), their true samples (III, aVR, aVL and aVF
@@ -20,21 +63,8 @@ import (
 func limbPage(t testing.TB, skip func(l ecg.Lead, k int) bool) (*image.Gray, grid.Calibration, []*Panel, [][]float64, []float64) {
 	t.Helper()
 	const fs, n = 500.0, 1000
-	cal := grid.Calibration{
-		PxPerMMX: grid.Value{V: 10}, PxPerMMY: grid.Value{V: 10},
-		SpeedMMPerS: grid.Value{V: 25}, GainMMPerMV: grid.Value{V: 10},
-	}
-	// Invented beats: a 1.4 mV R wave in I and a 0.9 mV one in II 10 ms
-	// later, with slow waves between.
-	lI, lII := make([]float64, n), make([]float64, n)
-	for k := range n {
-		tt := float64(k) / fs
-		lI[k], lII[k] = 0.1*math.Sin(2*math.Pi*tt), 0.15*math.Cos(2*math.Pi*1.3*tt)
-		for _, r := range []float64{0.4, 1.2} {
-			lI[k] += 1.4 * math.Exp(-0.5*math.Pow((tt-r)/0.012, 2))
-			lII[k] += 0.9*math.Exp(-0.5*math.Pow((tt-r-0.01)/0.012, 2)) - 0.3*math.Exp(-0.5*math.Pow((tt-r-0.04)/0.01, 2))
-		}
-	}
+	cal := testCal10()
+	lI, lII := inventedBeats(n, fs, 1.4, 0.9)
 	ink := image.NewGray(image.Rect(0, 0, 700, 1200))
 	var panels []*Panel
 	var vals [][]float64
@@ -49,18 +79,7 @@ func limbPage(t testing.TB, skip func(l ecg.Lead, k int) bool) (*image.Gray, gri
 		panels = append(panels, &Panel{Lead: l, Row: r, T0: 0, T1: 2, ZeroY: zero, Quality: 1})
 		vals = append(vals, v)
 		xs = append(xs, 50)
-		// The trace: per sample a vertical segment to the next sample's
-		// level (250 px/s: two samples per column), pen 3 px.
-		for k := 0; k+1 < n; k++ {
-			if skip != nil && skip(l, k) {
-				continue
-			}
-			x := int(math.Round(50 + float64(k)/fs*250))
-			y0, y1 := zero-v[k]*100, zero-v[k+1]*100
-			for y := int(math.Min(y0, y1)) - 1; y <= int(math.Max(y0, y1))+1; y++ {
-				ink.Pix[y*ink.Stride+x] = 255
-			}
-		}
+		paintTrace(ink, v, zero, 50, fs, func(k int) bool { return skip != nil && skip(l, k) })
 	}
 	return ink, cal, panels, vals, xs
 }

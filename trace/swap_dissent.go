@@ -88,13 +88,9 @@ func withholdDissent(ink *image.Gray, cal grid.Calibration, fs float64, panels [
 	if len(vals) == 0 || fs <= 0 || cal.GainMMPerMV.V <= 0 {
 		return nil
 	}
-	n := 0
-	for _, v := range vals {
-		n = max(n, len(v))
-	}
 	mmPerMV := cal.GainMMPerMV.V
 	inTol, offTh, minPred, wide := p.inTolMM/mmPerMV, p.offMM/mmPerMV, p.minPred/mmPerMV, p.wideMM/mmPerMV
-	ls := newLimbSet(panels, vals, n)
+	ls, n := limbSetOf(panels, vals)
 	if ls == nil {
 		return nil
 	}
@@ -199,6 +195,15 @@ type limbSet struct {
 	off   [6]float64
 	order []int // the limb-lead panels taking part, best quality first
 	li    map[ecg.Lead]int
+}
+
+// limbSetOf is newLimbSet over the longest of vals, and that length.
+func limbSetOf(panels []*Panel, vals [][]float64) (*limbSet, int) {
+	n := 0
+	for _, v := range vals {
+		n = max(n, len(v))
+	}
+	return newLimbSet(panels, vals, n), n
 }
 
 // newLimbSet collects the limb-lead panels' samples (vals[k], n samples

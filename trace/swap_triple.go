@@ -76,11 +76,7 @@ func withholdTriple(ink *image.Gray, cal grid.Calibration, fs float64, panels []
 	if len(vals) == 0 || fs <= 0 || ink == nil || cal.GainMMPerMV.V <= 0 {
 		return nil
 	}
-	n := 0
-	for _, v := range vals {
-		n = max(n, len(v))
-	}
-	ls := newLimbSet(panels, vals, n)
+	ls, n := limbSetOf(panels, vals)
 	if ls == nil {
 		return nil
 	}
