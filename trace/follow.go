@@ -283,6 +283,22 @@ const maxInkRewardMM = 20
 //     they happen kept 2 of the 8 overlap gains. Kept instead:
 //     apexesInBlocks (strokes_block.go), where the arms' centre lines
 //     meet.
+//   - Predicting a tangled precordial lead from the other leads printed
+//     at the same time (the heart as one dipole: V1–V6 near linear in
+//     three signals). The synthetic corpus is exactly dipolar (synth:
+//     Dower's transform), so it would score such a repair far too well;
+//     on 24 real LUDB records in the shared data (1–60) a least-squares fit
+//     over the same 10 s predicted V2 from V1, V3 and II at a median
+//     16.7 dB (V4 from V5, V6 and II 10.4 dB), and a fit on the samples
+//     outside the QRS, applied to the QRS, 11.9 and 2.3 dB. Not used.
+//   - A lead printed twice taking each sample from a copy clear of other
+//     rows' strokes (contestedSamples) rather than from the better copy:
+//     overlap records 1–9, 1 lead up and 1 down by 0.3–0.6 dB. Not kept.
+//   - reReadFromClear trusting a clear lead only where no loose ink (a
+//     stroke its path did not read) lies beside it, at every sample
+//     rather than only with two clear leads among five or six: 42 up
+//     instead of 45, median 14.8 instead of 15.1 dB (a steep stroke's own
+//     apex ink reaches past its path's extent).
 
 // farThinCost is followParams.farCost.
 const farThinCost = 0.2
