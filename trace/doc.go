@@ -124,7 +124,10 @@
 //     among five or six simultaneous leads only where no loose ink, a
 //     stroke the path did not read, lies beside them) and the contested
 //     leads departing from it by more than 2 mm are re-read at what it
-//     predicts, where that lies on their own ink over 85 % of the stretch.
+//     predicts, where that lies on their own ink over 85 % of the stretch,
+//     on pages whose clear limb leads agree at 98 % of the samples where
+//     three or more are clear (records stored with per-lead gains break
+//     the laws: LUDB's header gains, 90–96 %).
 //     Overlap pages of records 1–9: median 14.5 → 15.1 dB, 45 leads up,
 //     5 down by 1.4 dB at most.
 //   - Withheld stretches (selfcheck.go): where a lead's path runs, past

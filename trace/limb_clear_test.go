@@ -163,3 +163,32 @@ func TestReReadFromClearBridgedIsNotClear(t *testing.T) {
 		t.Error("aVR's stretch re-read although guideLimb had written it")
 	}
 }
+
+// TestReReadFromClearNeedsTheLaws: the page's limb leads must agree
+// where three or more are clear (clearParams.minHold) before any is
+// re-read. On this page they agree at every such sample; asking for more
+// than that leaves the traded stretch as read. (On LUDB records printed
+// with the dataset's per-lead header gains, which break the laws, the
+// share is 90–96 % at 20 mm/mV; see defaultClear.)
+func TestReReadFromClearNeedsTheLaws(t *testing.T) {
+	ink, cal, panels, vals, xs := clearColumn(t, nil)
+	tradeStrokes(panels, vals, 590, 620)
+	before := make([][]float64, len(vals))
+	for i := range vals {
+		before[i] = slices.Clone(vals[i])
+	}
+	p := defaultClear
+	p.minHold = 1.01
+	if warn := reReadFromClear(ink, cal, 500, panels, vals, nil, xs, p); len(warn) != 0 {
+		t.Errorf("warnings %q, want none", warn)
+	}
+	for i := range vals {
+		if !slices.Equal(vals[i], before[i]) {
+			t.Errorf("%v changed although the page's leads were not held to the laws", panels[i].Lead)
+		}
+	}
+	p.minHold = 1
+	if warn := reReadFromClear(ink, cal, 500, panels, vals, nil, xs, p); len(warn) != 2 {
+		t.Errorf("warnings %q with every clear sample agreeing, want two", warn)
+	}
+}
