@@ -109,19 +109,11 @@ func findRows(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse) []rowI
 	maxGap := int(4 * pxX)
 	faxGap := int(12 * pxX)
 	has := make([]bool, b.Dx())
-	for _, py := range peaks {
+	// read reads the stretch of the row at profile index py within hb px
+	// of it into has.
+	read := func(py, hb int) (x0, x1 int, cov float64, loose bool) {
 		for i := range has {
 			has[i] = false
-		}
-		// A row with a calibration pulse at its line is certainly a row:
-		// its stretch is read within pulseBandMM, so that a trace whose
-		// line wanders (baseline drift at 20 mm/mV) still spans the page.
-		hb := halfBand
-		for _, p := range pulses {
-			if math.Abs(p.BaseY-float64(py+b.Min.Y)) <= 4*pxY {
-				hb = int(pulseBandMM * pxY)
-				break
-			}
 		}
 		for y := max(0, py-hb); y < min(b.Dy(), py+hb+1); y++ {
 			row := ink.Pix[y*ink.Stride : y*ink.Stride+b.Dx()]
@@ -139,13 +131,29 @@ func findRows(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse) []rowI
 		// Header text passes that reading too, so a loose row is kept
 		// only when it has a calibration pulse or lines up with the pulse
 		// rows (below).
-		x0, x1, cov := longestStretch(has, maxGap)
+		x0, x1, cov = longestStretch(has, maxGap)
 		if cov < 0.6 {
 			x0 = -1
 		}
-		loose := false
 		if l0, l1, lc := longestStretch(has, faxGap); lc >= 0.3 && (x0 < 0 || float64(l1-l0) > 1.2*float64(x1-x0)) {
 			x0, x1, cov, loose = l0, l1, lc, true
+		}
+		return x0, x1, cov, loose
+	}
+	for _, py := range peaks {
+		x0, x1, cov, loose := read(py, halfBand)
+		// A row with a calibration pulse at its line is certainly a row:
+		// where its stretch, read within 3 mm of the line, does not start
+		// right after the pulse, it is read again within pulseBandMM, so
+		// that a trace whose line wanders (baseline drift at 20 mm/mV)
+		// still spans the page.
+		for _, p := range pulses {
+			if math.Abs(p.BaseY-float64(py+b.Min.Y)) <= 4*pxY {
+				if x0 < 0 || float64(x0+b.Min.X)-p.X1 > pulseGapMM*pxX {
+					x0, x1, cov, loose = read(py, int(pulseBandMM*pxY))
+				}
+				break
+			}
 		}
 		if x0 < 0 || float64(x1-x0) < 25*pxX {
 			continue
@@ -369,12 +377,18 @@ func longestStretch(has []bool, maxGap int) (x0, x1 int, cov float64) {
 const pulseTailMM = 2.0
 
 // pulseBandMM is the half-height, mm, of the band a row's stretch of ink
-// is read in when a calibration pulse found by the grid stage stands on
-// the row's line (3 mm otherwise). Real records printed at 20 mm/mV wander
+// is read in again when a calibration pulse found by the grid stage
+// stands on the row's line and the stretch read within 3 mm starts more
+// than pulseGapMM after it (on a rhythm page with pen marks, reading every
+// pulse row so moved a row's end 2.5 mm onto a mark). Real records printed at 20 mm/mV wander
 // further: LUDB records 114 (6 × 2) and 38 (Cabrera) each lost a row whose
 // stretch, read within 3 mm, started 37 mm after its pulse, and the page
 // was read as one lead of rhythm.
 const pulseBandMM = 6
+
+// pulseGapMM: the pulse's fall, the 2 mm flat tail after it and a first
+// complex leave the stretch starting within a few millimetres of it.
+const pulseGapMM = 5
 
 // attachPulseGapMM is how far, mm, the row's stretch of ink may start
 // after a calibration pulse that belongs to it: the stretch is read
