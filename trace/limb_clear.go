@@ -88,38 +88,35 @@ func reReadFromClear(ink *image.Gray, cal grid.Calibration, fs float64, panels [
 			}
 		}
 	}
-	// loose[k][c]: column c of panel k (from x0[k]) has a run of ink
-	// reaching more than looseMM past the path's extent (over the columns
+	// isLoose reports whether lead l's column at sample i has a run of ink
+	// reaching more than looseMM past its path's extent (over the columns
 	// a pen's width around it, which a steep stroke's ink covers): a
 	// stroke the path did not read, its own apex left or another row's
-	// stroke.
+	// stroke. It is asked only with two clear leads among five or six, so
+	// a panel's extents are taken when first needed.
 	looseTol := p.looseMM * cal.PxPerMMY.V
 	w := max(1, int(math.Ceil(p.penMM*cal.PxPerMMX.V)))
 	x0 := make([]int, len(panels))
-	loose := make([][]bool, len(panels))
-	for k, pn := range panels {
-		var spans []colSpan
-		x0[k], spans = pathSpans(pn.Path)
-		loose[k] = make([]bool, len(spans))
-		for c, sp := range spans {
-			if math.IsInf(sp.lo, 1) {
-				continue
-			}
-			ext := sp
-			for d := max(0, c-w); d <= min(len(spans)-1, c+w); d++ {
-				if s := spans[d]; !math.IsInf(s.lo, 1) {
-					ext.lo, ext.hi = min(ext.lo, s.lo), max(ext.hi, s.hi)
-				}
-			}
-			r := inkRun(ink, x0[k]+c, sp)
-			loose[k][c] = r.lo < ext.lo-looseTol || r.hi > ext.hi+looseTol
-		}
-	}
+	spans := make([][]colSpan, len(panels))
 	isLoose := func(l, i int) bool {
 		k := ls.src[l][i]
 		pn := panels[k]
+		if spans[k] == nil {
+			x0[k], spans[k] = pathSpans(pn.Path)
+		}
+		sp := spans[k]
 		c := int(math.Round(xStart[k]+(float64(i)/fs-pn.T0)*pxPerS)) - x0[k]
-		return c >= 0 && c < len(loose[k]) && loose[k][c]
+		if c < 0 || c >= len(sp) || math.IsInf(sp[c].lo, 1) {
+			return false
+		}
+		ext := sp[c]
+		for d := max(0, c-w); d <= min(len(sp)-1, c+w); d++ {
+			if s := sp[d]; !math.IsInf(s.lo, 1) {
+				ext.lo, ext.hi = min(ext.lo, s.lo), max(ext.hi, s.hi)
+			}
+		}
+		r := inkRun(ink, x0[k]+c, sp[c])
+		return r.lo < ext.lo-looseTol || r.hi > ext.hi+looseTol
 	}
 	coef := limbCoefficients()
 	// Per sample: the value the clear leads' vector predicts for each
