@@ -191,8 +191,22 @@ func TestRealRecords(t *testing.T) {
 // at 500 Hz.
 func realRecord(t *testing.T, dataset, file string) ecg.Record {
 	t.Helper()
+	return readReal(t, dataset, file, false)
+}
+
+// realRecordRaw is realRecord in the record's digital units, one unit
+// taken as 1 µV: LUDB's header gains are a per-lead range normalisation
+// (the shared data's README, "LUDB calibration caveat"), and only the raw
+// units keep the leads' relative sizes and the limb-lead laws.
+func realRecordRaw(t *testing.T, dataset, file string) ecg.Record {
+	t.Helper()
+	return readReal(t, dataset, file, true)
+}
+
+func readReal(t *testing.T, dataset, file string, raw bool) ecg.Record {
+	t.Helper()
 	dir := refdata.Dir(t, dataset)
-	rec, _, err := wfdb.ReadRecord(filepath.Join(dir, file))
+	rec, hdr, err := wfdb.ReadRecord(filepath.Join(dir, file))
 	if err != nil {
 		t.Fatalf("read: %v", err)
 	}
@@ -203,10 +217,61 @@ func realRecord(t *testing.T, dataset, file string) ecg.Record {
 			if n := int(10 * c.SampleRate); len(c.Samples) > n {
 				c.Samples = c.Samples[:n]
 			}
+			if raw {
+				k := math.NaN()
+				for _, sp := range hdr.Signals {
+					if pl, err := ecg.ParseLead(sp.Description); err == nil && pl == l {
+						k = sp.Gain / 1000
+					}
+				}
+				if math.IsNaN(k) {
+					t.Fatalf("%s: no header line for lead %v", file, l)
+				}
+				for i := range c.Samples {
+					c.Samples[i] *= k
+				}
+			}
 			r.Set(c)
 		}
 	}
 	return ecg.ResampleRecord(r, 500)
+}
+
+// TestRealStackedGain prints LUDB records in their raw units 12 × 1 at
+// 20 mm/mV, where the rows are 15 mm apart and the 20 mm calibration
+// pulses stack into a ladder at the rows' left ends, and requires the
+// gain read from that ladder (20 mm/mV) and the layout. Before, on these
+// clean pages: record 1 read at the assumed 10 mm/mV (four rows'
+// baselines, their ink profiles' peaks, sat 1.3–1.7 mm below their
+// pulses' feet, and their tops were looked for within 0.5 mm of 20 mm
+// above the baselines: 8 of 12 found, too few); record 24 at 10 mm/mV
+// as 6 × 2; record 44 at 5 mm/mV as 3x4+1. The ladder is now read from
+// each row's foot (stackFeet) with a tolerance proportional to the
+// height tried (fitStack). Over the 29 LUDB records printed so with the
+// scan preset, the gain was right on 14 pages, now on all 29.
+func TestRealStackedGain(t *testing.T) {
+	if testing.Short() {
+		t.Skip("renders full pages")
+	}
+	for _, file := range []string{"1.hea", "24.hea", "44.hea"} {
+		t.Run(file, func(t *testing.T) {
+			r := realRecordRaw(t, "ludb", file)
+			page, err := render.Render(r, &render.Options{Layout: "12x1", GainMMPerMV: 20})
+			if err != nil {
+				t.Fatalf("render: %v", err)
+			}
+			res, _, err := digitise(page.Image)
+			if res == nil {
+				t.Fatalf("digitise: %v", err)
+			}
+			if g := res.Record.Meta.GainMMPerMV; g != 20 {
+				t.Errorf("gain %g mm/mV, want 20", g)
+			}
+			if res.Layout.Name != "12x1" || len(res.Record.Signals) != 12 {
+				t.Errorf("layout %q with %d leads, want 12x1 with 12", res.Layout.Name, len(res.Record.Signals))
+			}
+		})
+	}
 }
 
 // TestRealRecordDrift prints LUDB records at 20 mm/mV, where their

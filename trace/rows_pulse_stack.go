@@ -103,15 +103,19 @@ func findStackedPulses(ink *image.Gray, rows []rowInfo, cal grid.Calibration) bo
 	sort.Ints(x0s)
 	xa := max(ink.Rect.Min.X+1, x0s[0]-int(14*pxX))
 	xb := min(ink.Rect.Max.X-1, x0s[n/2]+int(25*pxX))
-	// Stacked pulse strokes cover the 3 mm above every trace row's
-	// baseline: candidate strokes are the columns that do so on at least
-	// half of the rows (header and footer lines are rows here too).
+	// Stacked pulse strokes cover the millimetres above every trace row's
+	// baseline: candidate strokes are the columns that cover 1.5–4 mm
+	// above it on at least half of the rows (header and footer lines are
+	// rows here too). The window starts above the baseline because a
+	// row's baseline, the peak of its ink profile, can sit a millimetre
+	// or more below the pulse's foot (tall T waves, baseline wander: LUDB
+	// record 1, 12 × 1 at 20 mm/mV).
 	var strokes []pulseEdge
 	in := false
 	for x := xa; x < xb; x++ {
 		k := 0
 		for _, r := range rows {
-			if colCover(ink, x, int(r.baseY-3*pxY), int(r.baseY)) >= 0.9 {
+			if colCover(ink, x, int(r.baseY-4*pxY), int(r.baseY-1.5*pxY)) >= 0.9 {
 				k++
 			}
 		}
@@ -126,34 +130,17 @@ func findStackedPulses(ink *image.Gray, rows []rowInfo, cal grid.Calibration) bo
 			in = false
 		}
 	}
-	type fit struct {
-		rise, fall pulseEdge
-		hMM        float64
-		tops       []float64 // y of each row's top, NaN where missing
-		count      int
-	}
-	var best fit
-	tol := 0.5 * pxY
+	pitch := rowPitch(rows)
+	var best stackFit
 	for i, s1 := range strokes {
 		for _, s2 := range strokes[i+1:] {
 			d := (s2.centre() - s1.centre()) / pxX
 			if d < 3 || d > 12 {
 				continue
 			}
+			feet := stackFeet(ink, rows, s2, pxX, pxY, pitch)
 			for _, h := range stackedGainsMM {
-				f := fit{rise: s1, fall: s2, hMM: h, tops: make([]float64, n)}
-				for ri, r := range rows {
-					f.tops[ri] = math.NaN()
-					yt := r.baseY - h*pxY
-					if colCover(ink, int(s1.centre()), int(yt), int(r.baseY)) < 0.9 || colCover(ink, int(s2.centre()), int(yt), int(r.baseY)) < 0.9 {
-						continue
-					}
-					if y, ok := flatTop(ink, s1.x1+2, s2.x0-2, yt, tol); ok {
-						f.tops[ri] = y
-						f.count++
-					}
-				}
-				if f.count > best.count {
+				if f := fitStack(ink, rows, s1, s2, feet, h, pxY); f.better(best) {
 					best = f
 				}
 			}
@@ -167,27 +154,9 @@ func findStackedPulses(ink *image.Gray, rows []rowInfo, cal grid.Calibration) bo
 		if math.IsNaN(best.tops[ri]) {
 			continue
 		}
-		// The foot: the thin line beside the falling stroke, within
-		// 1.5 mm of the baseline.
-		foot := math.NaN()
-		fx0, fx1 := best.fall.x1+2, best.fall.x1+int(pulseTailMM*pxX)
-		if fx1 > fx0 {
-			c := make([]float64, fx1-fx0)
-			inkCentres(c, ink, fx0, int(r.baseY-1.5*pxY), int(r.baseY+1.5*pxY), r.baseY)
-			var ys []float64
-			for _, v := range c {
-				if !math.IsNaN(v) {
-					ys = append(ys, v)
-				}
-			}
-			if 2*len(ys) >= len(c) {
-				sort.Float64s(ys)
-				foot = r.baseY + ys[len(ys)/2]
-			}
-		}
 		r.hasPulse = true
-		r.zeroY = foot
-		base := foot
+		r.zeroY = best.feet[ri]
+		base := best.feet[ri]
 		if math.IsNaN(base) {
 			base = r.baseY
 		}
@@ -199,6 +168,119 @@ func findStackedPulses(ink *image.Gray, rows []rowInfo, cal grid.Calibration) bo
 		r.x0 = min(r.x0, best.rise.x0)
 	}
 	return true
+}
+
+// stackFit is one reading of a stack of pulses: its rising and falling
+// strokes, the pulse height tried, each row's foot and top (NaN where
+// missing), how many rows have a top and how many tops are missing where
+// the picture at this height says there must be one (unexplained).
+type stackFit struct {
+	rise, fall  pulseEdge
+	hMM         float64
+	feet, tops  []float64
+	count       int
+	unexplained int
+}
+
+// better reports whether f explains the stack better than g: more rows
+// with a top once its unexplained misses are taken off, then more rows
+// with a top.
+func (f stackFit) better(g stackFit) bool {
+	a, b := f.count-f.unexplained, g.count-g.unexplained
+	if a != b {
+		return a > b
+	}
+	return f.count > g.count
+}
+
+// stackFeet finds each row's foot: the thin line beside the falling
+// stroke (the pulse's tail, at the row's 0 mV), the centre of the ink
+// run nearest the row's baseline within a quarter of the row pitch
+// (at most 3 mm); NaN where fewer than half of the tail's columns hold
+// ink there.
+func stackFeet(ink *image.Gray, rows []rowInfo, fall pulseEdge, pxX, pxY, pitch float64) []float64 {
+	feet := make([]float64, len(rows))
+	w := 3 * pxY
+	if pitch > 0 {
+		w = math.Min(w, 0.25*pitch)
+	}
+	fx0, fx1 := fall.x1+2, fall.x1+int(pulseTailMM*pxX)
+	for ri, r := range rows {
+		feet[ri] = math.NaN()
+		if fx1 <= fx0 {
+			continue
+		}
+		c := make([]float64, fx1-fx0)
+		inkCentres(c, ink, fx0, int(r.baseY-w), int(r.baseY+w), r.baseY)
+		var ys []float64
+		for _, v := range c {
+			if !math.IsNaN(v) {
+				ys = append(ys, v)
+			}
+		}
+		if 2*len(ys) >= len(c) {
+			sort.Float64s(ys)
+			feet[ri] = r.baseY + ys[len(ys)/2]
+		}
+	}
+	return feet
+}
+
+// fitStack reads the stack of pulses between the strokes rise and fall
+// at a pulse height of hMM: a row whose two strokes cover it from its foot
+// (its baseline where no foot was found) up to hMM above has a top there
+// if a flat line joins the strokes within 6 % of hMM (at least 0.3 mm:
+// the pen blurs a measured height by a few per cent; 5, 10 and 20 mm/mV,
+// a factor of two apart, stay apart) of that height, and
+// is an unexplained miss otherwise. Strokes that run on above the highest
+// top (by more than 2 mm over the next 2 mm) are one unexplained miss
+// more: at a pulse height that is too small, the pulses above the
+// stack's top row are left over. (At a 15 mm pitch every row's 20 mm top
+// lies 5 mm above the next row's foot, so 5 mm/mV fits every row but the
+// bottom one.)
+func fitStack(ink *image.Gray, rows []rowInfo, rise, fall pulseEdge, feet []float64, hMM, pxY float64) stackFit {
+	f := stackFit{rise: rise, fall: fall, hMM: hMM, feet: feet, tops: make([]float64, len(rows))}
+	tol := math.Max(0.3, 0.06*hMM) * pxY
+	highest := math.Inf(1)
+	for ri, r := range rows {
+		f.tops[ri] = math.NaN()
+		base, t := feet[ri], tol
+		if math.IsNaN(base) {
+			base, t = r.baseY, math.Max(tol, 0.5*pxY)
+		}
+		yt := base - hMM*pxY
+		if colCover(ink, int(rise.centre()), int(yt+t), int(base)) < 0.9 || colCover(ink, int(fall.centre()), int(yt+t), int(base)) < 0.9 {
+			continue
+		}
+		if y, ok := flatTop(ink, rise.x1+2, fall.x0-2, yt, t); ok {
+			f.tops[ri] = y
+			f.count++
+			highest = math.Min(highest, y)
+		} else {
+			f.unexplained++
+		}
+	}
+	if f.count > 0 {
+		y0, y1 := int(highest-4*pxY), int(highest-2*pxY)
+		if colCover(ink, int(rise.centre()), y0, y1) >= 0.9 && colCover(ink, int(fall.centre()), y0, y1) >= 0.9 {
+			f.unexplained++
+		}
+	}
+	return f
+}
+
+// rowPitch is the median spacing of consecutive rows' baselines, px (0
+// for fewer than two rows).
+func rowPitch(rows []rowInfo) float64 {
+	var sp []float64
+	for i := 1; i < len(rows); i++ {
+		sp = append(sp, math.Abs(rows[i].baseY-rows[i-1].baseY))
+	}
+	if len(sp) == 0 {
+		return 0
+	}
+	sort.Float64s(sp)
+	return sp[(len(sp)-1)/2]
 }
 
 // stackFall is the falling line's centre to a fraction of a pixel

@@ -91,6 +91,31 @@ func TestFindStackedPulses(t *testing.T) {
 			}
 		})
 	}
+	// A row's baseline is the peak of its ink profile, which tall T waves
+	// and baseline wander move off the pulse's foot: LUDB record 1 printed
+	// 12 × 1 at 20 mm/mV had four rows whose baselines sat 1.3–1.7 mm
+	// below their feet, their tops were not found within 0.5 mm of 20 mm
+	// above the baselines, and the page was read at the assumed 10 mm/mV.
+	t.Run("baselines off the feet", func(t *testing.T) {
+		ink, rows := stackedPage(12, 15, 20)
+		feet := make([]float64, len(rows))
+		for i := range rows {
+			feet[i] = rows[i].baseY
+			off := []float64{1.5, -0.8, 1.3, 0}[i%4]
+			rows[i].baseY += off * 4
+		}
+		if !findStackedPulses(ink, rows, cal) {
+			t.Fatal("no stacked pulses found")
+		}
+		for i, r := range rows {
+			if !r.hasPulse || math.Abs(r.pulseMM-20) > 0.3 {
+				t.Errorf("row %d: pulse %v, %.2f mm, want 20", i, r.hasPulse, r.pulseMM)
+			}
+			if math.Abs(r.zeroY-feet[i]) > 0.5 {
+				t.Errorf("row %d: 0 mV at %.1f, want the foot at %.0f", i, r.zeroY, feet[i])
+			}
+		}
+	})
 	t.Run("no pulses", func(t *testing.T) {
 		ink, rows := stackedPage(12, 14, 20)
 		// Erase the pulses (everything left of the trace).
