@@ -253,7 +253,7 @@ func TestRealStackedGain(t *testing.T) {
 	if testing.Short() {
 		t.Skip("renders full pages")
 	}
-	for _, file := range []string{"1.hea", "24.hea", "44.hea"} {
+	for _, file := range []string{"1.hea", "24.hea", "44.hea", "105.hea", "114.hea"} {
 		t.Run(file, func(t *testing.T) {
 			r := realRecordRaw(t, "ludb", file)
 			page, err := render.Render(r, &render.Options{Layout: "12x1", GainMMPerMV: 20})

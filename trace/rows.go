@@ -197,7 +197,23 @@ func findRows(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse) []rowI
 	rows = dropFlatRows(ink, rows, pxX, pxY)
 	// Fewer than half of the rows with a pulse of their own: the pulses
 	// may be taller than the row pitch and overlap.
-	if k := countPulseMM(rows); 2*k < len(rows) && findStackedPulses(ink, rows, cal) {
+	// readAt reads a row whose line a stack's ladder of pulses puts at y.
+	readAt := func(y float64) (rowInfo, bool) {
+		py := int(math.Round(y)) - b.Min.Y
+		if py < 0 || py >= b.Dy() {
+			return rowInfo{}, false
+		}
+		x0, x1, cov, loose := read(py, int(pulseBandMM*pxY))
+		if x0 < 0 || float64(x1-x0) < 25*pxX {
+			return rowInfo{}, false
+		}
+		return rowInfo{baseY: y, zeroY: math.NaN(), x0: x0 + b.Min.X, x1: x1 + 1 + b.Min.X, score: cov, loose: loose, cols: append([]bool(nil), has...)}, true
+	}
+	var stacked bool
+	if k := countPulseMM(rows); 2*k < len(rows) {
+		rows, stacked = findStackedPulses(ink, rows, cal, readAt)
+	}
+	if stacked {
 		// The stack spans the trace rows: a row above or below it
 		// without a pulse is header or footer text crossed by tall
 		// complexes, one close to a pulse row a tangle of complexes.

@@ -90,10 +90,10 @@ func (s pulseEdge) centre() float64 { return float64(s.x0+s.x1) / 2 }
 // the trace start pulseTailMM after the falling stroke. It replaces what
 // findPulse and attachPulse found on those rows (a tangle of strokes
 // there looks like short pulses) and returns whether it did.
-func findStackedPulses(ink *image.Gray, rows []rowInfo, cal grid.Calibration) bool {
+func findStackedPulses(ink *image.Gray, rows []rowInfo, cal grid.Calibration, readAt func(y float64) (rowInfo, bool)) ([]rowInfo, bool) {
 	n := len(rows)
 	if n < 3 {
-		return false
+		return rows, false
 	}
 	pxX, pxY := cal.PxPerMMX.V, cal.PxPerMMY.V
 	x0s := make([]int, 0, n)
@@ -147,7 +147,7 @@ func findStackedPulses(ink *image.Gray, rows []rowInfo, cal grid.Calibration) bo
 		}
 	}
 	if best.count < 3 || 4*best.count < 3*(best.count+missedRows(rows, best.tops)) {
-		return false
+		return rows, false
 	}
 	for ri := range rows {
 		r := &rows[ri]
@@ -167,7 +167,154 @@ func findStackedPulses(ink *image.Gray, rows []rowInfo, cal grid.Calibration) bo
 		r.traceX0 = stackFall(ink, rows, best.fall, best.tops, pxY) + pulseTailMM*pxX
 		r.x0 = min(r.x0, best.rise.x0)
 	}
-	return true
+	if readAt != nil {
+		rows = ladderRows(ink, rows, best, cal, readAt)
+	}
+	return rows, true
+}
+
+// ladderRows completes the rows of a stack of pulses (best): the feet of
+// a stack are evenly spaced, one per trace row, and where the ladder has
+// a rung that no row of rows sits on (within a quarter of its pitch) —
+// inside the stack, or continuing it up or down — that rung's row was
+// missed by the ink profile (its line wandering, or its peak pulled
+// into a neighbour's by tall complexes). Such a rung counts when it has
+// a foot beside the falling stroke within a fifth of the pitch of where
+// the pitch puts it, a flat top bestfit's height above that foot, and
+// both strokes covering the height between; readAt then reads the row's
+// stretch at the foot. Rows run top to bottom, and so do the rows
+// returned (the new ones carry their pulse; stackRows then drops the
+// profile peaks of tangled complexes near them).
+func ladderRows(ink *image.Gray, rows []rowInfo, best stackFit, cal grid.Calibration, readAt func(y float64) (rowInfo, bool)) []rowInfo {
+	pxX, pxY := cal.PxPerMMX.V, cal.PxPerMMY.V
+	var feet []float64
+	for ri := range rows {
+		if !math.IsNaN(best.tops[ri]) && !math.IsNaN(best.feet[ri]) {
+			feet = append(feet, best.feet[ri])
+		}
+	}
+	if len(feet) < 3 {
+		return rows
+	}
+	sort.Float64s(feet)
+	// The pitch: consecutive feet are one or more pitches apart.
+	minD := math.Inf(1)
+	for k := 1; k < len(feet); k++ {
+		minD = math.Min(minD, feet[k]-feet[k-1])
+	}
+	if minD < 5*pxY {
+		return rows
+	}
+	var ps []float64
+	for k := 1; k < len(feet); k++ {
+		d := feet[k] - feet[k-1]
+		ps = append(ps, d/math.Round(d/minD))
+	}
+	sort.Float64s(ps)
+	pitch := ps[len(ps)/2]
+	h := best.hMM * pxY
+	tol := math.Max(0.3, 0.06*best.hMM) * pxY
+	taken := func(y float64) bool {
+		for _, r := range rows {
+			f := r.baseY
+			if r.hasPulse && !math.IsNaN(r.zeroY) {
+				f = r.zeroY
+			}
+			if math.Abs(f-y) < 0.25*pitch {
+				return true
+			}
+		}
+		return false
+	}
+	// rung reads the rung nearest y: its foot and whether it is whole.
+	rung := func(y float64) (float64, bool) {
+		foot := footAt(ink, best.fall, y, 0.2*pitch, pxX)
+		if math.IsNaN(foot) || foot-h < float64(ink.Rect.Min.Y) {
+			return 0, false
+		}
+		if colCover(ink, int(best.rise.centre()), int(foot-h+tol), int(foot)) < 0.9 || colCover(ink, int(best.fall.centre()), int(foot-h+tol), int(foot)) < 0.9 {
+			return 0, false
+		}
+		_, ok := flatTop(ink, best.rise.x1+2, best.fall.x0-2, foot-h, tol)
+		return foot, ok
+	}
+	var added []rowInfo
+	add := func(foot float64) {
+		if taken(foot) {
+			return
+		}
+		r, ok := readAt(foot)
+		if !ok {
+			return
+		}
+		top, _ := flatTop(ink, best.rise.x1+2, best.fall.x0-2, foot-h, tol)
+		r.hasPulse, r.zeroY = true, foot
+		r.pulseMM = (foot - top) / pxY
+		if math.Abs(r.pulseMM-best.hMM) > 0.1*best.hMM {
+			r.pulseMM = best.hMM
+		}
+		r.traceX0 = stackFall(ink, rows, best.fall, best.tops, pxY) + pulseTailMM*pxX
+		r.x0 = min(r.x0, best.rise.x0)
+		// Printed rows are 250 mm wide (standards.md §1.1), as in findRows.
+		if float64(r.x1)-r.traceX0 > 256*pxX {
+			r.x1 = int(r.traceX0 + 250*pxX)
+		}
+		added = append(added, r)
+	}
+	// Inside the stack: gaps of two or more pitches between feet.
+	for k := 1; k < len(feet); k++ {
+		m := int(math.Round((feet[k] - feet[k-1]) / pitch))
+		for j := 1; j < m; j++ {
+			if foot, ok := rung(feet[k-1] + float64(j)*(feet[k]-feet[k-1])/float64(m)); ok {
+				add(foot)
+			}
+		}
+	}
+	// Beyond it, upwards and downwards, while the ladder goes on.
+	for _, dir := range []float64{-1, 1} {
+		edge := feet[0]
+		if dir > 0 {
+			edge = feet[len(feet)-1]
+		}
+		for {
+			foot, ok := rung(edge + dir*pitch)
+			if !ok {
+				break
+			}
+			add(foot)
+			edge = foot
+		}
+	}
+	if len(added) == 0 {
+		return rows
+	}
+	rows = append(rows, added...)
+	sort.SliceStable(rows, func(i, j int) bool { return rows[i].baseY < rows[j].baseY })
+	return rows
+}
+
+// footAt is the foot of a pulse whose falling stroke is fall near y: the
+// median centre of the ink runs nearest y within w px of it over the
+// pulse's tail (pulseTailMM after the stroke), NaN where fewer than half
+// of the tail's columns hold ink there.
+func footAt(ink *image.Gray, fall pulseEdge, y, w, pxX float64) float64 {
+	fx0, fx1 := fall.x1+2, fall.x1+int(pulseTailMM*pxX)
+	if fx1 <= fx0 {
+		return math.NaN()
+	}
+	c := make([]float64, fx1-fx0)
+	inkCentres(c, ink, fx0, int(y-w), int(y+w), y)
+	var ys []float64
+	for _, v := range c {
+		if !math.IsNaN(v) {
+			ys = append(ys, v)
+		}
+	}
+	if 2*len(ys) < len(c) {
+		return math.NaN()
+	}
+	sort.Float64s(ys)
+	return y + ys[len(ys)/2]
 }
 
 // stackFit is one reading of a stack of pulses: its rising and falling
@@ -204,24 +351,8 @@ func stackFeet(ink *image.Gray, rows []rowInfo, fall pulseEdge, pxX, pxY, pitch 
 	if pitch > 0 {
 		w = math.Min(w, 0.25*pitch)
 	}
-	fx0, fx1 := fall.x1+2, fall.x1+int(pulseTailMM*pxX)
 	for ri, r := range rows {
-		feet[ri] = math.NaN()
-		if fx1 <= fx0 {
-			continue
-		}
-		c := make([]float64, fx1-fx0)
-		inkCentres(c, ink, fx0, int(r.baseY-w), int(r.baseY+w), r.baseY)
-		var ys []float64
-		for _, v := range c {
-			if !math.IsNaN(v) {
-				ys = append(ys, v)
-			}
-		}
-		if 2*len(ys) >= len(c) {
-			sort.Float64s(ys)
-			feet[ri] = r.baseY + ys[len(ys)/2]
-		}
+		feet[ri] = footAt(ink, fall, r.baseY, w, pxX)
 	}
 	return feet
 }

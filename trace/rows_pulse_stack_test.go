@@ -75,7 +75,7 @@ func TestFindStackedPulses(t *testing.T) {
 	} {
 		t.Run(tc.name, func(t *testing.T) {
 			ink, rows := stackedPage(12, tc.pitch, tc.gainMM)
-			if !findStackedPulses(ink, rows, cal) {
+			if _, ok := findStackedPulses(ink, rows, cal, nil); !ok {
 				t.Fatal("no stacked pulses found")
 			}
 			for i, r := range rows {
@@ -104,7 +104,7 @@ func TestFindStackedPulses(t *testing.T) {
 			off := []float64{1.5, -0.8, 1.3, 0}[i%4]
 			rows[i].baseY += off * 4
 		}
-		if !findStackedPulses(ink, rows, cal) {
+		if _, ok := findStackedPulses(ink, rows, cal, nil); !ok {
 			t.Fatal("no stacked pulses found")
 		}
 		for i, r := range rows {
@@ -116,6 +116,45 @@ func TestFindStackedPulses(t *testing.T) {
 			}
 		}
 	})
+	// Rows the ink profile missed (an interior one and the bottom one)
+	// are completed from the ladder's rungs, and a profile peak between
+	// two rows (tangled complexes) gives way to them.
+	t.Run("missed rows", func(t *testing.T) {
+		ink, all := stackedPage(12, 15, 20)
+		var rows []rowInfo
+		for i, r := range all {
+			if i != 5 && i != 11 {
+				rows = append(rows, r)
+			}
+		}
+		junk := all[7]
+		junk.baseY -= 6 * 4
+		rows = append(rows[:6], append([]rowInfo{junk}, rows[6:]...)...)
+		var asked []float64
+		readAt := func(y float64) (rowInfo, bool) {
+			asked = append(asked, y)
+			return rowInfo{baseY: y, zeroY: math.NaN(), x0: 70, x1: 1100, traceX0: 70}, true
+		}
+		got, ok := findStackedPulses(ink, rows, cal, readAt)
+		if !ok {
+			t.Fatal("no stacked pulses found")
+		}
+		got = stackRows(got, 4)
+		if len(got) != 12 {
+			t.Fatalf("%d rows (read at %v), want 12", len(got), asked)
+		}
+		for i, r := range got {
+			if !r.hasPulse || math.Abs(r.zeroY-all[i].baseY) > 0.5 || math.Abs(r.pulseMM-20) > 0.3 {
+				t.Errorf("row %d: pulse %v, 0 mV at %.1f, %.2f mm; want the foot at %.0f, 20 mm", i, r.hasPulse, r.zeroY, r.pulseMM, all[i].baseY)
+			}
+		}
+		// Without a reader nothing is added.
+		ink, all = stackedPage(12, 15, 20)
+		rows = append(append([]rowInfo(nil), all[:5]...), all[6:]...)
+		if got, _ := findStackedPulses(ink, rows, cal, nil); len(got) != 11 {
+			t.Errorf("%d rows without a reader, want 11", len(got))
+		}
+	})
 	t.Run("no pulses", func(t *testing.T) {
 		ink, rows := stackedPage(12, 14, 20)
 		// Erase the pulses (everything left of the trace).
@@ -124,7 +163,7 @@ func TestFindStackedPulses(t *testing.T) {
 				ink.Pix[y*ink.Stride+x] = 0
 			}
 		}
-		if findStackedPulses(ink, rows, cal) {
+		if _, ok := findStackedPulses(ink, rows, cal, nil); ok {
 			t.Error("pulses found on a page without any")
 		}
 	})
