@@ -126,16 +126,22 @@ func Extract(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse, opt *Op
 	ink = dropRuledLines(ink, int(30*pxX))
 	rows := findRows(ink, cal, pulses)
 	turned := false
-	if countPulses(rows) == 0 {
-		// No calibration pulse at the left of any row: the page may be
-		// upside down (pulses at the right ends, hanging below the
-		// baseline). Trace the page turned by 180° if that finds pulses.
+	if np := countPulses(rows); np == 0 || 2*np < len(rows) {
+		// Calibration pulses at the left of fewer than half of the rows:
+		// the page may be upside down (pulses at the right ends, hanging
+		// below the baseline). Trace the page turned by 180° if that
+		// finds pulses, and more than twice as many: a row's tangle of
+		// strokes can pass for a pulse (LUDB record 15, whose QRS
+		// complexes point down and whose V4 swings off the sheet, printed
+		// 3x4+3 at 20 mm/mV: the front end turned the page over, one
+		// such "pulse" of 4 mm was read at a row's left end, the page was
+		// traced upside down at 4 mm/mV; median −12.7 dB).
 		rot := rotate180(ink)
 		// Two pulses at least, or the pulse of a page's only row (a
 		// rhythm strip at 20 mm/mV whose R waves run off the sheet's top
 		// edge looked upside down to the front end: overlap rhythm seeds
 		// 5 and 9).
-		if rr := findRows(rot, cal, nil); len(rr) > 0 && countPulses(rr) >= min(2, len(rr)) {
+		if rr := findRows(rot, cal, nil); len(rr) > 0 && countPulses(rr) >= min(2, len(rr)) && countPulses(rr) > 2*np {
 			ink, rows, turned = rot, rr, true
 			res.Warnings = append(res.Warnings, "the page appears upside down (calibration pulses on the right); traced turned by 180°")
 		}

@@ -237,6 +237,39 @@ func readReal(t *testing.T, dataset, file string, raw bool) ecg.Record {
 	return ecg.ResampleRecord(r, 500)
 }
 
+// TestRealUpsideDownGuess prints LUDB record 15 (raw units) 3x4+3 at
+// 20 mm/mV. Its QRS complexes point mostly down and its V4 swings off the
+// sheet, so the front end's ink balance turns the page over; one row's
+// tangle of strokes then passed for a 4 mm pulse at its left end, the
+// page was not tried turned back (that needed no pulse at all), and it
+// was traced upside down as 6 × 2 at 4 mm/mV (median −13.7 dB). Turned
+// back when that finds more than twice as many pulses: 3x4+3 at
+// 20 mm/mV, 18.3 dB.
+func TestRealUpsideDownGuess(t *testing.T) {
+	if testing.Short() {
+		t.Skip("renders full pages")
+	}
+	r := realRecordRaw(t, "ludb", "15.hea")
+	page, err := render.Render(r, &render.Options{Layout: "3x4+3", GainMMPerMV: 20})
+	if err != nil {
+		t.Fatalf("render: %v", err)
+	}
+	res, _, err := digitise(page.Image)
+	if res == nil {
+		t.Fatalf("digitise: %v", err)
+	}
+	if g := res.Record.Meta.GainMMPerMV; g != 20 || res.Layout.Name != "3x4+3" {
+		t.Fatalf("layout %q at %g mm/mV, want 3x4+3 at 20", res.Layout.Name, g)
+	}
+	sc := trace.SNR(accuracy.PrintedRecord(&page.Truth), res.Record, trace.Lenient)
+	t.Logf("median %.1f dB; %s", sc.Median, fmtLeads(sc.PerLead))
+	// Floor below the measured 18.3 dB; the real records' floor elsewhere
+	// in this file is 15 dB.
+	if sc.Median < 15 {
+		t.Errorf("median SNR %.1f dB < 15 dB", sc.Median)
+	}
+}
+
 // TestRealStackedGain prints LUDB records in their raw units 12 × 1 at
 // 20 mm/mV, where the rows are 15 mm apart and the 20 mm calibration
 // pulses stack into a ladder at the rows' left ends, and requires the
