@@ -146,6 +146,20 @@ func Extract(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse, opt *Op
 			res.Warnings = append(res.Warnings, "the page appears upside down (calibration pulses on the right); traced turned by 180°")
 		}
 	}
+	if !turned && len(rows) > 0 && countPulses(rows) == 0 {
+		// No pulse either way up: the beats tell the time's direction
+		// (orient_beats.go). A mean below −asymmetryTurn on this page and
+		// above +asymmetryTurn on the page turned over turns it.
+		if s, nb := beatAsymmetry(ink, rows, cal); nb >= asymmetryMinBeats && s < -asymmetryTurn*float64(nb) {
+			rot := rotate180(ink)
+			if rr := findRows(rot, cal, nil); len(rr) > 0 && countPulses(rr) == 0 {
+				if s2, nb2 := beatAsymmetry(rot, rr, cal); nb2 >= asymmetryMinBeats && s2 > asymmetryTurn*float64(nb2) {
+					ink, rows, turned = rot, rr, true
+					res.Warnings = append(res.Warnings, fmt.Sprintf("no calibration pulses, and the beats run backwards (the larger wave before each QRS complex, mean asymmetry %.2f): traced turned by 180°", s/float64(nb)))
+				}
+			}
+		}
+	}
 	if len(rows) == 0 {
 		return nil, fmt.Errorf("trace: extract: no trace rows on the page: %w", ecg.ErrNoECG)
 	}
