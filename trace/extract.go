@@ -193,6 +193,14 @@ func Extract(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse, opt *Op
 			}
 			cal.GainMMPerMV = grid.Value{V: g, Origin: grid.FromPulse}
 		}
+		// A gain the grid stage read from pulses that lie on no trace
+		// row, and that is no printed gain, came from something else
+		// with a flat top (LUDB record 24 printed 12 × 1 without pulses:
+		// one 3.7 mm "pulse", every lead a third of its size: −4.5 dB).
+		if cal.GainMMPerMV.Origin == grid.FromPulse && countPulses(rows) == 0 && !printedGain(cal.GainMMPerMV.V) {
+			res.Warnings = append(res.Warnings, fmt.Sprintf("the grid stage's calibration pulse (%.3g mm) lies on no trace row and gives no printed gain; assumed 10 mm/mV", cal.GainMMPerMV.V))
+			cal.GainMMPerMV = grid.Value{V: 10, Origin: grid.FromDefault}
+		}
 	}
 	res.Calibration = cal
 	for i := range rows {

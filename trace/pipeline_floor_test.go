@@ -272,8 +272,9 @@ func TestRealUpsideDownGuess(t *testing.T) {
 	}
 }
 
-// erasePulses paints the calibration pulses of a clean page white (with a
-// millimetre around them): a page printed without pulses.
+// erasePulses paints the calibration pulses of a clean page white, with
+// the baseline printed before and after them and a millimetre above and
+// below: a page printed without pulses.
 func erasePulses(t *testing.T, page *render.Page) {
 	t.Helper()
 	img, ok := page.Image.(draw.Image)
@@ -283,21 +284,27 @@ func erasePulses(t *testing.T, page *render.Page) {
 	kx, ky := page.Truth.PxPerMMX, page.Truth.PxPerMMY
 	for _, p := range page.Truth.Pulses {
 		for y := int((p.BaselineYMM - p.HeightMM - 1) * ky); y <= int((p.BaselineYMM+1)*ky); y++ {
-			for x := int((p.X0MM - 1) * kx); x <= int((p.X1MM+0.5)*kx); x++ {
+			for x := int((p.X0MM - 2.5) * kx); x <= int((p.X1MM+1.9)*kx); x++ {
 				img.Set(x, y, color.White)
 			}
 		}
 	}
 }
 
-// TestNoPulseOrientation prints pages without calibration pulses. The
-// front end turned LUDB records 21 (3 × 4) and 45 (6 × 2), whose
-// complexes point mostly down, upside down, and with no pulse to say
-// otherwise they were traced so, every lead reversed (−0.5 and −1.7 dB,
-// read as Cabrera layouts). The beats' direction in time (the larger wave
-// after each QRS complex, beatAsymmetry) turns them back: 23.3 and
-// 24.4 dB. Synthetic record 14 printed 6 × 2 is upright and has the
-// weakest asymmetry of 119 synthetic pages (mean −0.03): it is left alone.
+// TestNoPulseOrientation prints pages without calibration pulses (painted
+// out, with their baselines). The front end turned LUDB records 21
+// (3 × 4) and 45 (6 × 2), whose complexes point mostly down, upside down,
+// and with no pulse to say otherwise they were traced so, every lead
+// reversed (−0.5 and −1.7 dB, read as Cabrera layouts); the beats'
+// direction in time (the larger wave after each QRS complex,
+// beatAsymmetry) turns them back (21.1 and 18.4 dB). Synthetic record 14
+// printed 6 × 2 is upright and has the weakest asymmetry of 120
+// synthetic pages (mean −0.03): it is left alone (24.1 dB). Without
+// pulses the gain is the assumed 10 mm/mV: on synthetic record 5 printed
+// 12 × 1 a complex with a flat top was read as a 2.4 mm pulse on one row
+// and the page traced at 2.4 mm/mV (−11.3 dB; dropOddPulses), and on
+// LUDB record 24 printed 12 × 1 the grid stage read a 3.7 mm "pulse" on
+// no trace row (−4.5 dB).
 func TestNoPulseOrientation(t *testing.T) {
 	if testing.Short() {
 		t.Skip("renders full pages")
@@ -308,13 +315,9 @@ func TestNoPulseOrientation(t *testing.T) {
 	}{
 		{"ludb 21", "3x4", func(t *testing.T) ecg.Record { return realRecordRaw(t, "ludb", "21.hea") }},
 		{"ludb 45", "6x2", func(t *testing.T) ecg.Record { return realRecordRaw(t, "ludb", "45.hea") }},
-		{"synthetic 14", "6x2", func(t *testing.T) ecg.Record {
-			r, err := render.CorpusRecord(14, false)
-			if err != nil {
-				t.Fatal(err)
-			}
-			return r
-		}},
+		{"synthetic 14", "6x2", func(t *testing.T) ecg.Record { return corpusRecord(t, 14) }},
+		{"synthetic 5", "12x1", func(t *testing.T) ecg.Record { return corpusRecord(t, 5) }},
+		{"ludb 24", "12x1", func(t *testing.T) ecg.Record { return realRecordRaw(t, "ludb", "24.hea") }},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
 			page, err := render.Render(tc.rec(t), &render.Options{Layout: tc.layout})
@@ -329,11 +332,13 @@ func TestNoPulseOrientation(t *testing.T) {
 			if res.Layout.Name != tc.layout {
 				t.Errorf("layout %q, want %s", res.Layout.Name, tc.layout)
 			}
+			if g := res.Record.Meta.GainMMPerMV; g != 10 {
+				t.Errorf("gain %g mm/mV, want the assumed 10", g)
+			}
 			sc := trace.SNR(accuracy.PrintedRecord(&page.Truth), res.Record, trace.Lenient)
 			t.Logf("median %.1f dB; %s", sc.Median, fmtLeads(sc.PerLead))
-			// Upside down, every lead reads below 0 dB; the right way up
-			// these pages read 15.8–24.4 dB (the limb leads of the
-			// synthetic page, without pulses for their 0 mV, 12–14 dB).
+			// Upside down or at a wrong gain, every lead reads below
+			// 0 dB; read right, these pages read 14–24 dB.
 			if sc.Median < 10 {
 				t.Errorf("median SNR %.1f dB < 10 dB (traced upside down?)", sc.Median)
 			}
@@ -446,4 +451,14 @@ func TestLimbIdentityFloors(t *testing.T) {
 	} {
 		t.Run(tc.c.Name(), func(t *testing.T) { requireLeadFloors(t, tc.c, tc.floor) })
 	}
+}
+
+// corpusRecord is the synthetic corpus's record of seed (normal heights).
+func corpusRecord(t *testing.T, seed uint64) ecg.Record {
+	t.Helper()
+	r, err := render.CorpusRecord(seed, false)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return r
 }

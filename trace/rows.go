@@ -667,12 +667,26 @@ func commonStart(rows []rowInfo, pxX float64) {
 // bottom rows, without a pulse of their own, were dropped as too close
 // to the pulse rows (overlap 12x1 seed 9: 10 rows, read as a rhythm
 // strip of one lead).
+//
+// A lone pulse among three rows or more whose height is no printed gain
+// (5, 10 or 20 mm/mV within 8 %) is taken back as well: on a page printed
+// without pulses a complex with a flat top read as a 2.4 mm pulse on one
+// row of twelve and the page was traced at 2.4 mm/mV (synthetic record 5,
+// 12 × 1, pulses painted out: −11.3 dB).
 func dropOddPulses(rows []rowInfo) {
 	var hs []float64
 	for _, r := range rows {
 		if r.pulseMM > 0 {
 			hs = append(hs, r.pulseMM)
 		}
+	}
+	if len(hs) == 1 && len(rows) >= 3 && !printedGain(hs[0]) {
+		for i := range rows {
+			if r := &rows[i]; r.pulseMM > 0 {
+				r.hasPulse, r.pulseMM, r.zeroY, r.traceX0 = false, 0, math.NaN(), float64(r.x0)
+			}
+		}
+		return
 	}
 	if len(hs) < 3 {
 		return
@@ -685,4 +699,16 @@ func dropOddPulses(rows []rowInfo) {
 			r.hasPulse, r.pulseMM, r.zeroY, r.traceX0 = false, 0, math.NaN(), float64(r.x0)
 		}
 	}
+}
+
+// printedGain reports whether a pulse h mm tall is 1 mV at one of the
+// printed gains, 5, 10 or 20 mm/mV (standards.md §1.1), within 8 % (the
+// pen's thickness blurs a measured height by a few per cent).
+func printedGain(h float64) bool {
+	for _, g := range []float64{5, 10, 20} {
+		if math.Abs(h-g) <= 0.08*g {
+			return true
+		}
+	}
+	return false
 }
