@@ -19,14 +19,25 @@
 //     line).
 //   - Pulses: a rectangle rising 3–45 mm from the baseline at the row's
 //     left end; its height replaces a default gain (snapped to 5, 10 or 20
-//     mm/mV within 8 %). A page with no pulse on the left but pulses after
-//     a 180° turn is traced turned (paths are returned in the input's
-//     coordinates). The first trace column starts 2 mm after the pulse's
+//     mm/mV within 8 %). A page with pulses on fewer than half of its
+//     rows is tried turned by 180° too, and traced turned (paths are
+//     returned in the input's coordinates) when that finds more than
+//     twice as many. A page without any pulse is turned when its beats
+//     run backwards: the T wave follows the QRS complex, so the trace
+//     strays further from its level after each complex than before it
+//     (beatAsymmetry; the front end's ink balance is fooled by records
+//     whose complexes point down). Without pulses the gain is the
+//     assumed 10 mm/mV: a lone pulse of no printed gain is taken back.
+//     The first trace column starts 2 mm after the pulse's
 //     falling edge unless the printed column separators say otherwise.
 //     Pulses taller than the row pitch (20 mm/mV on 12 × 1) overlap into
-//     two vertical lines down the page; the printed gains 5, 10 and 20
-//     mm/mV are then tested for a full rectangle (both lines and a flat
-//     top) on every row, and the gain that fits the most rows is read.
+//     two vertical lines down the page, a ladder; the printed gains 5, 10
+//     and 20 mm/mV are then tested for a full rectangle (both lines and a
+//     flat top 6 % of the height from where the row's foot says) on every
+//     row, and the gain that fits the most rows, less the rows where the
+//     rectangle should be and is not, is read. Rungs of the ladder that
+//     no row sits on are rows the profile missed, and are read there
+//     (ladderRows).
 //   - Row checks: a row without a pulse must span the pulse rows' stretch,
 //     must leave its line (a trace's complexes; the edge of a photographed
 //     sheet over the desk does not) and must not sit between two rows at
@@ -170,7 +181,12 @@
 // tallest complexes of the top row can run off the sheet, where the
 // front end's paper mask drops them. A row missing at the top or bottom
 // of the page is not detected as missing, except on a stack of 20 mm/mV
-// pulses, which rows continuing its pitch extend (stackRows).
+// pulses, whose ladder gives every row (stackRows, ladderRows). Real
+// records printed without pulses lose rows whose baseline wanders
+// (LUDB, 3 × 4, 6 × 2 and 12 × 1 at 10 mm/mV, pulses painted out: 12 of
+// 87 pages read with the wrong rows), and the two pages of record 35,
+// whose T waves are small, stay upside down where the front end turned
+// them.
 // Pages turned by a quarter turn are not traced (the front end turns them
 // upright). Detail finer than the pen width (high-frequency noise) is not
 // recoverable.
