@@ -346,6 +346,39 @@ func TestNoPulseOrientation(t *testing.T) {
 	}
 }
 
+// TestRealCabrera prints LUDB record 5 (raw units, so that the limb-lead
+// laws hold) in the Cabrera order at 10 mm/mV. Its leads I and aVF are
+// small, and they are what the standard order's residual measures on a
+// Cabrera page: 38.5 µV against Cabrera's 4.6, under the 50 µV the
+// switch to Cabrera needed, so the page was read in the standard order
+// with four limb leads swapped (14.2 dB). A fit five times better than an
+// order off by more than 20 µV now switches too (18.7 dB); the synthetic
+// 3 × 4 pages (192, records 1–6) and 202 other LUDB pages of the 3 × 4
+// family (raw units and header gains) are unchanged.
+func TestRealCabrera(t *testing.T) {
+	if testing.Short() {
+		t.Skip("renders full pages")
+	}
+	r := realRecordRaw(t, "ludb", "5.hea")
+	page, err := render.Render(r, &render.Options{Layout: "cabrera-3x4"})
+	if err != nil {
+		t.Fatalf("render: %v", err)
+	}
+	res, _, err := digitise(page.Image)
+	if res == nil {
+		t.Fatalf("digitise: %v", err)
+	}
+	if res.Layout.Name != "cabrera-3x4" {
+		t.Errorf("layout %q, want cabrera-3x4", res.Layout.Name)
+	}
+	var p accuracy.Page
+	pr, full := accuracy.PrintedRecord(&page.Truth), r
+	accuracy.ScoreSignals(&p, &pr, &full, &res.Record)
+	if p.Swaps != 0 {
+		t.Errorf("%d leads swapped", p.Swaps)
+	}
+}
+
 // TestRealStackedGain prints LUDB records in their raw units 12 × 1 at
 // 20 mm/mV, where the rows are 15 mm apart and the 20 mm calibration
 // pulses stack into a ladder at the rows' left ends, and requires the
