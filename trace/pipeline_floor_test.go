@@ -251,15 +251,7 @@ func TestRealUpsideDownGuess(t *testing.T) {
 	if testing.Short() {
 		t.Skip("renders full pages")
 	}
-	r := realRecordRaw(t, "ludb", "15.hea")
-	page, err := render.Render(r, &render.Options{Layout: "3x4+3", GainMMPerMV: 20})
-	if err != nil {
-		t.Fatalf("render: %v", err)
-	}
-	res, _, err := digitise(page.Image)
-	if res == nil {
-		t.Fatalf("digitise: %v", err)
-	}
+	res, page := printAndRead(t, realRecordRaw(t, "ludb", "15.hea"), &render.Options{Layout: "3x4+3", GainMMPerMV: 20}, nil)
 	if g := res.Record.Meta.GainMMPerMV; g != 20 || res.Layout.Name != "3x4+3" {
 		t.Fatalf("layout %q at %g mm/mV, want 3x4+3 at 20", res.Layout.Name, g)
 	}
@@ -320,15 +312,7 @@ func TestNoPulseOrientation(t *testing.T) {
 		{"ludb 24", "12x1", func(t *testing.T) ecg.Record { return realRecordRaw(t, "ludb", "24.hea") }},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
-			page, err := render.Render(tc.rec(t), &render.Options{Layout: tc.layout})
-			if err != nil {
-				t.Fatalf("render: %v", err)
-			}
-			erasePulses(t, page)
-			res, _, err := digitise(page.Image)
-			if res == nil {
-				t.Fatalf("digitise: %v", err)
-			}
+			res, page := printAndRead(t, tc.rec(t), &render.Options{Layout: tc.layout}, func(p *render.Page) { erasePulses(t, p) })
 			if res.Layout.Name != tc.layout {
 				t.Errorf("layout %q, want %s", res.Layout.Name, tc.layout)
 			}
@@ -360,14 +344,7 @@ func TestRealCabrera(t *testing.T) {
 		t.Skip("renders full pages")
 	}
 	r := realRecordRaw(t, "ludb", "5.hea")
-	page, err := render.Render(r, &render.Options{Layout: "cabrera-3x4"})
-	if err != nil {
-		t.Fatalf("render: %v", err)
-	}
-	res, _, err := digitise(page.Image)
-	if res == nil {
-		t.Fatalf("digitise: %v", err)
-	}
+	res, page := printAndRead(t, r, &render.Options{Layout: "cabrera-3x4"}, nil)
 	if res.Layout.Name != "cabrera-3x4" {
 		t.Errorf("layout %q, want cabrera-3x4", res.Layout.Name)
 	}
@@ -397,15 +374,7 @@ func TestRealStackedGain(t *testing.T) {
 	}
 	for _, file := range []string{"1.hea", "24.hea", "44.hea", "105.hea", "114.hea"} {
 		t.Run(file, func(t *testing.T) {
-			r := realRecordRaw(t, "ludb", file)
-			page, err := render.Render(r, &render.Options{Layout: "12x1", GainMMPerMV: 20})
-			if err != nil {
-				t.Fatalf("render: %v", err)
-			}
-			res, _, err := digitise(page.Image)
-			if res == nil {
-				t.Fatalf("digitise: %v", err)
-			}
+			res, _ := printAndRead(t, realRecordRaw(t, "ludb", file), &render.Options{Layout: "12x1", GainMMPerMV: 20}, nil)
 			if g := res.Record.Meta.GainMMPerMV; g != 20 {
 				t.Errorf("gain %g mm/mV, want 20", g)
 			}
@@ -494,4 +463,22 @@ func corpusRecord(t *testing.T, seed uint64) ecg.Record {
 		t.Fatal(err)
 	}
 	return r
+}
+
+// printAndRead prints r with o, applies edit to the page (nil: none) and
+// digitises it; it fails the test when nothing could be read.
+func printAndRead(t *testing.T, r ecg.Record, o *render.Options, edit func(*render.Page)) (*trace.Result, *render.Page) {
+	t.Helper()
+	page, err := render.Render(r, o)
+	if err != nil {
+		t.Fatalf("render: %v", err)
+	}
+	if edit != nil {
+		edit(page)
+	}
+	res, _, err := digitise(page.Image)
+	if res == nil {
+		t.Fatalf("digitise: %v", err)
+	}
+	return res, page
 }
