@@ -180,14 +180,7 @@ func Extract(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse, opt *Op
 		// pulses disagree with it).
 		if cal.GainMMPerMV.Origin != grid.FromOption && len(hs) > 0 && (cal.GainMMPerMV.Origin == grid.FromDefault || len(hs) >= 2 && math.Abs(hs[len(hs)/2]-g0) > 0.2*g0) {
 			sort.Float64s(hs)
-			g := hs[len(hs)/2]
-			for _, std := range []float64{5, 10, 20} {
-				// Printed gains are 5, 10 or 20 mm/mV (standards.md §1.1);
-				// the pen's thickness blurs the measured height by a few %.
-				if math.Abs(g-std) <= 0.08*std {
-					g = std
-				}
-			}
+			g, _ := snapPrinted(hs[len(hs)/2])
 			if math.Abs(g-g0) > 0.1*g0 {
 				res.Warnings = append(res.Warnings, fmt.Sprintf("gain %.3g mm/mV taken from the calibration pulses (was %.3g, %s)", g, g0, cal.GainMMPerMV.Origin))
 			}

@@ -701,14 +701,22 @@ func dropOddPulses(rows []rowInfo) {
 	}
 }
 
-// printedGain reports whether a pulse h mm tall is 1 mV at one of the
-// printed gains, 5, 10 or 20 mm/mV (standards.md §1.1), within 8 % (the
-// pen's thickness blurs a measured height by a few per cent).
-func printedGain(h float64) bool {
+// snapPrinted returns the printed gain, 5, 10 or 20 mm/mV (standards.md
+// §1.1), that a pulse h mm tall shows within 8 % (the pen's thickness
+// blurs a measured height by a few per cent), and true; h and false when
+// it shows none.
+func snapPrinted(h float64) (float64, bool) {
 	for _, g := range []float64{5, 10, 20} {
 		if math.Abs(h-g) <= 0.08*g {
-			return true
+			return g, true
 		}
 	}
-	return false
+	return h, false
+}
+
+// printedGain reports whether a pulse h mm tall is 1 mV at a printed gain
+// (snapPrinted).
+func printedGain(h float64) bool {
+	_, ok := snapPrinted(h)
+	return ok
 }
