@@ -126,6 +126,9 @@ func Extract(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse, opt *Op
 	ink = dropRuledLines(ink, int(30*pxX))
 	rows := findRows(ink, cal, pulses)
 	turned := false
+	// The page turned by 180° and its rows, when they were looked at.
+	var rot *image.Gray
+	var rotRows []rowInfo
 	if np := countPulses(rows); np == 0 || 2*np < len(rows) {
 		// Calibration pulses at the left of fewer than half of the rows:
 		// the page may be upside down (pulses at the right ends, hanging
@@ -136,12 +139,13 @@ func Extract(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse, opt *Op
 		// 3x4+3 at 20 mm/mV: the front end turned the page over, one
 		// such "pulse" of 4 mm was read at a row's left end, the page was
 		// traced upside down at 4 mm/mV; median −12.7 dB).
-		rot := rotate180(ink)
+		rot = rotate180(ink)
+		rotRows = findRows(rot, cal, nil)
 		// Two pulses at least, or the pulse of a page's only row (a
 		// rhythm strip at 20 mm/mV whose R waves run off the sheet's top
 		// edge looked upside down to the front end: overlap rhythm seeds
 		// 5 and 9).
-		if rr := findRows(rot, cal, nil); len(rr) > 0 && countPulses(rr) >= min(2, len(rr)) && countPulses(rr) > 2*np {
+		if rr := rotRows; len(rr) > 0 && countPulses(rr) >= min(2, len(rr)) && countPulses(rr) > 2*np {
 			ink, rows, turned = rot, rr, true
 			res.Warnings = append(res.Warnings, "the page appears upside down (calibration pulses on the right); traced turned by 180°")
 		}
@@ -149,10 +153,10 @@ func Extract(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse, opt *Op
 	if !turned && len(rows) > 0 && countPulses(rows) == 0 {
 		// No pulse either way up: the beats tell the time's direction
 		// (orient_beats.go). A mean below −asymmetryTurn on this page and
-		// above +asymmetryTurn on the page turned over turns it.
-		if s, nb := beatAsymmetry(ink, rows, cal); nb >= asymmetryMinBeats && s < -asymmetryTurn*float64(nb) {
-			rot := rotate180(ink)
-			if rr := findRows(rot, cal, nil); len(rr) > 0 && countPulses(rr) == 0 {
+		// above +asymmetryTurn on the page turned over (read above: no
+		// pulse on this page means it was) turns it.
+		if s, nb := beatAsymmetry(ink, rows, cal); nb >= asymmetryMinBeats && s < -asymmetryTurn*float64(nb) && rot != nil {
+			if rr := rotRows; len(rr) > 0 && countPulses(rr) == 0 {
 				if s2, nb2 := beatAsymmetry(rot, rr, cal); nb2 >= asymmetryMinBeats && s2 > asymmetryTurn*float64(nb2) {
 					ink, rows, turned = rot, rr, true
 					res.Warnings = append(res.Warnings, fmt.Sprintf("no calibration pulses, and the beats run backwards (the larger wave before each QRS complex, mean asymmetry %.2f): traced turned by 180°", s/float64(nb)))

@@ -149,26 +149,15 @@ func findStackedPulses(ink *image.Gray, rows []rowInfo, cal grid.Calibration, re
 	if best.count < 3 || 4*best.count < 3*(best.count+missedRows(rows, best.tops)) {
 		return rows, false
 	}
+	fallX := stackFall(ink, rows, best.fall, best.tops, pxY)
 	for ri := range rows {
-		r := &rows[ri]
 		if math.IsNaN(best.tops[ri]) {
 			continue
 		}
-		r.hasPulse = true
-		r.zeroY = best.feet[ri]
-		base := best.feet[ri]
-		if math.IsNaN(base) {
-			base = r.baseY
-		}
-		r.pulseMM = (base - best.tops[ri]) / pxY
-		if math.Abs(r.pulseMM-best.hMM) > 0.1*best.hMM {
-			r.pulseMM = best.hMM
-		}
-		r.traceX0 = stackFall(ink, rows, best.fall, best.tops, pxY) + pulseTailMM*pxX
-		r.x0 = min(r.x0, best.rise.x0)
+		best.give(&rows[ri], best.feet[ri], best.tops[ri], fallX, pxX, pxY)
 	}
 	if readAt != nil {
-		rows = ladderRows(ink, rows, best, cal, readAt)
+		rows = ladderRows(ink, rows, best, cal, fallX, readAt)
 	}
 	return rows, true
 }
@@ -180,12 +169,12 @@ func findStackedPulses(ink *image.Gray, rows []rowInfo, cal grid.Calibration, re
 // missed by the ink profile (its line wandering, or its peak pulled
 // into a neighbour's by tall complexes). Such a rung counts when it has
 // a foot beside the falling stroke within a fifth of the pitch of where
-// the pitch puts it, a flat top bestfit's height above that foot, and
-// both strokes covering the height between; readAt then reads the row's
-// stretch at the foot. Rows run top to bottom, and so do the rows
+// the pitch puts it, a flat top best's height above that foot, and both
+// strokes covering the height between (stackRung); readAt then reads the
+// row's stretch at the foot, and the row takes the rung as its pulse. Rows run top to bottom, and so do the rows
 // returned (the new ones carry their pulse; stackRows then drops the
 // profile peaks of tangled complexes near them).
-func ladderRows(ink *image.Gray, rows []rowInfo, best stackFit, cal grid.Calibration, readAt func(y float64) (rowInfo, bool)) []rowInfo {
+func ladderRows(ink *image.Gray, rows []rowInfo, best stackFit, cal grid.Calibration, fallX float64, readAt func(y float64) (rowInfo, bool)) []rowInfo {
 	pxX, pxY := cal.PxPerMMX.V, cal.PxPerMMY.V
 	var feet []float64
 	for ri := range rows {
@@ -212,8 +201,6 @@ func ladderRows(ink *image.Gray, rows []rowInfo, best stackFit, cal grid.Calibra
 	}
 	sort.Float64s(ps)
 	pitch := ps[len(ps)/2]
-	h := best.hMM * pxY
-	tol := math.Max(0.3, 0.06*best.hMM) * pxY
 	taken := func(y float64) bool {
 		for _, r := range rows {
 			f := r.baseY
@@ -226,48 +213,36 @@ func ladderRows(ink *image.Gray, rows []rowInfo, best stackFit, cal grid.Calibra
 		}
 		return false
 	}
-	// rung reads the rung nearest y: its foot and whether it is whole.
+	// rung reads the rung nearest y: its foot, its top and whether it is
+	// whole; a whole rung no row sits on is read as a row.
+	var added []rowInfo
 	rung := func(y float64) (float64, bool) {
 		foot := footAt(ink, best.fall, y, 0.2*pitch, pxX)
-		if math.IsNaN(foot) || foot-h < float64(ink.Rect.Min.Y) {
+		if math.IsNaN(foot) || foot-best.hMM*pxY < float64(ink.Rect.Min.Y) {
 			return 0, false
 		}
-		if colCover(ink, int(best.rise.centre()), int(foot-h+tol), int(foot)) < 0.9 || colCover(ink, int(best.fall.centre()), int(foot-h+tol), int(foot)) < 0.9 {
+		top, covered, ok := stackRung(ink, best.rise, best.fall, foot, best.hMM, stackTol(best.hMM)*pxY, pxY)
+		if !covered || !ok {
 			return 0, false
 		}
-		_, ok := flatTop(ink, best.rise.x1+2, best.fall.x0-2, foot-h, tol)
-		return foot, ok
-	}
-	var added []rowInfo
-	add := func(foot float64) {
-		if taken(foot) {
-			return
+		if !taken(foot) {
+			if r, ok := readAt(foot); ok {
+				best.give(&r, foot, top, fallX, pxX, pxY)
+				// Printed rows are 250 mm wide (standards.md §1.1), as in
+				// findRows.
+				if float64(r.x1)-r.traceX0 > 256*pxX {
+					r.x1 = int(r.traceX0 + 250*pxX)
+				}
+				added = append(added, r)
+			}
 		}
-		r, ok := readAt(foot)
-		if !ok {
-			return
-		}
-		top, _ := flatTop(ink, best.rise.x1+2, best.fall.x0-2, foot-h, tol)
-		r.hasPulse, r.zeroY = true, foot
-		r.pulseMM = (foot - top) / pxY
-		if math.Abs(r.pulseMM-best.hMM) > 0.1*best.hMM {
-			r.pulseMM = best.hMM
-		}
-		r.traceX0 = stackFall(ink, rows, best.fall, best.tops, pxY) + pulseTailMM*pxX
-		r.x0 = min(r.x0, best.rise.x0)
-		// Printed rows are 250 mm wide (standards.md §1.1), as in findRows.
-		if float64(r.x1)-r.traceX0 > 256*pxX {
-			r.x1 = int(r.traceX0 + 250*pxX)
-		}
-		added = append(added, r)
+		return foot, true
 	}
 	// Inside the stack: gaps of two or more pitches between feet.
 	for k := 1; k < len(feet); k++ {
 		m := int(math.Round((feet[k] - feet[k-1]) / pitch))
 		for j := 1; j < m; j++ {
-			if foot, ok := rung(feet[k-1] + float64(j)*(feet[k]-feet[k-1])/float64(m)); ok {
-				add(foot)
-			}
+			rung(feet[k-1] + float64(j)*(feet[k]-feet[k-1])/float64(m))
 		}
 	}
 	// Beyond it, upwards and downwards, while the ladder goes on.
@@ -281,7 +256,6 @@ func ladderRows(ink *image.Gray, rows []rowInfo, best stackFit, cal grid.Calibra
 			if !ok {
 				break
 			}
-			add(foot)
 			edge = foot
 		}
 	}
@@ -340,6 +314,43 @@ func (f stackFit) better(g stackFit) bool {
 	return f.count > g.count
 }
 
+// give makes the rung with foot and top (y, px; foot NaN when not
+// found, the row's baseline standing in) row r's pulse: 0 mV at the foot,
+// the measured height unless it is more than 10 % off the fit's, and the
+// trace starting pulseTailMM after the falling stroke at fallX.
+func (f stackFit) give(r *rowInfo, foot, top, fallX, pxX, pxY float64) {
+	r.hasPulse, r.zeroY = true, foot
+	base := foot
+	if math.IsNaN(base) {
+		base = r.baseY
+	}
+	r.pulseMM = (base - top) / pxY
+	if math.Abs(r.pulseMM-f.hMM) > 0.1*f.hMM {
+		r.pulseMM = f.hMM
+	}
+	r.traceX0 = fallX + pulseTailMM*pxX
+	r.x0 = min(r.x0, f.rise.x0)
+}
+
+// stackTol is how far, mm, a stacked pulse's top may lie from hMM above
+// its foot: 6 % of hMM, at least 0.3 mm (the pen blurs a measured height
+// by a few per cent; 5, 10 and 20 mm/mV, a factor of two apart, stay
+// apart).
+func stackTol(hMM float64) float64 { return math.Max(0.3, 0.06*hMM) }
+
+// stackRung reads the rung of a stack of pulses with strokes rise and
+// fall whose foot is at base (y, px): whether both strokes cover the
+// height from base up to hMM above it (within t px), and the top, the
+// flat line joining them within t px of that height, if there is one.
+func stackRung(ink *image.Gray, rise, fall pulseEdge, base, hMM, t, pxY float64) (top float64, covered, ok bool) {
+	yt := base - hMM*pxY
+	if colCover(ink, int(rise.centre()), int(yt+t), int(base)) < 0.9 || colCover(ink, int(fall.centre()), int(yt+t), int(base)) < 0.9 {
+		return 0, false, false
+	}
+	top, ok = flatTop(ink, rise.x1+2, fall.x0-2, yt, t)
+	return top, true, ok
+}
+
 // stackFeet finds each row's foot: the thin line beside the falling
 // stroke (the pulse's tail, at the row's 0 mV), the centre of the ink
 // run nearest the row's baseline within a quarter of the row pitch
@@ -360,18 +371,16 @@ func stackFeet(ink *image.Gray, rows []rowInfo, fall pulseEdge, pxX, pxY, pitch 
 // fitStack reads the stack of pulses between the strokes rise and fall
 // at a pulse height of hMM: a row whose two strokes cover it from its foot
 // (its baseline where no foot was found) up to hMM above has a top there
-// if a flat line joins the strokes within 6 % of hMM (at least 0.3 mm:
-// the pen blurs a measured height by a few per cent; 5, 10 and 20 mm/mV,
-// a factor of two apart, stay apart) of that height, and
-// is an unexplained miss otherwise. Strokes that run on above the highest
-// top (by more than 2 mm over the next 2 mm) are one unexplained miss
-// more: at a pulse height that is too small, the pulses above the
-// stack's top row are left over. (At a 15 mm pitch every row's 20 mm top
-// lies 5 mm above the next row's foot, so 5 mm/mV fits every row but the
-// bottom one.)
+// if a flat line joins the strokes within stackTol of that height, and
+// is an unexplained miss otherwise (stackRung). Strokes that run on above
+// the highest top (by more than 2 mm over the next 2 mm) are one
+// unexplained miss more: at a pulse height that is too small, the pulses
+// above the stack's top row are left over. (At a 15 mm pitch every row's
+// 20 mm top lies 5 mm above the next row's foot, so 5 mm/mV fits every
+// row but the bottom one.)
 func fitStack(ink *image.Gray, rows []rowInfo, rise, fall pulseEdge, feet []float64, hMM, pxY float64) stackFit {
 	f := stackFit{rise: rise, fall: fall, hMM: hMM, feet: feet, tops: make([]float64, len(rows))}
-	tol := math.Max(0.3, 0.06*hMM) * pxY
+	tol := stackTol(hMM) * pxY
 	highest := math.Inf(1)
 	for ri, r := range rows {
 		f.tops[ri] = math.NaN()
@@ -379,15 +388,13 @@ func fitStack(ink *image.Gray, rows []rowInfo, rise, fall pulseEdge, feet []floa
 		if math.IsNaN(base) {
 			base, t = r.baseY, math.Max(tol, 0.5*pxY)
 		}
-		yt := base - hMM*pxY
-		if colCover(ink, int(rise.centre()), int(yt+t), int(base)) < 0.9 || colCover(ink, int(fall.centre()), int(yt+t), int(base)) < 0.9 {
-			continue
-		}
-		if y, ok := flatTop(ink, rise.x1+2, fall.x0-2, yt, t); ok {
+		y, covered, ok := stackRung(ink, rise, fall, base, hMM, t, pxY)
+		switch {
+		case ok:
 			f.tops[ri] = y
 			f.count++
 			highest = math.Min(highest, y)
-		} else {
+		case covered:
 			f.unexplained++
 		}
 	}
