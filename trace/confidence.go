@@ -85,7 +85,8 @@ func pathSpans(path []Point) (x0 int, spans []colSpan) {
 // given) the other's extent is part of, where the two strokes have merged
 // into one. A column whose run of ink reaches past the panel's search band
 // counts too: the stroke there may be the lead's own, cut at the band, or
-// another row's. spans are the paths' extents (pathSpans).
+// another row's; so does one that ends on the edge where the page cut the
+// traces off (markClipped). spans are the paths' extents (pathSpans).
 func contestedColumns(panels []Panel, gap float64, ink *image.Gray) (x0 []int, spans [][]colSpan, marks [][]bool) {
 	x0, spans, marks = make([]int, len(panels)), make([][]colSpan, len(panels)), make([][]bool, len(panels))
 	runs := make([][]colSpan, len(panels)) // each extent grown to its run of ink
@@ -103,6 +104,7 @@ func contestedColumns(panels []Panel, gap float64, ink *image.Gray) (x0 []int, s
 			}
 		}
 	}
+	markClipped(runs, spans, marks)
 	for i, p := range panels {
 		for k, s := range spans[i] {
 			if math.IsInf(s.lo, 1) || marks[i][k] {
@@ -122,6 +124,71 @@ func contestedColumns(panels []Panel, gap float64, ink *image.Gray) (x0 []int, s
 		}
 	}
 	return x0, spans, marks
+}
+
+// clipMinCols is the number of the paths' columns whose ink ends on one
+// and the same row beyond all other ink of the traces that makes that row
+// the paper's (or the scan's) edge, where the printer cut the strokes off.
+const clipMinCols = 6
+
+// markClipped marks the columns whose run of ink (runs, grown from the
+// paths' extents spans) ends on the edge where the page cut the traces:
+// the topmost (bottommost) row any path's run reaches, when at least
+// clipMinCols columns, in two complexes at least, end exactly there. A
+// complex printed taller than the paper reaches it at every beat and
+// runs flat along it; the samples there are the edge, not the lead.
+func markClipped(runs, spans [][]colSpan, marks [][]bool) {
+	for _, top := range [2]bool{true, false} {
+		edge := math.Inf(1)
+		if !top {
+			edge = math.Inf(-1)
+		}
+		for i := range runs {
+			for k, r := range runs[i] {
+				if math.IsInf(spans[i][k].lo, 1) {
+					continue
+				}
+				if top {
+					edge = math.Min(edge, r.lo)
+				} else {
+					edge = math.Max(edge, r.hi)
+				}
+			}
+		}
+		if math.IsInf(edge, 0) {
+			continue
+		}
+		at := func(i, k int) bool {
+			if math.IsInf(spans[i][k].lo, 1) {
+				return false
+			}
+			if top {
+				return runs[i][k].lo <= edge
+			}
+			return runs[i][k].hi >= edge
+		}
+		n, groups := 0, 0
+		for i := range runs {
+			for k := range runs[i] {
+				if at(i, k) {
+					n++
+					if k == 0 || !at(i, k-1) {
+						groups++
+					}
+				}
+			}
+		}
+		if n < clipMinCols || groups < 2 {
+			continue
+		}
+		for i := range runs {
+			for k := range runs[i] {
+				if at(i, k) {
+					marks[i][k] = true
+				}
+			}
+		}
+	}
 }
 
 // bridgeGapPx is the widest step, px, between consecutive path points

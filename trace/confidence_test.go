@@ -125,3 +125,37 @@ func TestContestedThroughInk(t *testing.T) {
 		t.Errorf("band cut: marks %v", marks[0])
 	}
 }
+
+// TestMarkClipped: complexes printed taller than the paper run flat along
+// its edge at every beat; the columns ending on that row are marked, and
+// a single apex reaching the topmost row once is not an edge.
+func TestMarkClipped(t *testing.T) {
+	const flat = 100.0
+	mk := func(tops map[int]float64) (runs, spans [][]colSpan, marks [][]bool) {
+		r := make([]colSpan, 40)
+		for k := range r {
+			r[k] = colSpan{flat - 2, flat + 2}
+			if y, ok := tops[k]; ok {
+				r[k].lo = y
+			}
+		}
+		return [][]colSpan{r}, [][]colSpan{append([]colSpan(nil), r...)}, [][]bool{make([]bool, len(r))}
+	}
+	// Two beats cut at y = 10, four columns each.
+	runs, spans, marks := mk(map[int]float64{5: 10, 6: 10, 7: 10, 8: 10, 25: 10, 26: 10, 27: 10, 28: 10, 29: 30})
+	markClipped(runs, spans, marks)
+	for k, m := range marks[0] {
+		want := k >= 5 && k <= 8 || k >= 25 && k <= 28
+		if m != want {
+			t.Errorf("column %d marked %v, want %v", k, m, want)
+		}
+	}
+	// One apex at the top, three columns: no edge.
+	runs, spans, marks = mk(map[int]float64{5: 10, 6: 10, 7: 10, 25: 12})
+	markClipped(runs, spans, marks)
+	for k, m := range marks[0] {
+		if m {
+			t.Errorf("column %d marked on a page without an edge", k)
+		}
+	}
+}

@@ -232,7 +232,8 @@ func Extract(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse, opt *Op
 	var cr columnRuns
 	type traced struct {
 		p    Panel
-		vals []float64 // mV on the record grid, NaN outside
+		vals []float64              // mV on the record grid, NaN outside
+		fine map[[2]float64]float64 // the path finder's fine readings (pathResult.fine)
 	}
 	var all []traced
 	// Pass 1: every panel on its own.
@@ -293,7 +294,7 @@ func Extract(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse, opt *Op
 			x0, x1 := int(math.Round(xc)), int(math.Round(xc+w))
 			xc += w
 			bounds := image.Rect(x0, int(r.baseY-up), x1, int(r.baseY+down)).Intersect(ink.Rect)
-			j := panelJob{bounds: bounds, base: base, upLim: upLim, downLim: downLim, maxLen: maxExcursionS * cal.SpeedMMPerS.V * pxX, endLen: endExcursionMM * pxX, penY0: int(r.baseY - penUp), penY1: int(r.baseY + penDown)}
+			j := panelJob{bounds: bounds, base: base, upLim: upLim, downLim: downLim, maxLen: maxExcursionS * cal.SpeedMMPerS.V * pxX, endLen: endExcursionMM * pxX, penY0: int(r.baseY - penUp), penY1: int(r.baseY + penDown), penPx: r.penPx}
 			if !bounds.Empty() {
 				cr.scan(ink, bounds)
 				j.follow(&cr, cal.PxPerMMY.V)
@@ -334,7 +335,7 @@ func Extract(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse, opt *Op
 				}
 				p.Quality = cov / (1 + j.pr.meanJump/cal.PxPerMMY.V)
 			}
-			rowPanels = append(rowPanels, traced{p: p})
+			rowPanels = append(rowPanels, traced{p: p, fine: j.pr.fine})
 		}
 		// 0 mV of the row: the pulse foot, else the isoelectric level.
 		zero := r.zeroY
@@ -364,6 +365,28 @@ func Extract(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse, opt *Op
 			xc += w
 		}
 		all = append(all, rowPanels...)
+	}
+	// Pass 1b: where no other row's stroke comes near, the paths take
+	// their fine reading (follow_fine.go).
+	{
+		ps, fines := make([]Panel, len(all)), make([]map[[2]float64]float64, len(all))
+		for i := range all {
+			ps[i], fines[i] = all[i].p, all[i].fine
+		}
+		for i, ok := range applyFine(ps, fines, ink, pxX, cal.PxPerMMY.V) {
+			tp := &all[i]
+			if !ok || tp.vals == nil {
+				continue
+			}
+			tp.p.Path = ps[i].Path
+			cell := lay.Rows[tp.p.Row].Cells[tp.p.Col]
+			tp.vals = sampleRow(tp.p.Path, tp.p.X0, cell.T0S, cell.T1S, cal, tp.p.ZeroY, o.SampleRate, n)
+			if cell.Negated {
+				for k, v := range tp.vals {
+					tp.vals[k] = -v
+				}
+			}
+		}
 	}
 	build := func(names func(row, col int) (ecg.Lead, bool)) (rec ecg.Record, qual map[ecg.Lead]float64, warn []string) {
 		rec = ecg.Record{Meta: ecg.Metadata{SpeedMMPerS: cal.SpeedMMPerS.V, GainMMPerMV: cal.GainMMPerMV.V}}

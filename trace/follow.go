@@ -18,7 +18,15 @@ const inkThreshold = 96
 type run struct {
 	top, bot int32   // first and last ink row, inclusive
 	w, wy    float32 // sum of ink values and of ink·y, for the sub-pixel centre
+	cut      uint8   // cutTop, cutBot: the ink went on past the band's edge there
 }
+
+// Flags of run.cut: the run's top or bottom is where the scanned band
+// (or a clip) ends, not where the ink does.
+const (
+	cutTop uint8 = 1 << iota
+	cutBot
+)
 
 func (r run) centre() float64 {
 	if r.w <= 0 {
@@ -90,6 +98,9 @@ func (cr *columnRuns) scan(ink *image.Gray, r image.Rectangle) {
 						cr.open[i] = int32(y)
 						cr.openIn[i>>3]++
 						cr.acc[i] = run{top: int32(y)}
+						if y == r.Min.Y {
+							cr.acc[i].cut = cutTop
+						}
 					}
 					a := &cr.acc[i]
 					a.bot = int32(y)
@@ -106,6 +117,7 @@ func (cr *columnRuns) scan(ink *image.Gray, r image.Rectangle) {
 	}
 	for i := 0; i < w; i++ {
 		if cr.open[i] >= 0 {
+			cr.acc[i].cut |= cutBot
 			cr.runs = append(cr.runs, cr.acc[i])
 			cols = append(cols, int32(i))
 		}
@@ -170,6 +182,10 @@ type followParams struct {
 	// penY0 and penY1 bound the rows, px, whose runs give the pen width
 	// (runs cut to [penY0, penY1)); penY1 ≤ penY0: all rows.
 	penY0, penY1 int
+	// pulsePen is the pen's width measured on the row's calibration
+	// pulse, px (0 if unknown): drawn without noise, its flat top is the
+	// pen's own width where the trace's runs are made tall by noise.
+	pulsePen float64
 }
 
 // defaultFollow gives the path finder's parameters. The gap cost is
@@ -323,6 +339,9 @@ type pathResult struct {
 	// runTop and runBot are, per column, the first and last row of the
 	// ink run on the path, px (NaN where the path bridges a gap).
 	runTop, runBot []float32
+	// fine maps each point of points to its fine reading's y (nil when
+	// there is none; follow_fine.go).
+	fine map[[2]float64]float64
 }
 
 // follow finds the globally cheapest path through the runs of cr, column
@@ -451,7 +470,19 @@ func follow(cr *columnRuns, p followParams) pathResult {
 	// and slopes only make runs taller) and the bounds then cut narrow R
 	// peaks by millimetres (a noisy clean page went from 9.8 to 19.6 dB
 	// median SNR with the smaller radius).
-	res.points = pathPoints(cr, states, path, pen, pathPen(cr, states, path), p.pxPerMM, &res)
+	pl := pathPen(cr, states, path)
+	res.points = pathPoints(cr, states, path, pen, pl, 0, p.pxPerMM, &res)
+	if finePen(p.pulsePen, pen, pl, p.pxPerMM) {
+		// The fine reading beside it (follow_fine.go).
+		var tmp pathResult
+		fine := pathPoints(cr, states, path, pen, pl, p.pulsePen, p.pxPerMM, &tmp)
+		if len(fine) == len(res.points) {
+			res.fine = make(map[[2]float64]float64, len(fine))
+			for i, q := range res.points {
+				res.fine[[2]float64{q.X, q.Y}] = fine[i].Y
+			}
+		}
+	}
 	return res
 }
 
@@ -532,8 +563,12 @@ func runHeightQuantile(cr *columnRuns, q float64) float64 {
 // takes U, any other the middle of [L, U].
 //
 // pen is the median run height and penLo the pen's own width from the path
-// (pathPen), px; pxPerMMHint is the vertical scale, px/mm.
-func pathPoints(cr *columnRuns, states []state, path []int32, pen, penLo, pxPerMMHint float64, res *pathResult) []Point {
+// (pathPen), px; pxPerMMHint is the vertical scale, px/mm. With pulsePen >
+// 0 (the pen's width from the row's calibration pulse, px) the reading is
+// the fine one (follow_fine.go): on a noisy trace the radius for the
+// bounds is the pulse's, the runs' edges are interpolated between columns
+// (fracBounds), and a run's end where the band cut it bounds nothing.
+func pathPoints(cr *columnRuns, states []state, path []int32, pen, penLo, pulsePen, pxPerMMHint float64, res *pathResult) []Point {
 	W := len(path)
 	pts := make([]Point, 0, W+W/8)
 	r := math.Max((pen-1)/2, 0)
@@ -552,6 +587,9 @@ func pathPoints(cr *columnRuns, states []state, path []int32, pen, penLo, pxPerM
 	noisy := pen > 0.5*pxPerMMHint
 	if noisy {
 		rb = math.Max((min(math.Max(penLo, 0.65*pen), pen)-1)/2, 0)
+		if pulsePen > 0 {
+			rb = math.Max((min(pulsePen, pen)-1)/2, 0)
+		}
 	}
 	// No printer pen is wider than 2·maxPenRadiusMM; a wider radius comes
 	// from runs made tall by noise or by steep strokes, and its bounds
@@ -577,6 +615,41 @@ func pathPoints(cr *columnRuns, states []state, path []int32, pen, penLo, pxPerM
 		return s.top, s.bot, true
 	}
 	cross := crossings(cr, states, path, thin, pen, 2.5*pxPerMMHint, 2*pxPerMMHint)
+	// edge returns the top and bottom of the path's run at column c, each
+	// with whether it is where the ink ends (not cut by the band).
+	edge := func(c int) (t, b float64, okT, okB bool) {
+		tt, bb, ok := iv(c)
+		if !ok {
+			return 0, 0, false, false
+		}
+		cut := cr.runs[states[path[c]].run].cut
+		return float64(tt), float64(bb), cut&cutTop == 0, cut&cutBot == 0
+	}
+	// fracBounds bounds the centre line at column c by the runs' edges
+	// linearly interpolated between columns, the pen's disk of radius rr
+	// placed at every quarter pixel within its reach: tight on steep
+	// strokes, where the edge at c ± rr is the centre line at c.
+	fracBounds := func(c int, rr float64) (lo, hi float64) {
+		lo, hi = math.Inf(-1), math.Inf(1)
+		for u := -rr; u <= rr+1e-9; u += 0.25 {
+			xf := float64(c) + u
+			c0 := int(math.Floor(xf))
+			f := xf - float64(c0)
+			t0, b0, okT0, okB0 := edge(c0)
+			t1, b1, okT1, okB1 := t0, b0, okT0, okB0
+			if f > 1e-9 {
+				t1, b1, okT1, okB1 = edge(c0 + 1)
+			}
+			d := math.Sqrt(math.Max(rr*rr-u*u, 0))
+			if okT0 && okT1 {
+				lo = math.Max(lo, t0+(t1-t0)*f+d)
+			}
+			if okB0 && okB1 {
+				hi = math.Min(hi, b0+(b1-b0)*f-d)
+			}
+		}
+		return lo, hi
+	}
 	var jumpSum float64
 	var jumpN int
 	// Extent of the previous column's point on the path: the run, or the
@@ -607,10 +680,14 @@ func pathPoints(cr *columnRuns, states []state, path []int32, pen, penLo, pxPerM
 		ru := cr.runs[s.run]
 		x := float64(cr.x0 + c)
 		lo, hi := math.Inf(-1), math.Inf(1)
-		for k := -kr; k <= kr; k++ {
-			if t, b, ok := iv(c + k); ok {
-				lo = math.Max(lo, float64(t)+sk[k+kr])
-				hi = math.Min(hi, float64(b)-sk[k+kr])
+		if pulsePen > 0 {
+			lo, hi = fracBounds(c, rb)
+		} else {
+			for k := -kr; k <= kr; k++ {
+				if t, b, ok := iv(c + k); ok {
+					lo = math.Max(lo, float64(t)+sk[k+kr])
+					hi = math.Min(hi, float64(b)-sk[k+kr])
+				}
 			}
 		}
 		if !math.IsNaN(cross[c]) {
@@ -690,7 +767,15 @@ func pathPoints(cr *columnRuns, states []state, path []int32, pen, penLo, pxPerM
 			pts = append(pts, Point{x, math.Min(hi, bot)})
 		default:
 			if lo <= hi || math.IsInf(lo, 0) || math.IsInf(hi, 0) {
-				if math.IsInf(lo, 0) || math.IsInf(hi, 0) {
+				if pulsePen > 0 && math.IsInf(lo, 0) != math.IsInf(hi, 0) {
+					// One end of the stroke is cut off by the band's edge:
+					// the other end's bound is the estimate.
+					if math.IsInf(lo, 0) {
+						pts = append(pts, Point{x, hi})
+					} else {
+						pts = append(pts, Point{x, lo})
+					}
+				} else if math.IsInf(lo, 0) || math.IsInf(hi, 0) {
 					pts = append(pts, Point{x, float64(ru.top+ru.bot) / 2})
 				} else {
 					pts = append(pts, Point{x, (lo + hi) / 2})

@@ -21,6 +21,7 @@ type panelJob struct {
 	// penY0, penY1: the rows, px, whose runs the pen width is measured on
 	// (penY1 ≤ penY0: the whole band).
 	penY0, penY1 int
+	penPx        float64 // the pen's width from the row's calibration pulse, px (0 if unknown)
 }
 
 // keepRuns keeps a copy of the runs of cr (scanned from the job's band).
@@ -34,7 +35,7 @@ func (j *panelJob) keepRuns(cr *columnRuns) {
 func (j *panelJob) follow(cr *columnRuns, pxY float64) {
 	fp := defaultFollow(pxY, j.base)
 	fp.farUp, fp.farDown = j.upLim, j.downLim
-	fp.penY0, fp.penY1 = j.penY0, j.penY1
+	fp.penY0, fp.penY1, fp.pulsePen = j.penY0, j.penY1, j.penPx
 	j.pr = follow(cr, fp)
 	j.pr.points, j.pr.onInk = dropExcursions(j.pr.points, j.pr.onInk, j.base, j.upLim, j.downLim, j.maxLen, j.endLen)
 }
@@ -350,7 +351,14 @@ func (cr *columnRuns) clip(j panelJob, lo, hi []float64) {
 			}
 			if t != r.top || b != r.bot {
 				f := float32(b-t+1) / float32(r.bot-r.top+1)
-				r = run{top: t, bot: b, w: r.w * f}
+				cut := r.cut
+				if t != r.top {
+					cut |= cutTop
+				}
+				if b != r.bot {
+					cut |= cutBot
+				}
+				r = run{top: t, bot: b, w: r.w * f, cut: cut}
 				r.wy = r.w * float32(t+b) / 2
 			}
 			cr.runs = append(cr.runs, r)

@@ -394,3 +394,60 @@ func TestFollowDeepSThroughNeighbourR(t *testing.T) {
 		}
 	}
 }
+
+// TestFollowFinePenOnNoisyTrace draws a noisy trace (a 500 Hz sample
+// every 0.6 px jittering ±6 px, as 20 µV of noise prints at 20 mm/mV)
+// with a narrow 400 px R wave (σ 3 px), in a 3.5 px pen, at 11.8 px/mm. The runs are all tall
+// with the jitter, and the radius taken from them holds the R wave's apex
+// and flanks low; with the pen's width from a calibration pulse the fine
+// reading keeps them (follow_fine.go).
+func TestFollowFinePenOnNoisyTrace(t *testing.T) {
+	const base, h, xc, sigma = 500.0, 400.0, 100.0, 3.0
+	rng := rand.New(rand.NewPCG(7, 7))
+	m := image.NewGray(image.Rect(0, 0, 200, 600))
+	truth := func(x float64) float64 {
+		d := (x - xc) / sigma
+		return base - h*math.Exp(-d*d/2)
+	}
+	var pts []Point
+	for x := 0.0; x < 200; x += 0.6 {
+		pts = append(pts, Point{x, truth(x) + 12*(rng.Float64()-0.5)})
+	}
+	stroke(m, pts, 1.75)
+	var cr columnRuns
+	cr.scan(m, m.Rect)
+	p := defaultFollow(11.8, base)
+	guarded := follow(&cr, p)
+	p.pulsePen = 4
+	pr := follow(&cr, p)
+	if pr.fine == nil {
+		t.Fatalf("no fine reading (pen median %.0f px)", pr.penPx)
+	}
+	fine := make([]Point, len(pr.points))
+	for i, q := range pr.points {
+		fine[i] = q
+		if y, ok := pr.fine[[2]float64{q.X, q.Y}]; ok {
+			fine[i].Y = y
+		}
+	}
+	// RMS error against the drawn wave over the QRS (the jitter is ±6
+	// px: what is left beyond it is the reading's own).
+	rms := func(pts []Point) float64 {
+		s, n := 0.0, 0
+		for x := xc - 12; x <= xc+12; x++ {
+			if y, ok := yAt(pts, x); ok {
+				s += (y - truth(x)) * (y - truth(x))
+				n++
+			}
+		}
+		return math.Sqrt(s / float64(n))
+	}
+	eg, ef := rms(guarded.points), rms(fine)
+	if ef > 10 || ef > 0.6*eg {
+		t.Errorf("QRS read %.1f px RMS off with the pulse's pen, %.1f px without", ef, eg)
+	}
+	if got := minY(fine, xc-3, xc+3); math.Abs(got-(base-h)) > 8 {
+		t.Errorf("apex at y = %.1f px, drawn at %.0f", got, base-h)
+	}
+	t.Logf("QRS RMS error: guarded %.1f px, fine %.1f px; apex %.1f (drawn %.0f), guarded %.1f", eg, ef, minY(fine, xc-3, xc+3), base-h, minY(guarded.points, xc-3, xc+3))
+}

@@ -17,6 +17,7 @@ type rowInfo struct {
 	traceX0  float64 // left edge of the trace (after the calibration pulse), px
 	hasPulse bool
 	pulseMM  float64   // height of a pulse found here by findPulse, mm (0 if none or from grid)
+	penPx    float64   // the pen's width from the pulse's flat top, px (0 if unknown)
 	score    float64   // coverage of the row's extent by ink near the baseline, 0..1
 	ticks    []float64 // x of tall isolated strokes (column separators), px
 	loose    bool      // found only on the looser reading (gaps up to 12 mm)
@@ -506,6 +507,7 @@ func findPulse(ink *image.Gray, r *rowInfo, cal grid.Calibration) {
 	sort.Float64s(thick)
 	pen := thick[len(thick)/2]
 	r.hasPulse = true
+	r.penPx = pen
 	r.zeroY = foot - (pen-1)/2
 	r.pulseMM = (foot - top - (pen - 1)) / pxY
 	r.traceX0 = float64(cr.x0+fall) - (pen-1)/2 + pulseTailMM*pxX

@@ -9,7 +9,8 @@ import (
 )
 
 // naiveRuns collects the ink runs of ink inside r column by column, top
-// to bottom: the reference for columnRuns.scan's word-at-a-time skipping.
+// to bottom, flagging the ends the rectangle cuts: the reference for
+// columnRuns.scan's word-at-a-time skipping.
 func naiveRuns(ink *image.Gray, r image.Rectangle) [][]run {
 	r = r.Intersect(ink.Rect)
 	out := make([][]run, r.Dx())
@@ -21,6 +22,9 @@ func naiveRuns(ink *image.Gray, r image.Rectangle) [][]run {
 			if v >= inkThreshold {
 				if !open {
 					open, cur = true, run{top: int32(y)}
+					if y == r.Min.Y {
+						cur.cut = cutTop
+					}
 				}
 				cur.bot = int32(y)
 				cur.w += float32(v)
@@ -31,6 +35,7 @@ func naiveRuns(ink *image.Gray, r image.Rectangle) [][]run {
 			}
 		}
 		if open {
+			cur.cut |= cutBot
 			out[x-r.Min.X] = append(out[x-r.Min.X], cur)
 		}
 	}
