@@ -85,26 +85,27 @@ func pathSpans(path []Point) (x0 int, spans []colSpan) {
 // given) the other's extent is part of, where the two strokes have merged
 // into one. A column whose run of ink reaches past the panel's search band
 // counts too: the stroke there may be the lead's own, cut at the band, or
-// another row's; so does one that ends on the edge where the page cut the
-// traces off (markClipped). spans are the paths' extents (pathSpans).
+// another row's; so does one where the page cut the trace off and its
+// complex was extrapolated (Panel.clipped). spans are the paths' extents
+// (pathSpans).
 func contestedColumns(panels []Panel, gap float64, ink *image.Gray) (x0 []int, spans [][]colSpan, marks [][]bool) {
-	x0, spans, marks = make([]int, len(panels)), make([][]colSpan, len(panels)), make([][]bool, len(panels))
-	runs := make([][]colSpan, len(panels)) // each extent grown to its run of ink
+	x0, spans, runs := pathRuns(panels, ink)
+	marks = make([][]bool, len(panels))
 	for i, p := range panels {
-		x0[i], spans[i] = pathSpans(p.Path)
 		marks[i] = make([]bool, len(spans[i]))
-		runs[i] = make([]colSpan, len(spans[i]))
 		for k, s := range spans[i] {
-			runs[i][k] = s
 			if ink != nil && !math.IsInf(s.lo, 1) {
-				runs[i][k] = inkRun(ink, x0[i]+k, s)
 				if b := p.Bounds; !b.Empty() && (runs[i][k].lo < float64(b.Min.Y) || runs[i][k].hi > float64(b.Max.Y-1)) {
 					marks[i][k] = true
 				}
 			}
 		}
+		for _, c := range p.clipped {
+			for x := max(c[0], x0[i]); x <= min(c[1], x0[i]+len(marks[i])-1); x++ {
+				marks[i][x-x0[i]] = true
+			}
+		}
 	}
-	markClipped(runs, spans, marks)
 	for i, p := range panels {
 		for k, s := range spans[i] {
 			if math.IsInf(s.lo, 1) || marks[i][k] {
@@ -131,14 +132,53 @@ func contestedColumns(panels []Panel, gap float64, ink *image.Gray) (x0 []int, s
 // the paper's (or the scan's) edge, where the printer cut the strokes off.
 const clipMinCols = 6
 
-// markClipped marks the columns whose run of ink (runs, grown from the
-// paths' extents spans) ends on the edge where the page cut the traces:
-// the topmost (bottommost) row any path's run reaches, when at least
-// clipMinCols columns, in two complexes at least, end exactly there. A
-// complex printed taller than the paper reaches it at every beat and
-// runs flat along it; the samples there are the edge, not the lead.
-func markClipped(runs, spans [][]colSpan, marks [][]bool) {
+// clipTolPx: a run ending this close to the edge row ends on it (a page
+// straightened from a skewed scan has its edge wander by a pixel).
+const clipTolPx = 1
+
+// clipMinGroups: the edge is reached in this many separate stretches at
+// least: the complexes of every beat, not the apexes of a few that happen
+// to top the page within clipTolPx (synthetic beats repeat to the pixel:
+// at 2 px and three stretches the S waves of a photo's bottom row, which
+// the paper holds, were taken for cut).
+const clipMinGroups = 4
+
+// pathRuns returns, per panel, its path's extent in each column
+// (pathSpans, from x0) and that extent grown to its run of ink (the
+// extent itself where ink is nil or the column has none).
+func pathRuns(panels []Panel, ink *image.Gray) (x0 []int, spans, runs [][]colSpan) {
+	x0, spans, runs = make([]int, len(panels)), make([][]colSpan, len(panels)), make([][]colSpan, len(panels))
+	for i, p := range panels {
+		x0[i], spans[i] = pathSpans(p.Path)
+		runs[i] = make([]colSpan, len(spans[i]))
+		for k, s := range spans[i] {
+			runs[i][k] = s
+			if ink != nil && !math.IsInf(s.lo, 1) {
+				runs[i][k] = inkRun(ink, x0[i]+k, s)
+			}
+		}
+	}
+	return x0, spans, runs
+}
+
+// clippedColumns marks the columns whose run of ink (runs, grown from
+// the paths' extents spans; pathRuns) ends on the edge where the page cut
+// the traces: the topmost (bottommost, in bot) row any path's run
+// reaches, when at least clipMinCols columns, in two complexes at least,
+// end exactly there and ink (when given) has nothing beyond that row over
+// the paths' columns (x0: each path's first column). A complex printed
+// taller than the paper reaches it at every beat and runs flat along it;
+// the samples there are the edge, not the lead.
+func clippedColumns(x0 []int, runs, spans [][]colSpan, ink *image.Gray) (topMarks, botMarks [][]bool) {
+	topMarks, botMarks = make([][]bool, len(runs)), make([][]bool, len(runs))
+	for i := range runs {
+		topMarks[i], botMarks[i] = make([]bool, len(runs[i])), make([]bool, len(runs[i]))
+	}
 	for _, top := range [2]bool{true, false} {
+		marks := topMarks
+		if !top {
+			marks = botMarks
+		}
 		edge := math.Inf(1)
 		if !top {
 			edge = math.Inf(-1)
@@ -163,9 +203,9 @@ func markClipped(runs, spans [][]colSpan, marks [][]bool) {
 				return false
 			}
 			if top {
-				return runs[i][k].lo <= edge
+				return runs[i][k].lo <= edge+clipTolPx
 			}
-			return runs[i][k].hi >= edge
+			return runs[i][k].hi >= edge-clipTolPx
 		}
 		n, groups := 0, 0
 		for i := range runs {
@@ -178,7 +218,7 @@ func markClipped(runs, spans [][]colSpan, marks [][]bool) {
 				}
 			}
 		}
-		if n < clipMinCols || groups < 2 {
+		if n < clipMinCols || groups < clipMinGroups || ink != nil && inkBeyond(ink, x0, runs, edge, top) {
 			continue
 		}
 		for i := range runs {
@@ -189,6 +229,33 @@ func markClipped(runs, spans [][]colSpan, marks [][]bool) {
 			}
 		}
 	}
+	return topMarks, botMarks
+}
+
+// inkBeyond reports whether ink holds any ink above row edge (below it,
+// when !top) over the columns of the paths (x0, runs).
+func inkBeyond(ink *image.Gray, x0 []int, runs [][]colSpan, edge float64, top bool) bool {
+	xa, xb := math.MaxInt, math.MinInt
+	for i := range runs {
+		if len(runs[i]) > 0 {
+			xa, xb = min(xa, x0[i]), max(xb, x0[i]+len(runs[i])-1)
+		}
+	}
+	b := ink.Rect
+	xa, xb = max(xa, b.Min.X), min(xb, b.Max.X-1)
+	y0, y1 := b.Min.Y, int(math.Floor(edge))-1
+	if !top {
+		y0, y1 = int(math.Ceil(edge))+1, b.Max.Y-1
+	}
+	for y := y0; y <= y1; y++ {
+		row := ink.Pix[(y-b.Min.Y)*ink.Stride:]
+		for x := xa; x <= xb; x++ {
+			if row[x-b.Min.X] >= inkThreshold {
+				return true
+			}
+		}
+	}
+	return false
 }
 
 // bridgeGapPx is the widest step, px, between consecutive path points

@@ -2,6 +2,7 @@ package trace
 
 import (
 	"image"
+	"image/color"
 	"math"
 	"testing"
 
@@ -126,12 +127,14 @@ func TestContestedThroughInk(t *testing.T) {
 	}
 }
 
-// TestMarkClipped: complexes printed taller than the paper run flat along
-// its edge at every beat; the columns ending on that row are marked, and
-// a single apex reaching the topmost row once is not an edge.
-func TestMarkClipped(t *testing.T) {
+// TestClippedColumns: complexes printed taller than the paper run flat
+// along its edge at every beat; the columns ending on that row are
+// marked, unless ink lies beyond it (a header above the top row: the row
+// is then an apex, not the page's end), and a single apex reaching the
+// topmost row once is not an edge.
+func TestClippedColumns(t *testing.T) {
 	const flat = 100.0
-	mk := func(tops map[int]float64) (runs, spans [][]colSpan, marks [][]bool) {
+	mk := func(tops map[int]float64) (runs, spans [][]colSpan) {
 		r := make([]colSpan, 40)
 		for k := range r {
 			r[k] = colSpan{flat - 2, flat + 2}
@@ -139,20 +142,31 @@ func TestMarkClipped(t *testing.T) {
 				r[k].lo = y
 			}
 		}
-		return [][]colSpan{r}, [][]colSpan{append([]colSpan(nil), r...)}, [][]bool{make([]bool, len(r))}
+		return [][]colSpan{r}, [][]colSpan{append([]colSpan(nil), r...)}
 	}
-	// Two beats cut at y = 10, four columns each.
-	runs, spans, marks := mk(map[int]float64{5: 10, 6: 10, 7: 10, 8: 10, 25: 10, 26: 10, 27: 10, 28: 10, 29: 30})
-	markClipped(runs, spans, marks)
+	// Four beats cut at y = 10 (one a pixel lower), two columns each.
+	runs, spans := mk(map[int]float64{5: 10, 6: 10, 15: 10, 16: 11, 25: 10, 26: 10, 35: 10, 36: 10, 37: 30})
+	ink := image.NewGray(image.Rect(0, 0, 40, 120))
+	marks, bot := clippedColumns([]int{0}, runs, spans, ink)
 	for k, m := range marks[0] {
-		want := k >= 5 && k <= 8 || k >= 25 && k <= 28
-		if m != want {
+		if want := k%10 >= 5 && k%10 <= 6; m != want {
 			t.Errorf("column %d marked %v, want %v", k, m, want)
 		}
+		if bot[0][k] {
+			t.Errorf("column %d marked at the bottom edge", k)
+		}
 	}
-	// One apex at the top, three columns: no edge.
-	runs, spans, marks = mk(map[int]float64{5: 10, 6: 10, 7: 10, 25: 12})
-	markClipped(runs, spans, marks)
+	// The same with a header's ink above the row.
+	ink.SetGray(12, 3, color.Gray{255})
+	marks, _ = clippedColumns([]int{0}, runs, spans, ink)
+	for k, m := range marks[0] {
+		if m {
+			t.Errorf("column %d marked below a header", k)
+		}
+	}
+	// Three apexes at the top: no edge (clipMinGroups).
+	runs, spans = mk(map[int]float64{5: 10, 6: 10, 7: 10, 15: 10, 25: 10})
+	marks, _ = clippedColumns([]int{0}, runs, spans, nil)
 	for k, m := range marks[0] {
 		if m {
 			t.Errorf("column %d marked on a page without an edge", k)

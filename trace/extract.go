@@ -38,6 +38,10 @@ type Panel struct {
 	// on a page traced turned by 180°), so that Point maps a returned
 	// sample back onto the image.
 	X0, PxPerS, PxPerMV float64
+	// clipped are the column ranges [x0, x1], px, where the trace ran
+	// along the page's edge and its complex was extrapolated past it
+	// (clip.go).
+	clipped [][2]int
 }
 
 // Point is where the panel prints value mv (upright, as the record holds
@@ -373,12 +377,22 @@ func Extract(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse, opt *Op
 		for i := range all {
 			ps[i], fines[i] = all[i].p, all[i].fine
 		}
-		for i, ok := range applyFine(ps, fines, ink, pxX, cal.PxPerMMY.V) {
-			tp := &all[i]
-			if !ok || tp.vals == nil {
+		fine := applyFine(ps, fines, ink, pxX, cal.PxPerMMY.V)
+		// Then complexes cut off at the page's edge are continued past it
+		// (clip.go).
+		clipped, past, nClip := extrapolateClipped(ps, ink)
+		for i := range all {
+			if !fine[i] && !clipped[i] {
 				continue
 			}
-			tp.p.Path = ps[i].Path
+			tp := &all[i]
+			tp.p.Path, tp.p.clipped = ps[i].Path, ps[i].clipped
+			if clipped[i] {
+				res.Warnings = append(res.Warnings, clipWarning(&tp.p, nClip[i], past[i], cal.GainMMPerMV.V*cal.PxPerMMY.V))
+			}
+			if tp.vals == nil {
+				continue
+			}
 			cell := lay.Rows[tp.p.Row].Cells[tp.p.Col]
 			tp.vals = sampleRow(tp.p.Path, tp.p.X0, cell.T0S, cell.T1S, cal, tp.p.ZeroY, o.SampleRate, n)
 			if cell.Negated {

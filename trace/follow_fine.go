@@ -28,7 +28,7 @@ import (
 // for points the untangling did not move.
 //
 // Measured (tracelift eval -n 3 --seed 1, 168 pages, against the guarded
-// reading alone, with markClipped and the slip allowed in
+// reading alone, with clippedColumns and the slip allowed in
 // reReadFromClear's check of the laws): overlap median 14.5 → 14.8 dB,
 // mean 12.5 → 13.8, 65 leads up by 0.5 dB or more and 3 down, most leads
 // of 3 × 4 pages 19 → 25 dB; photo 34 up, none down, leads under 15 dB
