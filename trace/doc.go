@@ -75,7 +75,7 @@
 //     capped at 0.3 mm. On a noisy trace, where even the thinnest runs
 //     are tall, the pen's width is read from the row's calibration pulse
 //     instead, and that fine reading replaces the guarded one wherever no
-//     other row's stroke comes within 1 mm (follow_fine.go). A short stretch of tall runs that contains the
+//     other row's stroke meets the trace (follow_fine.go). A short stretch of tall runs that contains the
 //     trace's line between thin runs and reaches 2 mm past it both ways
 //     is another row's stroke crossing: it is passed at the trace's level.
 //     A flat (thin) run past half-way to a neighbouring baseline costs 0.2

@@ -377,7 +377,7 @@ func Extract(ink *image.Gray, cal grid.Calibration, pulses []grid.Pulse, opt *Op
 		for i := range all {
 			ps[i], fines[i] = all[i].p, all[i].fine
 		}
-		fine := applyFine(ps, fines, ink, pxX, cal.PxPerMMY.V)
+		fine := applyFine(ps, fines, ink, cal.PxPerMMY.V)
 		// Then complexes cut off at the page's edge are continued past it
 		// (clip.go).
 		clipped, past, nClip := extrapolateClipped(ps, ink)

@@ -24,25 +24,24 @@ import (
 // points. So the fine reading is kept beside the guarded one
 // (pathResult.fine, keyed by the guarded point) and replaces it only at
 // the end of the first pass, in the columns where no other row's stroke
-// comes within fineClearMM of the panel's (contestedColumns), and only
-// for points the untangling did not move.
+// meets the panel's (contestedColumns), and only for points the
+// untangling did not move. (Keeping the guarded reading also within 0.25,
+// 0.5, 1 or 2 mm of those columns scored lower on the overlap pages of
+// records 1–3, and 1 mm on those of records 4–9.)
 //
 // Measured (tracelift eval -n 3 --seed 1, 168 pages, against the guarded
-// reading alone, with clippedColumns and the slip allowed in
-// reReadFromClear's check of the laws): overlap median 14.5 → 14.8 dB,
-// mean 12.5 → 13.8, 65 leads up by 0.5 dB or more and 3 down, most leads
-// of 3 × 4 pages 19 → 25 dB; photo 34 up, none down, leads under 15 dB
-// 46 → 23; scan and penmarks up to 2 dB on 55 leads; clean, gray, fax
-// and lowres, whose runs are not made tall by noise, within 0.7 dB. Used
-// only where the runs are noise-tall (median run over 0.5 mm), the
-// path's thinnest runs are at least the pulse's width (grey scans break
-// faint runs into shorter pieces) and the pulse's width is a pen's
-// (0.15–0.6 mm; printer pens are 0.2–0.4 mm: common practice, from
-// memory).
-
-// fineClearMM: columns this close to where another row's stroke meets a
-// panel's keep the guarded reading, mm.
-const fineClearMM = 1.0
+// reading alone, with clip.go and the step allowed in reReadFromClear's
+// check of the laws): overlap median 14.5 → 15.3 dB, mean 12.5 → 14.1,
+// 86 leads up by 0.5 dB or more and 8 down, most leads of 3 × 4 pages
+// 19 → 25 dB; photo 37 up, none down, leads under 15 dB 46 → 22; scan
+// and penmarks 55 up, none down; clean, gray, fax and lowres, whose runs
+// are not made tall by noise, within 0.7 dB. On records 4–9 (126 pages
+// of overlap, photo and scan): overlap median 15.5 → 15.9 dB, mean 14.4
+// → 15.4, scan leads under 15 dB 103 → 76. Used only where the runs are
+// noise-tall (median run over 0.5 mm), the path's thinnest runs are at
+// least the pulse's width (grey scans break faint runs into shorter
+// pieces) and the pulse's width is a pen's (0.15–0.6 mm; printer pens
+// are 0.2–0.4 mm: common practice, from memory).
 
 // finePen reports whether the fine reading applies to a path: the pulse's
 // width pulsePen, px, is a pen's at pxPerMM px/mm, the median run pen is
@@ -52,11 +51,11 @@ func finePen(pulsePen, pen, penLo, pxPerMM float64) bool {
 }
 
 // applyFine replaces, in each panel's path, the points that have a fine
-// reading in fines[i] (nil: none) by it, except within fineClearMM (pxX
-// px/mm) of a column where the panel's stroke meets another row's
-// (contestedColumns with contestGapMM at pxY px/mm). It reports per panel
-// whether its path changed; changed paths are new slices.
-func applyFine(panels []Panel, fines []map[[2]float64]float64, ink *image.Gray, pxX, pxY float64) []bool {
+// reading in fines[i] (nil: none) by it, except in the columns where the
+// panel's stroke meets another row's (contestedColumns with contestGapMM
+// at pxY px/mm). It reports per panel whether its path changed; changed
+// paths are new slices.
+func applyFine(panels []Panel, fines []map[[2]float64]float64, ink *image.Gray, pxY float64) []bool {
 	changed := make([]bool, len(panels))
 	any := false
 	for _, f := range fines {
@@ -66,21 +65,12 @@ func applyFine(panels []Panel, fines []map[[2]float64]float64, ink *image.Gray, 
 		return changed
 	}
 	x0s, _, marks := contestedColumns(panels, contestGapMM*pxY, ink)
-	pad := int(math.Ceil(fineClearMM * pxX))
 	for i := range panels {
 		fine := fines[i]
 		if fine == nil {
 			continue
 		}
-		m := marks[i]
-		near := make([]bool, len(m))
-		for k, v := range m {
-			if v {
-				for d := max(0, k-pad); d <= min(len(m)-1, k+pad); d++ {
-					near[d] = true
-				}
-			}
-		}
+		near := marks[i]
 		var path []Point
 		for k, q := range panels[i].Path {
 			if c := int(math.Round(q.X)) - x0s[i]; c >= 0 && c < len(near) && near[c] {
