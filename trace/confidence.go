@@ -85,12 +85,25 @@ func pathSpans(path []Point) (x0 int, spans []colSpan) {
 // given) the other's extent is part of, where the two strokes have merged
 // into one. A column whose run of ink reaches past the panel's search band
 // counts too: the stroke there may be the lead's own, cut at the band, or
-// another row's; so does one where the page cut the trace off and its
-// complex was extrapolated (Panel.clipped). spans are the paths' extents
-// (pathSpans).
+// another row's; so does one that ends on the edge where the page cut
+// the traces off (clippedColumns), or where the complex cut there was
+// extrapolated (Panel.clipped). spans are the paths' extents (pathSpans).
 func contestedColumns(panels []Panel, gap float64, ink *image.Gray) (x0 []int, spans [][]colSpan, marks [][]bool) {
+	return contestedColumnsClip(panels, gap, ink, true)
+}
+
+// contestedColumnsClip is contestedColumns, the columns that end on the
+// page's edge marked only when clips is true.
+func contestedColumnsClip(panels []Panel, gap float64, ink *image.Gray, clips bool) (x0 []int, spans [][]colSpan, marks [][]bool) {
 	x0, spans, runs := pathRuns(panels, ink)
 	marks = make([][]bool, len(panels))
+	top, bot := clippedColumns(x0, runs, spans, ink)
+	if !clips {
+		top, bot = make([][]bool, len(panels)), make([][]bool, len(panels))
+		for i := range panels {
+			top[i], bot[i] = make([]bool, len(spans[i])), make([]bool, len(spans[i]))
+		}
+	}
 	for i, p := range panels {
 		marks[i] = make([]bool, len(spans[i]))
 		for k, s := range spans[i] {
@@ -99,6 +112,7 @@ func contestedColumns(panels []Panel, gap float64, ink *image.Gray) (x0 []int, s
 					marks[i][k] = true
 				}
 			}
+			marks[i][k] = marks[i][k] || top[i][k] || bot[i][k]
 		}
 		for _, c := range p.clipped {
 			for x := max(c[0], x0[i]); x <= min(c[1], x0[i]+len(marks[i])-1); x++ {

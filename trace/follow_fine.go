@@ -64,7 +64,10 @@ func applyFine(panels []Panel, fines []map[[2]float64]float64, ink *image.Gray, 
 	if !any {
 		return changed
 	}
-	x0s, _, marks := contestedColumns(panels, contestGapMM*pxY, ink)
+	// The columns ending on the page's edge (clippedColumns) keep the
+	// fine reading: the edge cuts the lead's own stroke, which the fine
+	// reading reads best up to it.
+	x0s, _, marks := contestedColumnsClip(panels, contestGapMM*pxY, ink, false)
 	for i := range panels {
 		fine := fines[i]
 		if fine == nil {
