@@ -253,10 +253,10 @@ func guideLimb(ink *image.Gray, cal grid.Calibration, fs float64, panels []*Pane
 	// (the leads that agree best set the scale: several may be off on pages
 	// where complexes cross rows) and more than tol/2; three at most, so
 	// that a pair and one more lead remain to agree on the consensus.
-	var dev [nl]float64
-	var valid []int // leads with a consensus over at least minConsS
-	for l := range nl {
-		consensus(l, 0, false)
+	// departure is lead l's RMS departure from the consensus of the
+	// leads outside excl, and whether that consensus lasts minConsS.
+	departure := func(l int, excl uint) (float64, bool) {
+		consensus(l, excl, false)
 		s, m := 0.0, 0
 		for i := range n {
 			if !math.IsNaN(pred[i]) {
@@ -265,8 +265,16 @@ func guideLimb(ink *image.Gray, cal grid.Calibration, fs float64, panels []*Pane
 				m++
 			}
 		}
-		if float64(m) >= p.minConsS*fs {
-			dev[l] = math.Sqrt(s / float64(m))
+		if float64(m) < p.minConsS*fs {
+			return 0, false
+		}
+		return math.Sqrt(s / float64(m)), true
+	}
+	var dev [nl]float64
+	var valid []int // leads with a consensus over at least minConsS
+	for l := range nl {
+		if d, ok := departure(l, 0); ok {
+			dev[l] = d
 			valid = append(valid, l)
 		}
 	}
@@ -303,17 +311,8 @@ func guideLimb(ink *image.Gray, cal grid.Calibration, fs float64, panels []*Pane
 			if badMask&(1<<l) != 0 {
 				continue
 			}
-			consensus(l, badMask, false)
-			s, m := 0.0, 0
-			for i := range n {
-				if !math.IsNaN(pred[i]) {
-					d := pred[i] - a[l][i]
-					s += d * d
-					m++
-				}
-			}
-			if float64(m) >= p.minConsS*fs {
-				dev2[l] = math.Sqrt(s / float64(m))
+			if d, ok := departure(l, badMask); ok {
+				dev2[l] = d
 				rest = append(rest, l)
 			}
 		}
