@@ -30,12 +30,11 @@ import (
 // records 1–3, and 1 mm on those of records 4–9.)
 //
 // Measured (tracelift eval -n 3 --seed 1, 168 pages, against the guarded
-// reading alone, with clip.go and the step allowed in reReadFromClear's
-// check of the laws): overlap median 14.5 → 15.3 dB, mean 12.5 → 14.1,
-// 86 leads up by 0.5 dB or more and 8 down, most leads of 3 × 4 pages
-// 19 → 25 dB; photo 37 up, none down, leads under 15 dB 46 → 22; scan
-// and penmarks 55 up, none down; clean, gray, fax and lowres, whose runs
-// are not made tall by noise, within 0.7 dB. On records 4–9 (126 pages
+// reading alone, with clip.go): overlap median 14.5 → 15.3 dB, mean
+// 12.5 → 14.1, 86 leads up by 0.5 dB or more and 8 down, most leads of
+// 3 × 4 pages 19 → 25 dB; photo 37 up, none down, leads under 15 dB
+// 46 → 22; scan and penmarks 55 up, none down; clean, gray, fax and
+// lowres, whose runs are not made tall by noise, within 0.7 dB. On records 4–9 (126 pages
 // of overlap, photo and scan): overlap median 15.5 → 15.9 dB, mean 14.4
 // → 15.4, scan leads under 15 dB 103 → 76. Used only where the runs are
 // noise-tall (median run over 0.5 mm), the path's thinnest runs are at
