@@ -302,7 +302,7 @@ func guideLimb(ink *image.Gray, cal grid.Calibration, fs float64, panels []*Pane
 	}
 	// A lead the broken ones hid: with them left out of the consensus,
 	// the next lead may stand out from the rest in turn (overlap 12x1
-	// seed 2: I 14.5 → 15.2 dB; the rest of the 168-page corpus as
+	// seed 2: I 14.8 → 15.4 dB; the rest of the 168-page corpus as
 	// before).
 	if nb := bits.OnesCount(badMask); nb > 0 && nb < 3 && len(valid)-nb > 3 {
 		var rest []int
