@@ -93,16 +93,13 @@ func contestedColumns(panels []Panel, gap float64, ink *image.Gray) (x0 []int, s
 }
 
 // contestedColumnsClip is contestedColumns, the columns that end on the
-// page's edge marked only when clips is true.
+// page's edge (found or extrapolated) marked only when clips is true.
 func contestedColumnsClip(panels []Panel, gap float64, ink *image.Gray, clips bool) (x0 []int, spans [][]colSpan, marks [][]bool) {
 	x0, spans, runs := pathRuns(panels, ink)
 	marks = make([][]bool, len(panels))
-	top, bot := clippedColumns(x0, runs, spans, ink)
-	if !clips {
-		top, bot = make([][]bool, len(panels)), make([][]bool, len(panels))
-		for i := range panels {
-			top[i], bot[i] = make([]bool, len(spans[i])), make([]bool, len(spans[i]))
-		}
+	var top, bot [][]bool
+	if clips {
+		top, bot = clippedColumns(x0, runs, spans, ink)
 	}
 	for i, p := range panels {
 		marks[i] = make([]bool, len(spans[i]))
@@ -112,7 +109,12 @@ func contestedColumnsClip(panels []Panel, gap float64, ink *image.Gray, clips bo
 					marks[i][k] = true
 				}
 			}
-			marks[i][k] = marks[i][k] || top[i][k] || bot[i][k]
+			if clips && (top[i][k] || bot[i][k]) {
+				marks[i][k] = true
+			}
+		}
+		if !clips {
+			continue
 		}
 		for _, c := range p.clipped {
 			for x := max(c[0], x0[i]); x <= min(c[1], x0[i]+len(marks[i])-1); x++ {
